@@ -1,5 +1,19 @@
 package dataset
 
+import (
+	"compress/gzip"
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"hash"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+)
+
 // Dataset is a table of N points with D numeric features, read from a file.
 type Dataset struct {
 	// Source is the file the data came from.
@@ -16,6 +30,218 @@ type Dataset struct {
 	// Labels has one label per point, or is nil when no label column was given.
 	Labels []string
 	// Fingerprint is a hex SHA-256 of N, D, the feature bits (after any
-	// standardisation or PCA), the ids and the labels.
+	// standardisation or PCA), the ids and the labels. See Fingerprint for
+	// the exact byte layout.
 	Fingerprint string
+
+	// SourceHash is the hex SHA-256 of the raw bytes of the file as stored
+	// on disk (before any decompression).
+	SourceHash string
+	// Format is the format the file was read as: "csv", "tsv", "parquet"
+	// or "arrow".
+	Format string
+	// Warnings lists things that were accepted but deserve a look, one
+	// line each, such as constant feature columns.
+	Warnings []string
+	// Standardized reports whether the features were z-scored (Options.Standardize).
+	Standardized bool
+	// VarianceRatio has, after PCA, the fraction of the total variance of
+	// the (possibly standardised) features explained by each kept
+	// component, s_k² / Σ_j s_j², where s are the singular values of the
+	// centred data matrix. It is nil when PCA was not asked for.
+	VarianceRatio []float64
+}
+
+// Options selects and prepares the columns of the input table.
+type Options struct {
+	// IDColumn names the column holding point ids (text or integer; every id
+	// must be unique and non-empty). If empty, ids are the 0-based row
+	// numbers.
+	IDColumn string
+	// LabelColumn names a column of any type whose values are kept, as
+	// text, in Dataset.Labels. If empty, there are no labels.
+	LabelColumn string
+	// Columns lists the feature columns, in the order wanted. If empty,
+	// every column except the id and label columns is a feature.
+	Columns []string
+	// Standardize z-scores each feature column (see Standardize).
+	Standardize bool
+	// PCA, if positive, replaces the features by their first PCA principal
+	// component scores (see PCA). If 0, no projection is made.
+	PCA int
+	// Format is "csv", "tsv", "parquet" or "arrow" ("feather" and "ipc"
+	// are taken as "arrow"). If empty, the format follows the file's
+	// extension: .csv, .tsv/.tab, .txt (tab-separated when the first line
+	// has a tab, comma-separated otherwise), each optionally followed by
+	// .gz; .parquet/.pq; .arrow/.feather/.ipc/.arrows.
+	Format string
+}
+
+// Read reads a table from path and returns its features, ids and labels,
+// after standardisation and PCA when opt asks for them (standardisation
+// first).
+//
+// CSV and TSV files need a header row naming the columns. Fields may be
+// quoted as in RFC 4180 (encoding/csv); a leading UTF-8 byte order mark is
+// dropped, CRLF line ends are accepted and blank lines are skipped. Feature
+// cells must be finite decimal numbers (surrounding spaces are ignored);
+// empty cells, NaN and ±Inf in any spelling ("nan", "inf", "Infinity"), and
+// numbers beyond the float64 range are refused.
+//
+// Parquet and Arrow IPC (file or stream) feature columns must be integer
+// or floating-point of any width, without nulls, NaN or ±Inf.
+//
+// Every problem with the data is returned as an *InputError. Its Row is,
+// for CSV and TSV, the 1-based physical line number in the file (the
+// header is line 1, blank lines and line breaks inside quoted fields
+// count), and for Parquet and Arrow the 1-based data row. Column is the
+// 1-based position of the column in the file.
+//
+// Constant feature columns are accepted and reported in Dataset.Warnings.
+// Identical rows are accepted (t-SNE handles duplicate points).
+func Read(path string, opt Options) (*Dataset, error) {
+	format, gz, err := detectFormat(path, opt.Format)
+	if err != nil {
+		return nil, err
+	}
+	if opt.PCA < 0 {
+		return nil, &InputError{File: path, Msg: fmt.Sprintf("PCA components must be 0 (off) or positive, got %d", opt.PCA)}
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, &InputError{File: path, Msg: openMessage(err), Err: err}
+	}
+	defer f.Close()
+	h := sha256.New()
+	var ds *Dataset
+	switch format {
+	case "parquet", "arrow":
+		if gz {
+			return nil, &InputError{File: path, Msg: "compressed (.gz) Parquet or Arrow files are not supported; use the format's own compression"}
+		}
+		ds, err = readColumnar(f, path, format, opt)
+		if err == nil {
+			if _, err2 := f.Seek(0, io.SeekStart); err2 != nil {
+				return nil, fmt.Errorf("dataset: %s: %w", path, err2)
+			}
+			if _, err2 := io.Copy(h, f); err2 != nil {
+				return nil, &InputError{File: path, Msg: "read error: " + err2.Error(), Err: err2}
+			}
+		}
+	default:
+		ds, err = readText(f, h, path, format, gz, opt)
+	}
+	if err != nil {
+		return nil, err
+	}
+	ds.SourceHash = hex.EncodeToString(h.Sum(nil))
+	ds.Format = format
+	if err := ds.prepare(opt); err != nil {
+		return nil, err
+	}
+	return ds, nil
+}
+
+func openMessage(err error) string {
+	switch {
+	case errors.Is(err, os.ErrNotExist):
+		return "no such file"
+	case errors.Is(err, os.ErrPermission):
+		return "permission denied"
+	}
+	var pe *os.PathError
+	if errors.As(err, &pe) {
+		return "cannot open: " + pe.Err.Error()
+	}
+	return "cannot open: " + err.Error()
+}
+
+// readText reads a CSV or TSV file, gzip-compressed when gz is set, hashing
+// the raw bytes into h.
+func readText(f *os.File, h hash.Hash, path, format string, gz bool, opt Options) (*Dataset, error) {
+	if st, err := f.Stat(); err == nil && st.IsDir() {
+		return nil, &InputError{File: path, Msg: "is a directory, not a file"}
+	}
+	var r io.Reader = io.TeeReader(f, h)
+	if gz {
+		zr, err := gzip.NewReader(r)
+		if err != nil {
+			if errors.Is(err, io.EOF) {
+				return nil, &InputError{File: path, Msg: "empty file (no header row)"}
+			}
+			return nil, &InputError{File: path, Msg: "not a valid gzip file: " + err.Error(), Err: err}
+		}
+		defer zr.Close()
+		r = zr
+	}
+	ds, err := readDelimited(r, path, format, opt)
+	if err != nil {
+		return nil, err
+	}
+	// Hash whatever the parser did not need to read (e.g. gzip trailer).
+	if _, err := io.Copy(io.Discard, io.TeeReader(f, h)); err != nil {
+		return nil, &InputError{File: path, Msg: "read error: " + err.Error(), Err: err}
+	}
+	return ds, nil
+}
+
+// detectFormat returns the canonical format name for path, and whether the
+// file is gzip-compressed.
+func detectFormat(path, format string) (string, bool, error) {
+	lower := strings.ToLower(path)
+	gz := strings.HasSuffix(lower, ".gz")
+	if gz {
+		lower = strings.TrimSuffix(lower, ".gz")
+	}
+	if format != "" {
+		switch f := strings.ToLower(format); f {
+		case "csv", "tsv", "parquet":
+			return f, gz, nil
+		case "arrow", "feather", "ipc":
+			return "arrow", gz, nil
+		default:
+			return "", false, &InputError{File: path, Msg: fmt.Sprintf("unknown format %q (want csv, tsv, parquet or arrow)", format)}
+		}
+	}
+	switch ext := filepath.Ext(lower); ext {
+	case ".csv":
+		return "csv", gz, nil
+	case ".tsv", ".tab":
+		return "tsv", gz, nil
+	case ".txt":
+		return "txt", gz, nil
+	case ".parquet", ".pq":
+		return "parquet", gz, nil
+	case ".arrow", ".feather", ".ipc", ".arrows":
+		return "arrow", gz, nil
+	default:
+		if ext == "" {
+			ext = "(none)"
+		}
+		return "", false, &InputError{File: path, Msg: fmt.Sprintf("cannot tell the format from the extension %s; name the format (csv, tsv, parquet or arrow)", ext)}
+	}
+}
+
+// CheckPerplexity returns an error when the data set has too few points for
+// the perplexity: the perplexity calibration uses k = ⌊3·perplexity⌋
+// neighbours per point, so t-SNE needs
+//
+//	n − 1 ≥ 3·perplexity,
+//
+// that is, perplexity ≤ (n − 1)/3: every point needs ⌊3·perplexity⌋ other
+// points as neighbours (van der Maaten 2014 uses k = ⌊3u⌋ neighbours for
+// perplexity u). Perplexity must also be positive and finite. The message
+// names n and the largest perplexity allowed, rounded down to 2 decimals.
+func (d *Dataset) CheckPerplexity(perplexity float64) error {
+	if !(perplexity > 0) || perplexity > 1e300 {
+		return &InputError{File: d.Source, Msg: fmt.Sprintf("perplexity must be a positive number, got %g", perplexity)}
+	}
+	if d.N < 2 {
+		return &InputError{File: d.Source, Msg: fmt.Sprintf("%d point(s) is too few for t-SNE: at least 2 are needed, and n − 1 ≥ 3·perplexity", d.N)}
+	}
+	if float64(d.N-1) < 3*perplexity {
+		return &InputError{File: d.Source, Msg: fmt.Sprintf("%d points are too few for perplexity %g: t-SNE needs n − 1 ≥ 3·perplexity, so the largest perplexity allowed is %g",
+			d.N, perplexity, math.Floor(float64(d.N-1)/3*100)/100)}
+	}
+	return nil
 }

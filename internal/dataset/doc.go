@@ -1,0 +1,35 @@
+// Package dataset reads the input table of a t-SNE study: numeric feature
+// columns, an optional id column and an optional label column, from CSV,
+// TSV (optionally gzip-compressed), Parquet or Arrow IPC files. It refuses
+// bad input with one-line errors that name the file, the row and the
+// column (*InputError), warns about constant columns, and optionally
+// standardises the features (z-scores with the population standard
+// deviation) and projects them onto their first principal components
+// (thin SVD of the centred data). A Fingerprint (SHA-256 of the sizes,
+// feature bits, ids and labels) identifies the prepared data so that a
+// study can tell whether it was made from the same input; it does not
+// depend on the file format.
+//
+// Row numbers in errors are 1-based physical line numbers for CSV and TSV
+// (the header is line 1) and 1-based data rows for Parquet and Arrow.
+//
+// References:
+//
+//   - Y. Shafranovich, "Common Format and MIME Type for Comma-Separated
+//     Values (CSV) Files", RFC 4180, IETF, 2005.
+//   - Apache Parquet format specification, https://parquet.apache.org/docs/
+//     (read with github.com/apache/arrow-go/v18/parquet/pqarrow).
+//   - Apache Arrow columnar format and IPC (file and stream) specification,
+//     https://arrow.apache.org/docs/format/Columnar.html.
+//   - I. T. Jolliffe, Principal Component Analysis, 2nd ed., Springer, 2002
+//     (PCA via the singular value decomposition of the centred data).
+//   - G. H. Golub and C. F. Van Loan, Matrix Computations, 4th ed., Johns
+//     Hopkins University Press, 2013 (why the SVD of X rather than the
+//     eigen-decomposition of XᵀX: the latter squares the condition number).
+//   - L. J. P. van der Maaten, "Accelerating t-SNE using Tree-Based
+//     Algorithms", JMLR 15, 2014 (k = ⌊3·perplexity⌋ neighbours, hence
+//     n − 1 ≥ 3·perplexity).
+//   - F. J. Damerau, "A technique for computer detection and correction of
+//     spelling errors", CACM 7(3), 1964 (the edit distance used to suggest
+//     a column name).
+package dataset
