@@ -1,0 +1,557 @@
+package tsne
+
+import (
+	"math"
+	"runtime"
+
+	"gonum.org/v1/gonum/dsp/fourier"
+)
+
+// FFT computes the t-SNE gradient with FFT-accelerated interpolation
+// (Linderman et al. 2019). Attraction is summed exactly over the stored
+// entries of P; repulsion and the normalisation Z come from four potentials
+// of the kernel K(y, y') = (1 + ‖y − y'‖²)⁻²,
+//
+//	φ_c(y_i) = Σ_j K(y_i, y_j) q_c(y_j),   q = [1, x, y, x² + y²],
+//
+// so that
+//
+//	Σ_j K_ij (y_i − y_j)    = y_i φ_1 − (φ_x, φ_y)
+//	Z = Σ_{i≠j} (1 + d_ij²)⁻¹ = Σ_i [(1 + ‖y_i‖²) φ_1 − 2 y_i·(φ_x, φ_y) + φ_{x²+y²}] − N
+//
+// because (1 + d²)·(1 + d²)⁻² = (1 + d²)⁻¹. The potentials are computed by
+// spreading the charges onto an equispaced grid (the layout's bounding
+// square split into B×B intervals, 3 Lagrange nodes per interval, node
+// spacing h = side/(3B)), convolving with the kernel sampled on the grid by
+// a zero-padded 2-D FFT of size 6B×6B (gonum dsp/fourier), and gathering the
+// potentials back with the same Lagrange weights. B is the smallest
+// 5-smooth integer (so the FFT length 6B factors into 2, 3 and 5) not below
+// max(MinIntervals, IntervalsPerUnit · side).
+//
+// Cost per evaluation: O(N + |P| + B² log B). Memory: O(N + B²); nothing
+// is N×N. Everything is float64: the grid is O(B²) whatever N is, the
+// per-point workspace is nine numbers, and gonum's FFT works in complex128,
+// so float32 would save little and cost accuracy.
+//
+// The evaluation is parallel over fixed tasks (blocks of 4096 points, grid
+// rows, columns) with sums reduced in task order, so results are
+// bit-identical for any thread count. Workspaces grow and are reused: after
+// the first call, further calls at the same N with a grid no larger than
+// any seen before allocate nothing. A larger grid or N reallocates once.
+//
+// Duplicate points are fine (the kernel is 1 at distance 0). An FFT is not
+// safe for concurrent use.
+//
+// References:
+//
+//	G. C. Linderman, M. Rachh, J. G. Hoskins, S. Steinerberger, Y. Kluger,
+//	"Fast interpolation-based t-SNE for improved visualization of single-cell
+//	RNA-seq data", Nature Methods 16, 243–245, 2019.
+//	L. van der Maaten, G. Hinton, "Visualizing Data using t-SNE", JMLR 9, 2008.
+type FFT struct {
+	// MinIntervals is the least number of interpolation intervals per
+	// dimension. If it is 0, 50 is used (Linderman et al. 2019).
+	MinIntervals int
+	// IntervalsPerUnit is the number of intervals per unit of layout extent.
+	// If it is 0, 1 is used (Linderman et al. 2019).
+	IntervalsPerUnit float64
+
+	threads int
+	pool    *fftPool
+	s       fftState
+}
+
+var _ Gradient = (*FFT)(nil)
+
+// NewFFT returns an FFT gradient that uses the given number of threads
+// (0 means runtime.GOMAXPROCS(0)).
+func NewFFT(threads int) *FFT {
+	if threads <= 0 {
+		threads = runtime.GOMAXPROCS(0)
+	}
+	g := &FFT{threads: threads}
+	g.pool = newFFTPool(g, threads)
+	g.s.init(threads)
+	return g
+}
+
+const (
+	fftNodes     = 3    // Lagrange nodes per interval
+	fftPointTask = 4096 // points per task
+)
+
+// fftState holds every workspace of an FFT evaluation.
+type fftState struct {
+	// Inputs of the current call.
+	y     []float64
+	p     *Sparse
+	exag  float64
+	n     int
+	dst   []float64
+	zPart []float64 // per point task: partial sums for Z
+	// Bounding square.
+	x0, y0, h float64 // origin and interval width
+	nb        int     // intervals per dimension
+	m         int     // grid nodes per dimension (3·nb)
+	l         int     // padded FFT length (2m)
+	hl        int     // l/2 + 1
+	// Per point.
+	box   []int32   // interval index by·nb + bx
+	wts   []float64 // 6 per point: wx0..2, wy0..2
+	order []int32   // points sorted by box (stable)
+	start []int32   // nb² + 1 box starts into order
+	rep   []float64 // 2 per point: y_i φ_1 − (φ_x, φ_y)
+	// Grid.
+	charge [4][]float64    // m×m per channel, row = y node
+	pot    [4][]float64    // m×m per channel
+	spec   [4][]complex128 // hl×l per channel, column-major (kx·l + ky)
+	khat   []complex128    // hl×l
+	// Per worker.
+	work []fftWorker
+	// Stored task functions (method values allocate when created).
+	fnBounds, fnPrep, fnSpread, fnRows, fnKCols, fnCols, fnInv, fnGather, fnFinish func(w, t int)
+	mins                                                                           []float64 // 4 per point task
+	zinv                                                                           float64
+	kloc                                                                           [81]float64 // kernel between the 9 nodes of one interval (a = 3·row + column)
+}
+
+type fftWorker struct {
+	rfft *fourier.FFT
+	cfft *fourier.CmplxFFT
+	real []float64
+	half []complex128
+	l    int
+}
+
+func (s *fftState) init(threads int) {
+	s.work = make([]fftWorker, threads)
+	s.fnBounds = s.taskBounds
+	s.fnPrep = s.taskPrep
+	s.fnSpread = s.taskSpread
+	s.fnRows = s.taskRows
+	s.fnKCols = s.taskKernelCols
+	s.fnCols = s.taskCols
+	s.fnInv = s.taskInvRows
+	s.fnGather = s.taskGather
+	s.fnFinish = s.taskFinish
+}
+
+func fftGrowF(b []float64, n int) []float64 {
+	if cap(b) < n {
+		return make([]float64, n)
+	}
+	return b[:n]
+}
+
+func fftGrowI(b []int32, n int) []int32 {
+	if cap(b) < n {
+		return make([]int32, n)
+	}
+	return b[:n]
+}
+
+func fftGrowC(b []complex128, n int) []complex128 {
+	if cap(b) < n {
+		return make([]complex128, n)
+	}
+	return b[:n]
+}
+
+// fftSmooth returns the smallest integer ≥ n whose only prime factors are
+// 2, 3 and 5.
+func fftSmooth(n int) int {
+	if n < 1 {
+		n = 1
+	}
+	for ; ; n++ {
+		k := n
+		for _, p := range [3]int{2, 3, 5} {
+			for k%p == 0 {
+				k /= p
+			}
+		}
+		if k == 1 {
+			return n
+		}
+	}
+}
+
+// Gradient implements Gradient. See the type's documentation.
+func (g *FFT) Gradient(dst, y []float64, p *Sparse, exaggeration float64) ([]float64, float64) {
+	n := len(y) / 2
+	if len(y) != 2*n || p == nil || p.N != n {
+		panic("tsne: layout and P sizes differ")
+	}
+	if dst == nil {
+		dst = make([]float64, 2*n)
+	} else if len(dst) != 2*n {
+		panic("tsne: destination length mismatch")
+	}
+	if n == 0 {
+		return dst, 0
+	}
+	s := &g.s
+	s.y, s.p, s.exag, s.n, s.dst = y, p, exaggeration, n, dst
+	ntask := (n + fftPointTask - 1) / fftPointTask
+	s.mins = fftGrowF(s.mins, 4*ntask)
+	s.zPart = fftGrowF(s.zPart, ntask)
+
+	// Bounding box.
+	g.pool.run(ntask, s.fnBounds)
+	xmin, xmax, ymin, ymax := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
+	for t := 0; t < ntask; t++ {
+		xmin = math.Min(xmin, s.mins[4*t])
+		xmax = math.Max(xmax, s.mins[4*t+1])
+		ymin = math.Min(ymin, s.mins[4*t+2])
+		ymax = math.Max(ymax, s.mins[4*t+3])
+	}
+	side := math.Max(xmax-xmin, ymax-ymin)
+	if !(side > 1e-12) {
+		side = 1e-12 // all points coincide (or NaN): any grid will do
+	}
+	minB, perUnit := g.MinIntervals, g.IntervalsPerUnit
+	if minB <= 0 {
+		minB = 50
+	}
+	if perUnit <= 0 {
+		perUnit = 1
+	}
+	nb := minB
+	if want := math.Ceil(side * perUnit); want > float64(nb) && want < 1e5 {
+		nb = int(want)
+	}
+	nb = fftSmooth(nb)
+	s.setGrid(nb)
+	s.x0, s.y0, s.h = xmin, ymin, side/float64(nb)
+	s.setLocal()
+
+	// Per-point interval and Lagrange weights; counting sort by interval.
+	s.box = fftGrowI(s.box, n)
+	s.wts = fftGrowF(s.wts, 6*n)
+	s.order = fftGrowI(s.order, n)
+	s.rep = fftGrowF(s.rep, 2*n)
+	g.pool.run(ntask, s.fnPrep)
+	nbox := nb * nb
+	s.start = fftGrowI(s.start, nbox+1)
+	clear(s.start)
+	for _, b := range s.box {
+		s.start[b+1]++
+	}
+	for b := 0; b < nbox; b++ {
+		s.start[b+1] += s.start[b]
+	}
+	// Place points; start[b] is used as a cursor and restored after.
+	for i, b := range s.box {
+		s.order[s.start[b]] = int32(i)
+		s.start[b]++
+	}
+	for b := nbox; b > 0; b-- {
+		s.start[b] = s.start[b-1]
+	}
+	s.start[0] = 0
+
+	// Spread, convolve, gather.
+	g.pool.run(nb, s.fnSpread)
+	g.pool.run(s.l+4*s.m, s.fnRows)
+	g.pool.run(s.hl, s.fnKCols)
+	g.pool.run(4*s.hl, s.fnCols)
+	g.pool.run(4*s.m, s.fnInv)
+	g.pool.run(ntask, s.fnGather)
+	var z float64
+	for t := 0; t < ntask; t++ {
+		z += s.zPart[t]
+	}
+	if !(z > math.SmallestNonzeroFloat64) {
+		z = math.SmallestNonzeroFloat64
+	}
+	s.zinv = 1 / z
+	g.pool.run(ntask, s.fnFinish)
+	s.y, s.p, s.dst = nil, nil, nil
+	return dst, z
+}
+
+// setGrid sizes the grid workspaces for nb intervals per dimension.
+func (s *fftState) setGrid(nb int) {
+	if nb == s.nb {
+		return
+	}
+	s.nb = nb
+	s.m = fftNodes * nb
+	s.l = 2 * s.m
+	s.hl = s.l/2 + 1
+	for c := 0; c < 4; c++ {
+		s.charge[c] = fftGrowF(s.charge[c], s.m*s.m)
+		s.pot[c] = fftGrowF(s.pot[c], s.m*s.m)
+		s.spec[c] = fftGrowC(s.spec[c], s.hl*s.l)
+	}
+	s.khat = fftGrowC(s.khat, s.hl*s.l)
+	for w := range s.work {
+		wk := &s.work[w]
+		if wk.rfft == nil {
+			wk.rfft = fourier.NewFFT(s.l)
+			wk.cfft = fourier.NewCmplxFFT(s.l)
+		} else {
+			wk.rfft.Reset(s.l)
+			wk.cfft.Reset(s.l)
+		}
+		wk.real = fftGrowF(wk.real, s.l)
+		wk.half = fftGrowC(wk.half, s.hl)
+	}
+}
+
+// setLocal fills kloc, the kernel between the nodes of one interval
+// (node a = 3·row + column).
+func (s *fftState) setLocal() {
+	h := s.h / fftNodes
+	for a := 0; a < 9; a++ {
+		for b := 0; b < 9; b++ {
+			dx := float64(a%3-b%3) * h
+			dy := float64(a/3-b/3) * h
+			d := 1 + dx*dx + dy*dy
+			s.kloc[9*a+b] = 1 / (d * d)
+		}
+	}
+}
+
+func (s *fftState) taskRange(t int) (int, int) {
+	lo := t * fftPointTask
+	return lo, min(lo+fftPointTask, s.n)
+}
+
+func (s *fftState) taskBounds(_, t int) {
+	lo, hi := s.taskRange(t)
+	xmin, xmax, ymin, ymax := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
+	for i := lo; i < hi; i++ {
+		x, y := s.y[2*i], s.y[2*i+1]
+		xmin = math.Min(xmin, x)
+		xmax = math.Max(xmax, x)
+		ymin = math.Min(ymin, y)
+		ymax = math.Max(ymax, y)
+	}
+	s.mins[4*t], s.mins[4*t+1], s.mins[4*t+2], s.mins[4*t+3] = xmin, xmax, ymin, ymax
+}
+
+// fftLagrange3 returns the quadratic Lagrange weights of the nodes at
+// fractions 1/6, 1/2 and 5/6 of an interval for a point at fraction u.
+func fftLagrange3(u float64) (w0, w1, w2 float64) {
+	const t0, t1, t2 = 1.0 / 6, 0.5, 5.0 / 6
+	// Denominators: (t0−t1)(t0−t2) = 2/9, (t1−t0)(t1−t2) = −1/9, (t2−t0)(t2−t1) = 2/9.
+	a, b, c := u-t0, u-t1, u-t2
+	return b * c * 4.5, -a * c * 9, a * b * 4.5
+}
+
+func (s *fftState) taskPrep(_, t int) {
+	lo, hi := s.taskRange(t)
+	nb := s.nb
+	inv := 1 / s.h
+	for i := lo; i < hi; i++ {
+		fx := (s.y[2*i] - s.x0) * inv
+		fy := (s.y[2*i+1] - s.y0) * inv
+		bx, by := int(fx), int(fy)
+		if bx >= nb {
+			bx = nb - 1
+		}
+		if by >= nb {
+			by = nb - 1
+		}
+		if bx < 0 {
+			bx = 0
+		}
+		if by < 0 {
+			by = 0
+		}
+		s.box[i] = int32(by*nb + bx)
+		w := s.wts[6*i : 6*i+6 : 6*i+6]
+		w[0], w[1], w[2] = fftLagrange3(fx - float64(bx))
+		w[3], w[4], w[5] = fftLagrange3(fy - float64(by))
+	}
+}
+
+// taskSpread spreads the charges of the points in interval row t onto the
+// three grid rows of that interval row. Points are visited in index order
+// within each interval, so the sums do not depend on scheduling.
+func (s *fftState) taskSpread(_, t int) {
+	m, nb := s.m, s.nb
+	for c := 0; c < 4; c++ {
+		clear(s.charge[c][3*t*m : (3*t+3)*m])
+	}
+	c0, c1, c2, c3 := s.charge[0], s.charge[1], s.charge[2], s.charge[3]
+	// Charges use coordinates relative to the grid centre (shift
+	// invariance of the kernel) to keep x² + y² small.
+	cx := s.x0 + 0.5*s.h*float64(nb)
+	cy := s.y0 + 0.5*s.h*float64(nb)
+	for bx := 0; bx < nb; bx++ {
+		b := t*nb + bx
+		for _, ii := range s.order[s.start[b]:s.start[b+1]] {
+			i := int(ii)
+			x, y := s.y[2*i]-cx, s.y[2*i+1]-cy
+			q3 := x*x + y*y
+			w := s.wts[6*i : 6*i+6 : 6*i+6]
+			for a := 0; a < 3; a++ {
+				row := (3*t+a)*m + 3*bx
+				for c := 0; c < 3; c++ {
+					wc := w[3+a] * w[c]
+					k := row + c
+					c0[k] += wc
+					c1[k] += wc * x
+					c2[k] += wc * y
+					c3[k] += wc * q3
+				}
+			}
+		}
+	}
+}
+
+// taskRows does the forward real FFT of one row: tasks [0, l) are rows of
+// the sampled kernel, the rest are rows of the four charge grids.
+func (s *fftState) taskRows(w, t int) {
+	wk := &s.work[w]
+	l, m := s.l, s.m
+	buf := wk.real
+	var dst []complex128
+	var row int
+	if t < l {
+		row = t
+		dr := row
+		if dr > m {
+			dr = l - dr
+		}
+		h := s.h / fftNodes
+		ry := float64(dr) * h
+		for c := 0; c < l; c++ {
+			dc := c
+			if dc > m {
+				dc = l - dc
+			}
+			rx := float64(dc) * h
+			d := 1 + rx*rx + ry*ry
+			buf[c] = 1 / (d * d)
+		}
+		if dr == m {
+			clear(buf) // unused wrap-around row (distance m·h is never needed)
+		}
+		buf[m] = 0
+		dst = s.khat
+	} else {
+		t -= l
+		ch, r := t/m, t%m
+		row = r
+		copy(buf[:m], s.charge[ch][r*m:(r+1)*m])
+		clear(buf[m:])
+		dst = s.spec[ch]
+	}
+	wk.rfft.Coefficients(wk.half, buf)
+	for kx, v := range wk.half {
+		dst[kx*l+row] = v
+	}
+}
+
+// taskKernelCols finishes the kernel's 2-D FFT on column t.
+func (s *fftState) taskKernelCols(w, t int) {
+	col := s.khat[t*s.l : (t+1)*s.l]
+	s.work[w].cfft.Coefficients(col, col)
+}
+
+// taskCols transforms column t%hl of charge channel t/hl, multiplies by the
+// kernel's transform and transforms back.
+func (s *fftState) taskCols(w, t int) {
+	l, m := s.l, s.m
+	ch, kx := t/s.hl, t%s.hl
+	col := s.spec[ch][kx*l : (kx+1)*l]
+	clear(col[m:])
+	cf := s.work[w].cfft
+	cf.Coefficients(col, col)
+	k := s.khat[kx*l : (kx+1)*l]
+	for i := range col {
+		col[i] *= k[i]
+	}
+	cf.Sequence(col, col)
+}
+
+// taskInvRows does the inverse real FFT of row t%m of channel t/m and keeps
+// the m×m block of potentials.
+func (s *fftState) taskInvRows(w, t int) {
+	wk := &s.work[w]
+	l, m := s.l, s.m
+	ch, r := t/m, t%m
+	spec := s.spec[ch]
+	for kx := range wk.half {
+		wk.half[kx] = spec[kx*l+r]
+	}
+	wk.rfft.Sequence(wk.real, wk.half)
+	scale := 1 / float64(l*l)
+	out := s.pot[ch][r*m : (r+1)*m]
+	for j := range out {
+		out[j] = wk.real[j] * scale
+	}
+}
+
+// taskGather interpolates the potentials back to the points of task t,
+// writes the exact attraction into dst and the partial Z sum into zPart.
+func (s *fftState) taskGather(_, t int) {
+	lo, hi := s.taskRange(t)
+	m, nb := s.m, s.nb
+	p0, p1, p2, p3 := s.pot[0], s.pot[1], s.pot[2], s.pot[3]
+	cx := s.x0 + 0.5*s.h*float64(nb)
+	cy := s.y0 + 0.5*s.h*float64(nb)
+	y := s.y
+	p := s.p
+	var zsum float64
+	for i := lo; i < hi; i++ {
+		b := int(s.box[i])
+		bx, by := b%nb, b/nb
+		w := s.wts[6*i : 6*i+6 : 6*i+6]
+		var f0, f1, f2, f3 float64
+		for a := 0; a < 3; a++ {
+			row := (3*by+a)*m + 3*bx
+			for c := 0; c < 3; c++ {
+				wc := w[3+a] * w[c]
+				k := row + c
+				f0 += wc * p0[k]
+				f1 += wc * p1[k]
+				f2 += wc * p2[k]
+				f3 += wc * p3[k]
+			}
+		}
+		xi, yi := y[2*i], y[2*i+1]
+		u, v := xi-cx, yi-cy
+		// The interpolated self-interaction K̃_ii (≈ 1) is removed exactly
+		// with the same weights, so the i = j term cancels in Z.
+		var self float64
+		for a := 0; a < 9; a++ {
+			wa := w[3+a/3] * w[a%3]
+			var row float64
+			for b := 0; b < 9; b++ {
+				row += s.kloc[9*a+b] * w[3+b/3] * w[b%3]
+			}
+			self += wa * row
+		}
+		zsum += (1+u*u+v*v)*f0 - 2*(u*f1+v*f2) + f3 - self
+		s.rep[2*i] = u*f0 - f1
+		s.rep[2*i+1] = v*f0 - f2
+		// Attraction: Σ_j p_ij (1 + d²)⁻¹ (y_i − y_j).
+		var ax, ay float64
+		for e := p.RowPtr[i]; e < p.RowPtr[i+1]; e++ {
+			j := int(p.Col[e])
+			dx, dy := xi-y[2*j], yi-y[2*j+1]
+			q := p.Val[e] / (1 + dx*dx + dy*dy)
+			ax += q * dx
+			ay += q * dy
+		}
+		s.dst[2*i] = ax
+		s.dst[2*i+1] = ay
+	}
+	s.zPart[t] = zsum
+}
+
+// taskFinish combines attraction and repulsion:
+//
+//	∂C/∂y_i = 4 [α Σ_j p_ij (1 + d_ij²)⁻¹ (y_i − y_j) − Z⁻¹ Σ_j (1 + d_ij²)⁻² (y_i − y_j)]
+func (s *fftState) taskFinish(_, t int) {
+	lo, hi := s.taskRange(t)
+	a := 4 * s.exag
+	r := 4 * s.zinv
+	for k := 2 * lo; k < 2*hi; k++ {
+		s.dst[k] = a*s.dst[k] - r*s.rep[k]
+	}
+}
