@@ -1,0 +1,207 @@
+package tsne
+
+import (
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"testing"
+)
+
+// bhTestClustered returns n points in dim dimensions around 8 well
+// separated centres (seeded), for inputs and layouts with cluster structure.
+func bhTestClustered(n, dim int, spread float64, rng *rand.Rand) []float64 {
+	const k = 8
+	centres := make([]float64, k*dim)
+	for c := range centres {
+		centres[c] = 20 * rng.Float64()
+	}
+	x := make([]float64, n*dim)
+	for i := 0; i < n; i++ {
+		c := i % k
+		for a := 0; a < dim; a++ {
+			x[i*dim+a] = centres[c*dim+a] + spread*rng.NormFloat64()
+		}
+	}
+	return x
+}
+
+func relErr(got, want []float64) float64 {
+	num, den := 0.0, 0.0
+	for k := range got {
+		d := got[k] - want[k]
+		num += d * d
+		den += want[k] * want[k]
+	}
+	return math.Sqrt(num / den)
+}
+
+func TestBarnesHutAgainstExact(t *testing.T) {
+	// Source: van der Maaten (2014), JMLR 15, reports that θ = 0.5 gives
+	// gradients close to the exact ones and that the error falls as θ falls;
+	// checking the tree sum against the exact O(N²) sum is common practice.
+	// "Well under 1e-2" relative error (Euclidean norm over all coordinates)
+	// at θ = 0.5 is the engine issue's target; we require < 5e-3 (measured
+	// here: about 4.5e-3 on the random layout, 1e-3 and 2e-4 on the
+	// clustered ones, with the quadrupole correction).
+	const n = 1500
+	rng := rand.New(rand.NewPCG(2014, 1))
+	xr := gradTestLayout(n, 1, rng) // 2-D input for P
+	xc := bhTestClustered(n, 5, 1, rng)
+	for _, tc := range []struct {
+		name string
+		p    *Sparse
+		y    []float64
+	}{
+		{"random", gradTestKNNP(xr, n, 2, 30), gradTestLayout(n, 5, rng)},
+		{"clustered", gradTestKNNP(xc, n, 5, 30), bhTestClustered(n, 2, 1.5, rng)},
+		{"clustered-tight", gradTestKNNP(xc, n, 5, 30), bhTestClustered(n, 2, 0.2, rng)},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			want, zExact := NewExact(0).Gradient(nil, tc.y, tc.p, 1)
+			prev := math.Inf(1)
+			for _, theta := range []float64{0.8, 0.5, 0.2} {
+				got, z := NewBarnesHut(theta, 0).Gradient(nil, tc.y, tc.p, 1)
+				e := relErr(got, want)
+				ez := math.Abs(z-zExact) / zExact
+				t.Logf("theta=%.1f gradient rel err %.3g, Z rel err %.3g", theta, e, ez)
+				if theta == 0.5 && !(e < 5e-3) {
+					t.Errorf("theta=0.5: gradient relative error got %.3g, want < 5e-3", e)
+				}
+				if !(e < prev) {
+					t.Errorf("theta=%.1f: error %.3g not below the error %.3g at the larger theta", theta, e, prev)
+				}
+				prev = e
+			}
+			// θ = 0 opens every cell: the tree sum is the exact sum up to
+			// rounding (common practice).
+			got, z := NewBarnesHut(0, 1).Gradient(nil, tc.y, tc.p, 1)
+			if e := relErr(got, want); !(e < 1e-12) {
+				t.Errorf("theta=0: relative error got %.3g, want < 1e-12", e)
+			}
+			if ez := math.Abs(z-zExact) / zExact; !(ez < 1e-12) {
+				t.Errorf("theta=0: Z relative error got %.3g, want < 1e-12", ez)
+			}
+		})
+	}
+}
+
+func TestBarnesHutDuplicatePoints(t *testing.T) {
+	// Source: common practice — coincident points must not divide by zero;
+	// the gradient stays finite and matches the exact sum.
+	const n = 200
+	rng := rand.New(rand.NewPCG(3, 3))
+	y := gradTestLayout(n, 2, rng)
+	for i := 0; i < 60; i++ { // 60 points on the same spot
+		y[2*i], y[2*i+1] = 0.25, -0.5
+	}
+	p := gradTestRandomP(n, rng)
+	want, _ := NewExact(1).Gradient(nil, y, p, 1)
+	got, z := NewBarnesHut(0.5, 1).Gradient(nil, y, p, 1)
+	for k, v := range got {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			t.Fatalf("grad[%d] = %v", k, v)
+		}
+	}
+	if math.IsNaN(z) || z <= 0 {
+		t.Fatalf("Z = %v", z)
+	}
+	if e := relErr(got, want); !(e < 1e-2) {
+		t.Errorf("relative error with duplicates: got %.3g, want < 1e-2", e)
+	}
+}
+
+func TestGradientDeterministicAcrossThreads(t *testing.T) {
+	// Source: project rule — identical bits for any thread count.
+	const n = 3000
+	rng := rand.New(rand.NewPCG(11, 11))
+	p := gradTestKNNP(bhTestClustered(n, 3, 1, rng), n, 3, 20)
+	y := bhTestClustered(n, 2, 2, rng)
+	for _, tc := range []struct {
+		name string
+		mk   func(threads int) Gradient
+	}{
+		{"exact", func(th int) Gradient { return NewExact(th) }},
+		{"barnes-hut", func(th int) Gradient { return NewBarnesHut(0.5, th) }},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			ref, zref := tc.mk(1).Gradient(nil, y, p, 12)
+			for _, th := range []int{2, 8} {
+				got, z := tc.mk(th).Gradient(nil, y, p, 12)
+				if z != zref {
+					t.Errorf("threads=%d: Z %v, want %v (threads=1)", th, z, zref)
+				}
+				for k := range got {
+					if got[k] != ref[k] {
+						t.Fatalf("threads=%d: grad[%d] %v, want %v (threads=1)", th, k, got[k], ref[k])
+					}
+				}
+			}
+		})
+	}
+}
+
+func TestGradientNoAllocsAfterFirst(t *testing.T) {
+	// Source: house style — workspaces are reused; an evaluation after the
+	// first allocates nothing.
+	const n = 2000
+	rng := rand.New(rand.NewPCG(5, 5))
+	p := gradTestKNNP(gradTestLayout(n, 1, rng), n, 2, 15)
+	y := gradTestLayout(n, 3, rng)
+	dst := make([]float64, 2*n)
+	for _, g := range []Gradient{NewExact(2), NewBarnesHut(0.5, 2)} {
+		g.Gradient(dst, y, p, 1)
+		if a := testing.AllocsPerRun(5, func() { g.Gradient(dst, y, p, 1) }); a != 0 {
+			t.Errorf("%T: got %v allocs per evaluation, want 0", g, a)
+		}
+	}
+}
+
+func benchGradient(b *testing.B, mk func() Gradient, n int) {
+	rng := rand.New(rand.NewPCG(uint64(n), 99))
+	x := bhTestClustered(n, 10, 1, rng)
+	p := gradBenchKNNP(x, n, 10, 90)
+	y := bhTestClustered(n, 2, 3, rng)
+	g := mk()
+	dst := make([]float64, 2*n)
+	g.Gradient(dst, y, p, 1)
+	b.ReportAllocs()
+	b.ResetTimer()
+	var sink float64
+	for i := 0; i < b.N; i++ {
+		_, z := g.Gradient(dst, y, p, 1)
+		sink += z
+	}
+	_ = sink
+}
+
+// gradBenchKNNP builds a P with k entries per row from a cheap
+// approximate neighbour rule (consecutive points of the same cluster), good
+// enough to give the attraction its usual cost in benchmarks.
+func gradBenchKNNP(x []float64, n, d, k int) *Sparse {
+	p := &Sparse{N: n, RowPtr: make([]int, n+1)}
+	for i := 0; i < n; i++ {
+		for a := 1; a <= k; a++ {
+			j := (i + 8*a) % n
+			p.Col = append(p.Col, int32(j))
+			p.Val = append(p.Val, 1/float64(n*k))
+		}
+		p.RowPtr[i+1] = len(p.Col)
+	}
+	return p
+}
+
+func BenchmarkGradient(b *testing.B) {
+	sizes := []int{10000}
+	if longTests() {
+		sizes = append(sizes, 100000)
+	}
+	th := runtime.GOMAXPROCS(0)
+	for _, n := range sizes {
+		b.Run("exact/n="+itoa(n), func(b *testing.B) {
+			benchGradient(b, func() Gradient { return NewExact(th) }, n)
+		})
+		b.Run("barnes-hut/n="+itoa(n), func(b *testing.B) {
+			benchGradient(b, func() Gradient { return NewBarnesHut(0.5, th) }, n)
+		})
+	}
+}

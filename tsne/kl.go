@@ -1,0 +1,68 @@
+package tsne
+
+import "math"
+
+// KL returns the Kullback-Leibler divergence KL(P‖Q) of the layout y, where
+// q_ij = w_ij / Z and w_ij = (1 + ‖y_i − y_j‖²)⁻¹, given the normalisation
+// Z = Σ_{i≠j} w_ij:
+//
+//	KL = Σ p_ij log p_ij + Σ p_ij log(1 + ‖y_i − y_j‖²) + S log Z,   S = Σ p_ij
+//
+// The sums run over the stored entries of P (zero entries contribute
+// nothing); S is 1 for a normalised P. The result is exact when z is exact
+// (ExactZ, or the Z returned by the Exact gradient) and carries the
+// approximation of the method that produced z otherwise (Barnes-Hut's tree
+// sum). Cost O(nnz(P)).
+func KL(y []float64, p *Sparse, z float64) float64 {
+	var plogp, plogw, s float64
+	for i := 0; i < p.N; i++ {
+		xi, yi := y[2*i], y[2*i+1]
+		for e := p.RowPtr[i]; e < p.RowPtr[i+1]; e++ {
+			v := p.Val[e]
+			if v <= 0 {
+				continue
+			}
+			j := int(p.Col[e])
+			dx, dy := xi-y[2*j], yi-y[2*j+1]
+			plogp += v * math.Log(v)
+			plogw += v * math.Log1p(dx*dx+dy*dy)
+			s += v
+		}
+	}
+	return plogp + plogw + s*math.Log(z)
+}
+
+// ExactZ returns the normalisation Z = Σ_{i≠j} (1 + ‖y_i − y_j‖²)⁻¹ of the
+// layout y by summing over all pairs, O(N²), using up to threads goroutines
+// (0 means GOMAXPROCS). The sum is reduced in a fixed order, so the bits do
+// not depend on threads.
+func ExactZ(y []float64, threads int) float64 {
+	n := len(y) / 2
+	zRow := make([]float64, n)
+	r := newChunkRunner(threads)
+	r.run(numChunks(n, chunkRows), func(chunk int) {
+		lo, hi := chunk*chunkRows, min((chunk+1)*chunkRows, n)
+		for i := lo; i < hi; i++ {
+			xi, yi := y[2*i], y[2*i+1]
+			zi := 0.0
+			for j := 0; j < n; j++ {
+				if j != i {
+					dx, dy := xi-y[2*j], yi-y[2*j+1]
+					zi += 1 / (1 + dx*dx + dy*dy)
+				}
+			}
+			zRow[i] = zi
+		}
+	})
+	z := 0.0
+	for _, v := range zRow {
+		z += v
+	}
+	return z
+}
+
+// ExactKL returns KL(P‖Q) of the layout y with the exact normalisation
+// (ExactZ), O(N²).
+func ExactKL(y []float64, p *Sparse, threads int) float64 {
+	return KL(y, p, ExactZ(y, threads))
+}

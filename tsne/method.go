@@ -1,0 +1,175 @@
+package tsne
+
+import (
+	"fmt"
+	"runtime"
+	"sync"
+	"sync/atomic"
+)
+
+// Method names a gradient implementation.
+type Method string
+
+// The gradient methods. MethodAuto lets AutoMethod choose from the number
+// of points.
+const (
+	MethodAuto      Method = "auto"
+	MethodExact     Method = "exact"
+	MethodBarnesHut Method = "barnes-hut"
+	MethodFFT       Method = "fft"
+)
+
+// ExactMaxN is the largest number of points for which AutoMethod picks the
+// exact O(N²) gradient. Below about a thousand points one exact evaluation
+// costs no more than a few milliseconds on one core and carries no
+// approximation error; above it the tree method wins and the gap grows
+// linearly with N.
+const ExactMaxN = 1000
+
+// AutoMethod returns the gradient method used when Config.Method is "" or
+// MethodAuto: MethodExact for n ≤ ExactMaxN and MethodBarnesHut beyond.
+func AutoMethod(n int) Method {
+	if n <= ExactMaxN {
+		return MethodExact
+	}
+	return MethodBarnesHut
+}
+
+// ParseMethod checks a method name given by a user. The empty string means
+// MethodAuto.
+func ParseMethod(s string) (Method, error) {
+	switch m := Method(s); m {
+	case "", MethodAuto:
+		return MethodAuto, nil
+	case MethodExact, MethodBarnesHut, MethodFFT:
+		return m, nil
+	}
+	return "", fmt.Errorf("tsne: unknown gradient method %q (want auto, exact, barnes-hut or fft)", s)
+}
+
+// resolveMethod maps MethodAuto (or "") to a concrete method for n points.
+func resolveMethod(m Method, n int) (Method, error) {
+	if m == "" || m == MethodAuto {
+		return AutoMethod(n), nil
+	}
+	if _, err := ParseMethod(string(m)); err != nil {
+		return "", err
+	}
+	return m, nil
+}
+
+// newGradient builds the Gradient implementation for a concrete method.
+func newGradient(m Method, theta float64, threads int) (Gradient, error) {
+	switch m {
+	case MethodExact:
+		return NewExact(threads), nil
+	case MethodBarnesHut:
+		return NewBarnesHut(theta, threads), nil
+	case MethodFFT:
+		return nil, fmt.Errorf("tsne: gradient method %q is not available yet", m)
+	}
+	return nil, fmt.Errorf("tsne: unknown gradient method %q (want auto, exact, barnes-hut or fft)", m)
+}
+
+// resolveThreads maps 0 (or a negative count) to runtime.GOMAXPROCS(0).
+func resolveThreads(t int) int {
+	if t <= 0 {
+		return runtime.GOMAXPROCS(0)
+	}
+	return t
+}
+
+// Parallel loops in this package split their work into chunks whose
+// boundaries depend only on the problem size, never on the number of
+// threads, and every chunk writes its own slots of the output. Reductions
+// then add the per-row or per-chunk partial results sequentially in index
+// order, so results are bit-identical for any thread count.
+
+// chunkRows is the number of rows per chunk in the row-parallel loops.
+const chunkRows = 64
+
+// numChunks returns the number of fixed-size chunks covering n rows.
+func numChunks(n, size int) int { return (n + size - 1) / size }
+
+// chunkTask is a unit of work handed to an idle helper goroutine.
+type chunkTask struct {
+	run func()
+	wg  *sync.WaitGroup
+}
+
+// helperTasks feeds the package's idle helper goroutines. It is
+// unbuffered: a send succeeds only when a helper is waiting, otherwise a new
+// helper is started. Helpers stay parked between calls so that steady-state
+// parallel loops allocate nothing.
+var helperTasks = make(chan chunkTask)
+
+func startTask(t chunkTask) {
+	select {
+	case helperTasks <- t:
+	default:
+		go helperLoop(t)
+	}
+}
+
+func helperLoop(t chunkTask) {
+	for {
+		t.run()
+		t.wg.Done()
+		t = <-helperTasks
+	}
+}
+
+// chunkRunner runs body(chunk) for chunk = 0 … n−1 on up to threads
+// goroutines (the caller's included). Create it once with newChunkRunner and
+// reuse it; run allocates nothing. A chunkRunner is not safe for concurrent
+// use.
+type chunkRunner struct {
+	threads int
+	next    atomic.Int64
+	n       int64
+	body    func(chunk int)
+	wg      sync.WaitGroup
+	loopFn  func()
+}
+
+func newChunkRunner(threads int) *chunkRunner {
+	r := &chunkRunner{threads: resolveThreads(threads)}
+	r.loopFn = r.loop
+	return r
+}
+
+func (r *chunkRunner) loop() {
+	for {
+		c := r.next.Add(1) - 1
+		if c >= r.n {
+			return
+		}
+		r.body(int(c))
+	}
+}
+
+// run calls body for every chunk index in [0, n) and returns when all are
+// done. body must be a func value created once (not a fresh closure per
+// call) to keep run allocation-free.
+func (r *chunkRunner) run(n int, body func(chunk int)) {
+	if n <= 0 {
+		return
+	}
+	t := min(r.threads, n)
+	if t <= 1 {
+		for c := 0; c < n; c++ {
+			body(c)
+		}
+		return
+	}
+	r.body = body
+	r.n = int64(n)
+	r.next.Store(0)
+	r.wg.Add(t - 1)
+	for i := 1; i < t; i++ {
+		startTask(chunkTask{run: r.loopFn, wg: &r.wg})
+	}
+	r.loop()
+	r.wg.Wait()
+	r.body = nil
+}
