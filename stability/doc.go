@@ -1,0 +1,51 @@
+// Package stability scores t-SNE layouts: how much runs that differ only in
+// their random seed agree with each other, and how faithfully one layout
+// keeps the neighbourhoods of its input.
+//
+// Agreement between layouts of the same points is measured three ways:
+// Procrustes disparity after the best similarity fit (package align), the
+// Jaccard overlap of each point's k nearest map neighbours in the two
+// layouts, and the Spearman rank correlation of map distances over a
+// seeded sample of point pairs, which reflects the global arrangement. Over
+// all the seeds of one setting, Agreement summarises every pair by median
+// and interquartile range, and Spread measures how far each point wanders
+// around the generalised Procrustes consensus.
+//
+// Faithfulness of a layout to its input is measured by trustworthiness
+// (are map neighbours true input neighbours?), continuity (are input
+// neighbours kept together in the map?), kNN recall, the Spearman
+// correlation of input and map distances, and, when points carry labels,
+// leave-one-out k-NN label accuracy in the map and the share of points whose
+// map neighbours mostly share their label. Trustworthiness and continuity
+// rank neighbours exactly as scikit-learn 1.2.1 does; above a documented
+// size they are averaged over a seeded sample of query points and the
+// sample size is reported with the score.
+//
+// Every score is deterministic: random choices are seeded by the caller,
+// parallel loops use fixed chunks, and neighbour ties are broken by the
+// smaller point index.
+//
+// References:
+//
+//   - J. Venna and S. Kaski, "Neighborhood preservation in nonlinear
+//     projection methods: an experimental study", ICANN 2001, LNCS 2130,
+//     pp. 485–491, 2001.
+//   - S. Kaski, J. Nikkilä, M. Oja, J. Venna, P. Törönen and E. Castrén,
+//     "Trustworthiness and metrics in visualizing similarity of gene
+//     expression", BMC Bioinformatics 4:48, 2003.
+//   - L. van der Maaten, "Learning a parametric embedding by preserving
+//     local structure", AISTATS 2009, PMLR 5:384–391 (trustworthiness as
+//     used in scikit-learn).
+//   - scikit-learn 1.2.1, sklearn.manifold.trustworthiness.
+//   - P. Jaccard, "The distribution of the flora in the alpine zone", New
+//     Phytologist 11(2):37–50, 1912.
+//   - C. Spearman, "The proof and measurement of association between two
+//     things", American Journal of Psychology 15(1):72–101, 1904.
+//   - J. C. Gower, "Generalized Procrustes analysis", Psychometrika
+//     40(1):33–51, 1975.
+//   - R. J. Hyndman and Y. Fan, "Sample quantiles in statistical packages",
+//     The American Statistician 50(4):361–365, 1996 (definition 7, the
+//     linear interpolation used by numpy.quantile's default).
+//   - J. L. Bentley, "Multidimensional binary search trees used for
+//     associative searching", Communications of the ACM 18(9):509–517, 1975.
+package stability

@@ -1,0 +1,426 @@
+package stability
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"slices"
+	"sort"
+)
+
+// Default sizes for the faithfulness scores.
+const (
+	// DefaultExactLimit is the largest N scored exactly (every point a
+	// query). Exact scoring costs O(N²·D); at N = 20 000, D = 50 that is
+	// 2·10¹⁰ multiply-adds, seconds on two cores.
+	DefaultExactLimit = 20000
+	// DefaultSamples is the number of query points sampled above the exact
+	// limit. The score is then the mean over a uniform sample of points of
+	// the per-point term, an unbiased estimate of the exact score; its
+	// standard error is about sd(per-point term)/√DefaultSamples.
+	DefaultSamples = 5000
+	// DefaultK is the neighbourhood size used where k ≤ 0 is passed to
+	// NeighborJaccard.
+	DefaultK = 15
+)
+
+// ErrTooFewPoints reports a neighbourhood size too large for the data.
+var ErrTooFewPoints = errors.New("stability: too few points for k")
+
+// Options tunes the faithfulness scores. The zero value scores exactly up to
+// DefaultExactLimit points on all cores.
+type Options struct {
+	// Threads bounds the goroutines used. If Threads is 0,
+	// runtime.GOMAXPROCS(0) is used. Results do not depend on it.
+	Threads int
+	// ExactLimit is the largest N scored over every point. If ExactLimit is
+	// 0, DefaultExactLimit is used; a negative value always samples.
+	ExactLimit int
+	// Samples is the number of query points drawn (uniformly, without
+	// replacement) when N exceeds the exact limit. If Samples is 0,
+	// DefaultSamples is used.
+	Samples int
+	// Seed seeds the query sample (PCG, stream 1).
+	Seed uint64
+	// InputNeighbors optionally gives the exact input-space neighbours of
+	// every point, row i = InputNeighbors[i*InputK:(i+1)*InputK], self
+	// excluded, ascending distance, ties by smaller index — the layout of
+	// tsne.Neighbors.Index. When present with InputK ≥ k, continuity and
+	// kNN recall use its first k columns instead of searching the input.
+	InputNeighbors []int32
+	InputK         int
+}
+
+// Score is a faithfulness score with the sample it was computed on.
+type Score struct {
+	Value float64
+	K     int
+	// N is the number of points; Queries is the number of query points the
+	// score averages over (Queries == N when exact).
+	N, Queries int
+}
+
+// Exact reports whether every point was a query point.
+func (s Score) Exact() bool { return s.Queries == s.N }
+
+// Faithfulness holds the scores of one layout against its input, all at the
+// same k and on the same query points.
+type Faithfulness struct {
+	Trustworthiness, Continuity, KNNRecall Score
+}
+
+type which struct{ trust, cont, recall bool }
+
+// Trustworthiness returns T(k) of the layout y (N×2) for input x (N×d)
+// (Venna & Kaski 2001), computed exactly as scikit-learn 1.2.1's
+// sklearn.manifold.trustworthiness:
+//
+//	T(k) = 1 − 2/(N k (2N − 3k − 1)) Σ_i Σ_{j ∈ N_k^map(i)} max(0, r(i,j) − k)
+//
+// where N_k^map(i) are the k nearest other points of i in the map and
+// r(i,j) ∈ 1…N−1 is j's rank among the other points by input distance
+// (Euclidean). Ties in input distance are ranked by the smaller index first
+// (a stable sort), which is what scikit-learn's np.argsort gives whenever
+// the input has no tied distances; map-neighbour ties are also broken by
+// the smaller index. Requires 1 ≤ k < N/2 (scikit-learn's condition, under
+// which T ∈ [0, 1]). T = 1 when every map neighbour is among the k nearest
+// input neighbours; a layout unrelated to the input scores about 0.5.
+//
+// N > DefaultExactLimit samples query points; use TrustworthinessWith to
+// control this and to see the sample size. Cost O(Q·N·d), Q query points.
+func Trustworthiness(x []float64, d int, y []float64, k int) (float64, error) {
+	s, err := TrustworthinessWith(x, d, y, k, Options{})
+	return s.Value, err
+}
+
+// TrustworthinessWith is Trustworthiness with options; see Options. With
+// Q query points the sum over i runs over the sample and N k is replaced
+// by Q k in the normalisation.
+func TrustworthinessWith(x []float64, d int, y []float64, k int, opt Options) (Score, error) {
+	f, err := faithfulness(x, d, y, k, opt, which{trust: true})
+	return f.Trustworthiness, err
+}
+
+// Continuity returns C(k) of the layout y for input x (Kaski et al. 2003):
+// trustworthiness with the roles of input and map exchanged,
+//
+//	C(k) = 1 − 2/(N k (2N − 3k − 1)) Σ_i Σ_{j ∈ N_k^in(i)} max(0, r̂(i,j) − k)
+//
+// where N_k^in(i) are the k nearest other points of i in the input and
+// r̂(i,j) is j's rank by map distance (ties by smaller index). It equals
+// scikit-learn 1.2.1's trustworthiness(y, x, n_neighbors=k) when neither
+// space has tied distances. Requires 1 ≤ k < N/2. Penalises points that
+// are close in the input but torn apart in the map.
+func Continuity(x []float64, d int, y []float64, k int) (float64, error) {
+	s, err := ContinuityWith(x, d, y, k, Options{})
+	return s.Value, err
+}
+
+// ContinuityWith is Continuity with options; see Options.
+func ContinuityWith(x []float64, d int, y []float64, k int, opt Options) (Score, error) {
+	f, err := faithfulness(x, d, y, k, opt, which{cont: true})
+	return f.Continuity, err
+}
+
+// KNNRecall returns the share of input-space neighbours kept in the map:
+//
+//	recall(k) = 1/(N k) Σ_i |N_k^in(i) ∩ N_k^map(i)|
+//
+// with both neighbour sets exact, self excluded, ties by smaller index.
+// Requires 1 ≤ k < N/2.
+func KNNRecall(x []float64, d int, y []float64, k int) (float64, error) {
+	s, err := KNNRecallWith(x, d, y, k, Options{})
+	return s.Value, err
+}
+
+// KNNRecallWith is KNNRecall with options; see Options.
+func KNNRecallWith(x []float64, d int, y []float64, k int, opt Options) (Score, error) {
+	f, err := faithfulness(x, d, y, k, opt, which{recall: true})
+	return f.KNNRecall, err
+}
+
+// FaithfulnessAt computes trustworthiness, continuity and kNN recall in one
+// pass over the query points, sharing the distance computations.
+func FaithfulnessAt(x []float64, d int, y []float64, k int, opt Options) (Faithfulness, error) {
+	return faithfulness(x, d, y, k, opt, which{true, true, true})
+}
+
+func checkFinite(what string, v []float64, width int) error {
+	for i, f := range v {
+		if math.IsNaN(f) || math.IsInf(f, 0) {
+			return fmt.Errorf("stability: %s row %d column %d is %v", what, i/width, i%width, f)
+		}
+	}
+	return nil
+}
+
+func checkLayout(what string, y []float64) error {
+	if len(y)%2 != 0 {
+		return fmt.Errorf("stability: %s has odd length %d (want 2 values per point)", what, len(y))
+	}
+	return checkFinite(what, y, 2)
+}
+
+func checkK(k, n int) error {
+	if k < 1 {
+		return fmt.Errorf("stability: k = %d, want k ≥ 1", k)
+	}
+	if 2*k >= n {
+		return fmt.Errorf("%w: k = %d needs more than %d points, have %d (k < N/2)", ErrTooFewPoints, k, 2*k, n)
+	}
+	return nil
+}
+
+// sampleQueries returns nil (every point) or a sorted uniform sample.
+func sampleQueries(n int, opt Options) []int {
+	limit := opt.ExactLimit
+	if limit == 0 {
+		limit = DefaultExactLimit
+	}
+	if n <= limit {
+		return nil
+	}
+	q := opt.Samples
+	if q <= 0 {
+		q = DefaultSamples
+	}
+	if q >= n {
+		return nil
+	}
+	rng := rand.New(rand.NewPCG(opt.Seed, 1))
+	perm := make([]int, n)
+	for i := range perm {
+		perm[i] = i
+	}
+	for i := 0; i < q; i++ {
+		j := i + rng.IntN(n-i)
+		perm[i], perm[j] = perm[j], perm[i]
+	}
+	s := perm[:q:q]
+	slices.Sort(s)
+	return s
+}
+
+func faithfulness(x []float64, d int, y []float64, k int, opt Options, w which) (Faithfulness, error) {
+	if err := checkLayout("layout", y); err != nil {
+		return Faithfulness{}, err
+	}
+	n := len(y) / 2
+	if d < 1 {
+		return Faithfulness{}, fmt.Errorf("stability: input dimension %d, want ≥ 1", d)
+	}
+	if len(x) != n*d {
+		return Faithfulness{}, fmt.Errorf("stability: input has %d values, want %d points × %d = %d", len(x), n, d, n*d)
+	}
+	if err := checkFinite("input", x, d); err != nil {
+		return Faithfulness{}, err
+	}
+	if err := checkK(k, n); err != nil {
+		return Faithfulness{}, err
+	}
+	var inNb []int32
+	inK := 0
+	if opt.InputNeighbors != nil && opt.InputK >= k {
+		if len(opt.InputNeighbors) != n*opt.InputK {
+			return Faithfulness{}, fmt.Errorf("stability: input neighbour list has %d entries, want %d × %d", len(opt.InputNeighbors), n, opt.InputK)
+		}
+		for _, j := range opt.InputNeighbors {
+			if j < 0 || int(j) >= n {
+				return Faithfulness{}, fmt.Errorf("stability: input neighbour index %d out of range [0, %d)", j, n)
+			}
+		}
+		inNb, inK = opt.InputNeighbors, opt.InputK
+	}
+	queries := sampleQueries(n, opt)
+	nq := n
+	if queries != nil {
+		nq = len(queries)
+	}
+	var mapNb []int32
+	if w.trust || w.recall {
+		mapNb = mapNeighbors(y, k, queries, opt.Threads)
+	}
+	trustPen := make([]int64, nq)
+	contPen := make([]int64, nq)
+	hits := make([]int32, nq)
+	needDX := w.trust || ((w.cont || w.recall) && inNb == nil)
+	parallel(nq, opt.Threads, func(lo, hi int) {
+		var dx, dy []float64
+		if needDX {
+			dx = make([]float64, n)
+		}
+		if w.cont {
+			dy = make([]float64, n)
+		}
+		var h nbHeap
+		inRow := make([]int32, k)
+		rk := newRanker(k)
+		for m := lo; m < hi; m++ {
+			i := m
+			if queries != nil {
+				i = queries[m]
+			}
+			if needDX {
+				inputDistances(dx, x, d, i)
+			}
+			if w.cont || w.recall {
+				if inNb != nil {
+					copy(inRow, inNb[i*inK:i*inK+k])
+				} else {
+					selectK(dx, i, k, &h, inRow)
+				}
+			}
+			var mrow []int32
+			if mapNb != nil {
+				mrow = mapNb[m*k : (m+1)*k]
+			}
+			if w.trust {
+				trustPen[m] = rk.penalty(dx, i, mrow)
+			}
+			if w.cont {
+				mapDistances(dy, y, i)
+				contPen[m] = rk.penalty(dy, i, inRow)
+			}
+			if w.recall {
+				var c int32
+				for _, a := range inRow {
+					for _, b := range mrow {
+						if a == b {
+							c++
+							break
+						}
+					}
+				}
+				hits[m] = c
+			}
+		}
+	})
+	norm := 2.0 / (float64(nq) * float64(k) * (2*float64(n) - 3*float64(k) - 1))
+	mk := func(v float64) Score { return Score{Value: v, K: k, N: n, Queries: nq} }
+	var f Faithfulness
+	if w.trust {
+		f.Trustworthiness = mk(1 - float64(sum64(trustPen))*norm)
+	}
+	if w.cont {
+		f.Continuity = mk(1 - float64(sum64(contPen))*norm)
+	}
+	if w.recall {
+		var t int64
+		for _, c := range hits {
+			t += int64(c)
+		}
+		f.KNNRecall = mk(float64(t) / (float64(nq) * float64(k)))
+	}
+	return f, nil
+}
+
+func sum64(v []int64) int64 {
+	var s int64
+	for _, a := range v {
+		s += a
+	}
+	return s
+}
+
+// inputDistances writes the squared Euclidean distances from point i to
+// every point into dst.
+func inputDistances(dst, x []float64, d, i int) {
+	xi := x[i*d : (i+1)*d]
+	for l := range dst {
+		xl := x[l*d : (l+1)*d : (l+1)*d]
+		var s0, s1, s2, s3 float64
+		c := 0
+		for ; c+3 < d; c += 4 {
+			a0 := xi[c] - xl[c]
+			a1 := xi[c+1] - xl[c+1]
+			a2 := xi[c+2] - xl[c+2]
+			a3 := xi[c+3] - xl[c+3]
+			s0 += a0 * a0
+			s1 += a1 * a1
+			s2 += a2 * a2
+			s3 += a3 * a3
+		}
+		for ; c < d; c++ {
+			a := xi[c] - xl[c]
+			s0 += a * a
+		}
+		dst[l] = (s0 + s1) + (s2 + s3)
+	}
+}
+
+func mapDistances(dst, y []float64, i int) {
+	qx, qy := y[2*i], y[2*i+1]
+	for l := range dst {
+		dx, dy := y[2*l]-qx, y[2*l+1]-qy
+		dst[l] = dx*dx + dy*dy
+	}
+}
+
+// selectK writes the k smallest (dist, index) entries of dist, skipping i,
+// into dst in ascending order.
+func selectK(dist []float64, i, k int, h *nbHeap, dst []int32) {
+	h.reset(k)
+	for l, v := range dist {
+		if l == i {
+			continue
+		}
+		if h.full() && !worse(h.d2[0], h.ix[0], v, int32(l)) {
+			continue
+		}
+		h.push(v, int32(l))
+	}
+	h.sorted(dst)
+}
+
+// ranker computes Σ_j max(0, r(i,j) − k) for a set of k target points,
+// where r(i,j) = 1 + #{l ≠ i : (dist_l, l) < (dist_j, j)}.
+type ranker struct {
+	k    int
+	tgt  []int32
+	hist []int64
+}
+
+func newRanker(k int) *ranker {
+	return &ranker{k: k, tgt: make([]int32, k), hist: make([]int64, k+1)}
+}
+
+// penalty sorts the targets by (dist, index); for every other point l it
+// counts, by binary search, how many targets precede l, and accumulates a
+// histogram; target t (0-based in sorted order) then has rank
+// 1 + t + Σ_{p ≤ t} hist[p]. Cost O(N log k).
+func (r *ranker) penalty(dist []float64, i int, targets []int32) int64 {
+	k := r.k
+	copy(r.tgt, targets)
+	tg := r.tgt
+	sort.Slice(tg, func(a, b int) bool { return worse(dist[tg[b]], tg[b], dist[tg[a]], tg[a]) })
+	for p := range r.hist {
+		r.hist[p] = 0
+	}
+	maxD, maxI := dist[tg[k-1]], tg[k-1]
+	for l, v := range dist {
+		if l == i {
+			continue
+		}
+		li := int32(l)
+		if worse(v, li, maxD, maxI) {
+			continue // after every target
+		}
+		// p = number of targets strictly before (v, l); targets themselves
+		// are skipped (they are counted by t below).
+		p := sort.Search(k, func(s int) bool { return !worse(v, li, dist[tg[s]], tg[s]) })
+		if p < k && tg[p] == li {
+			continue
+		}
+		r.hist[p]++
+	}
+	var pen, before int64
+	for t := 0; t < k; t++ {
+		before += r.hist[t]
+		rank := int64(1+t) + before
+		if rank > int64(k) {
+			pen += rank - int64(k)
+		}
+	}
+	return pen
+}

@@ -1,0 +1,252 @@
+package stability
+
+import (
+	"runtime"
+	"sort"
+	"sync"
+)
+
+// This file holds the exact nearest-neighbour search used on maps: a 2-d
+// k-d tree (Bentley 1975) whose queries return the k nearest other points
+// sorted by ascending squared distance, ties broken by the smaller index, so
+// results do not depend on the tree's shape or on thread count.
+
+const leafSize = 16
+
+type kdNode struct {
+	lo, hi      int32 // range in tree.idx
+	left, right int32 // children, -1 for a leaf
+	minX, maxX  float64
+	minY, maxY  float64
+}
+
+type kdTree struct {
+	y     []float64
+	idx   []int32
+	nodes []kdNode
+}
+
+func newKDTree(y []float64) *kdTree {
+	n := len(y) / 2
+	t := &kdTree{y: y, idx: make([]int32, n)}
+	for i := range t.idx {
+		t.idx[i] = int32(i)
+	}
+	t.nodes = make([]kdNode, 0, 2*n/leafSize+2)
+	t.build(0, n)
+	return t
+}
+
+func (t *kdTree) build(lo, hi int) int32 {
+	nd := kdNode{lo: int32(lo), hi: int32(hi), left: -1, right: -1}
+	nd.minX, nd.minY = t.y[2*t.idx[lo]], t.y[2*t.idx[lo]+1]
+	nd.maxX, nd.maxY = nd.minX, nd.minY
+	for _, p := range t.idx[lo:hi] {
+		x, y := t.y[2*p], t.y[2*p+1]
+		nd.minX, nd.maxX = min(nd.minX, x), max(nd.maxX, x)
+		nd.minY, nd.maxY = min(nd.minY, y), max(nd.maxY, y)
+	}
+	id := int32(len(t.nodes))
+	t.nodes = append(t.nodes, nd)
+	if hi-lo <= leafSize || (nd.minX == nd.maxX && nd.minY == nd.maxY) {
+		return id
+	}
+	dim := 0
+	if nd.maxY-nd.minY > nd.maxX-nd.minX {
+		dim = 1
+	}
+	seg := t.idx[lo:hi]
+	sort.Slice(seg, func(a, b int) bool {
+		va, vb := t.y[2*seg[a]+int32(dim)], t.y[2*seg[b]+int32(dim)]
+		if va != vb {
+			return va < vb
+		}
+		return seg[a] < seg[b]
+	})
+	mid := (lo + hi) / 2
+	l := t.build(lo, mid)
+	r := t.build(mid, hi)
+	t.nodes[id].left, t.nodes[id].right = l, r
+	return id
+}
+
+// nbHeap is a bounded max-heap of candidates ordered by (d2, index).
+type nbHeap struct {
+	d2  []float64
+	ix  []int32
+	cap int
+}
+
+func worse(d1 float64, i1 int32, d2 float64, i2 int32) bool {
+	return d1 > d2 || (d1 == d2 && i1 > i2)
+}
+
+func (h *nbHeap) reset(k int) {
+	h.cap = k
+	h.d2 = h.d2[:0]
+	h.ix = h.ix[:0]
+}
+
+func (h *nbHeap) full() bool { return len(h.d2) == h.cap }
+
+// push offers a candidate; it is kept if the heap has room or it beats the
+// current worst.
+func (h *nbHeap) push(d float64, i int32) {
+	if len(h.d2) < h.cap {
+		h.d2 = append(h.d2, d)
+		h.ix = append(h.ix, i)
+		c := len(h.d2) - 1
+		for c > 0 {
+			p := (c - 1) / 2
+			if !worse(h.d2[c], h.ix[c], h.d2[p], h.ix[p]) {
+				break
+			}
+			h.d2[c], h.d2[p] = h.d2[p], h.d2[c]
+			h.ix[c], h.ix[p] = h.ix[p], h.ix[c]
+			c = p
+		}
+		return
+	}
+	if !worse(h.d2[0], h.ix[0], d, i) {
+		return
+	}
+	h.d2[0], h.ix[0] = d, i
+	c, n := 0, len(h.d2)
+	for {
+		l := 2*c + 1
+		if l >= n {
+			break
+		}
+		w := l
+		if r := l + 1; r < n && worse(h.d2[r], h.ix[r], h.d2[l], h.ix[l]) {
+			w = r
+		}
+		if !worse(h.d2[w], h.ix[w], h.d2[c], h.ix[c]) {
+			break
+		}
+		h.d2[c], h.d2[w] = h.d2[w], h.d2[c]
+		h.ix[c], h.ix[w] = h.ix[w], h.ix[c]
+		c = w
+	}
+}
+
+// sorted writes the heap's indices into dst in ascending (d2, index) order,
+// destroying the heap.
+func (h *nbHeap) sorted(dst []int32) {
+	type c struct {
+		d float64
+		i int32
+	}
+	tmp := make([]c, len(h.d2))
+	for m := range tmp {
+		tmp[m] = c{h.d2[m], h.ix[m]}
+	}
+	sort.Slice(tmp, func(a, b int) bool { return worse(tmp[b].d, tmp[b].i, tmp[a].d, tmp[a].i) })
+	for m := range tmp {
+		dst[m] = tmp[m].i
+	}
+}
+
+// query finds the k nearest points to point q (q itself excluded) and
+// writes them into dst in ascending (distance, index) order.
+func (t *kdTree) query(q int, k int, h *nbHeap, dst []int32) {
+	h.reset(k)
+	qx, qy := t.y[2*q], t.y[2*q+1]
+	var walk func(id int32)
+	walk = func(id int32) {
+		nd := &t.nodes[id]
+		if h.full() {
+			dx := max(nd.minX-qx, 0, qx-nd.maxX)
+			dy := max(nd.minY-qy, 0, qy-nd.maxY)
+			if dx*dx+dy*dy > h.d2[0] {
+				return
+			}
+		}
+		if nd.left < 0 {
+			for _, p := range t.idx[nd.lo:nd.hi] {
+				if int(p) == q {
+					continue
+				}
+				dx, dy := t.y[2*p]-qx, t.y[2*p+1]-qy
+				h.push(dx*dx+dy*dy, p)
+			}
+			return
+		}
+		a, b := nd.left, nd.right
+		if boxDist2(&t.nodes[b], qx, qy) < boxDist2(&t.nodes[a], qx, qy) {
+			a, b = b, a
+		}
+		walk(a)
+		walk(b)
+	}
+	walk(0)
+	h.sorted(dst)
+}
+
+func boxDist2(nd *kdNode, qx, qy float64) float64 {
+	dx := max(nd.minX-qx, 0, qx-nd.maxX)
+	dy := max(nd.minY-qy, 0, qy-nd.maxY)
+	return dx*dx + dy*dy
+}
+
+// mapNeighbors returns the k nearest other points of each query point
+// (all points if queries is nil) in the 2-d layout y, row m for query m,
+// sorted by ascending distance with ties broken by the smaller index.
+func mapNeighbors(y []float64, k int, queries []int, threads int) []int32 {
+	t := newKDTree(y)
+	nq := len(y) / 2
+	if queries != nil {
+		nq = len(queries)
+	}
+	out := make([]int32, nq*k)
+	parallel(nq, threads, func(lo, hi int) {
+		var h nbHeap
+		for m := lo; m < hi; m++ {
+			q := m
+			if queries != nil {
+				q = queries[m]
+			}
+			t.query(q, k, &h, out[m*k:(m+1)*k])
+		}
+	})
+	return out
+}
+
+// chunk is the fixed number of items each parallel task handles; work is
+// split the same way whatever the thread count.
+const chunk = 32
+
+// parallel runs f over [0, n) in fixed chunks on up to threads goroutines
+// (0 means GOMAXPROCS). f must write only to per-item outputs.
+func parallel(n, threads int, f func(lo, hi int)) {
+	if threads <= 0 {
+		threads = runtime.GOMAXPROCS(0)
+	}
+	nChunks := (n + chunk - 1) / chunk
+	if threads > nChunks {
+		threads = nChunks
+	}
+	if threads <= 1 {
+		for lo := 0; lo < n; lo += chunk {
+			f(lo, min(lo+chunk, n))
+		}
+		return
+	}
+	next := make(chan int, nChunks)
+	for c := 0; c < nChunks; c++ {
+		next <- c
+	}
+	close(next)
+	var wg sync.WaitGroup
+	for w := 0; w < threads; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for c := range next {
+				lo := c * chunk
+				f(lo, min(lo+chunk, n))
+			}
+		}()
+	}
+	wg.Wait()
+}
