@@ -121,12 +121,8 @@ func Read(path string, opt Options) (*Dataset, error) {
 		}
 		ds, err = readColumnar(f, path, format, opt)
 		if err == nil {
-			if _, err2 := f.Seek(0, io.SeekStart); err2 != nil {
-				return nil, fmt.Errorf("dataset: %s: %w", path, err2)
-			}
-			if _, err2 := io.Copy(h, f); err2 != nil {
-				return nil, &InputError{File: path, Msg: "read error: " + err2.Error(), Err: err2}
-			}
+			// The Parquet reader closes f; hash the bytes from a fresh handle.
+			err = hashFile(h, path)
 		}
 	default:
 		ds, err = readText(f, h, path, format, gz, opt)
@@ -242,6 +238,19 @@ func (d *Dataset) CheckPerplexity(perplexity float64) error {
 	if float64(d.N-1) < 3*perplexity {
 		return &InputError{File: d.Source, Msg: fmt.Sprintf("%d points are too few for perplexity %g: t-SNE needs n − 1 ≥ 3·perplexity, so the largest perplexity allowed is %g",
 			d.N, perplexity, math.Floor(float64(d.N-1)/3*100)/100)}
+	}
+	return nil
+}
+
+// hashFile writes the bytes of the file at path into h.
+func hashFile(h hash.Hash, path string) error {
+	f, err := os.Open(path)
+	if err != nil {
+		return &InputError{File: path, Msg: openMessage(err), Err: err}
+	}
+	defer f.Close()
+	if _, err := io.Copy(h, f); err != nil {
+		return &InputError{File: path, Msg: "read error: " + err.Error(), Err: err}
 	}
 	return nil
 }
