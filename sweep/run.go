@@ -1,0 +1,537 @@
+package sweep
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"runtime"
+	"sort"
+	"sync"
+	"time"
+
+	"plumb/internal/dataset"
+	"plumb/tsne"
+)
+
+// Options controls how a sweep runs. None of them changes a result.
+type Options struct {
+	// Dir is the study directory (created if absent).
+	Dir string
+	// Input describes the input for study.json (see NewInput).
+	Input Input
+	// Version is the tool version written into every file.
+	Version string
+	// Shard selects this process's slice of the runs (zero value: all).
+	Shard Shard
+	// Jobs is the number of runs optimised at once and Threads the threads
+	// inside each. If both are 0, DefaultParallelism picks them; if one is
+	// 0 it is GOMAXPROCS divided by the other (at least 1).
+	Jobs, Threads int
+	// Force makes a directory holding another plan or input follow this
+	// sweep instead of refusing it (see MismatchError).
+	Force bool
+	// RetryFailed redoes runs recorded as failed; by default they count
+	// as finished.
+	RetryFailed bool
+	// Events, if not nil, receives what the sweep does (shared work,
+	// finished and failed runs). It is called from one goroutine at a time.
+	Events func(Event)
+}
+
+// EventKind says what an Event reports.
+type EventKind int
+
+// Event kinds.
+const (
+	// EventInfo: a message about the plan or shared work.
+	EventInfo EventKind = iota
+	// EventRunDone: a run finished and its files are written.
+	EventRunDone
+	// EventRunFailed: a run failed (Err says why) and was recorded.
+	EventRunFailed
+)
+
+// Event is a report from a running sweep.
+type Event struct {
+	Kind    EventKind
+	Message string
+	Run     *Run
+	Err     error
+	// Done, Failed and Todo count this shard's runs to do in this process
+	// (already finished ones excluded); Elapsed is the time since the runs
+	// started.
+	Done, Failed, Todo int
+	Elapsed            time.Duration
+}
+
+// Stats counts the work a sweep did; tests use it to prove the sharing.
+type Stats struct {
+	// NeighborBuilds is the number of times neighbour lists were searched
+	// (0 or 1 per sweep), with NeighborK neighbours per point.
+	NeighborBuilds, NeighborK int
+	// AffinityBuilds counts the affinity matrices built, by perplexity.
+	AffinityBuilds map[float64]int
+	// PCAInits counts PCA initialisations computed (0 or 1).
+	PCAInits int
+	// Planned runs in the plan, InShard in this shard; Skipped were found
+	// finished; Done and Failed were run now; Stopped were interrupted.
+	Planned, InShard, Skipped, Done, Failed, Stopped int
+}
+
+// Summary is the outcome of Execute.
+type Summary struct {
+	Stats Stats
+	// Jobs and Threads are the parallelism used.
+	Jobs, Threads int
+	// Complete is true when every run of the plan, in every shard, is
+	// finished; runs.parquet was then rebuilt.
+	Complete bool
+	// RunsTable is true if runs.parquet was (re)written.
+	RunsTable bool
+	// Canceled is true when the context was cancelled before all runs of
+	// the shard finished.
+	Canceled bool
+	Elapsed  time.Duration
+}
+
+// SmallN is the largest n for which DefaultParallelism runs one
+// single-threaded run per core; beyond it runs are multi-threaded.
+const SmallN = 20000
+
+// DefaultParallelism returns jobs × threads for n points, pending runs and
+// cores: for n ≤ SmallN one run per core, each single-threaded (runs are
+// independent, so this scales best); for larger n one run at a time using
+// every core (so memory stays at one run's workspace). Jobs never exceeds
+// pending.
+func DefaultParallelism(n, pending, cores int) (jobs, threads int) {
+	if cores < 1 {
+		cores = 1
+	}
+	if n > SmallN {
+		return 1, cores
+	}
+	jobs = min(cores, max(pending, 1))
+	return jobs, 1
+}
+
+func parallelism(opt Options, n, pending int) (int, int) {
+	cores := runtime.GOMAXPROCS(0)
+	jobs, threads := opt.Jobs, opt.Threads
+	switch {
+	case jobs <= 0 && threads <= 0:
+		return DefaultParallelism(n, pending, cores)
+	case jobs <= 0:
+		jobs = max(1, cores/threads)
+	case threads <= 0:
+		threads = max(1, cores/jobs)
+	}
+	return jobs, threads
+}
+
+// Validate checks the plan against the data before any work: the largest
+// perplexity must suit n.
+func Validate(p *Plan, ds *dataset.Dataset) error {
+	if err := ds.CheckPerplexity(p.MaxPerplexity()); err != nil {
+		return err
+	}
+	return nil
+}
+
+// neighborsMode resolves the plan's neighbour search for n points.
+func neighborsMode(mode string, n int) string {
+	if mode == "auto" {
+		if n <= ApproxMinN {
+			return "exact"
+		}
+		return "approx"
+	}
+	return mode
+}
+
+// ApproxMinN is the largest n for which "auto" neighbour search is exact.
+const ApproxMinN = 100000
+
+// neighborSeed seeds the approximate neighbour search. It is fixed, so
+// every shard builds the same lists.
+const neighborSeed = 0x706c756d62
+
+// shared holds the work every run of a sweep reuses.
+type shared struct {
+	mu      sync.Mutex
+	ds      *dataset.Dataset
+	plan    *Plan
+	threads int
+	nb      *tsne.Neighbors
+	nbOnce  sync.Once
+	nbErr   error
+	pca     []float64
+	pcaOnce sync.Once
+	pcaErr  error
+	aff     map[float64]*affEntry
+	stats   *Stats
+	event   func(Event)
+}
+
+type affEntry struct {
+	once    sync.Once
+	p       *tsne.Sparse
+	err     error
+	pending int
+}
+
+func (sh *shared) neighbors() (*tsne.Neighbors, error) {
+	sh.nbOnce.Do(func() {
+		// k for the largest perplexity of the whole plan (not of this
+		// shard), so every shard truncates the same lists.
+		k := tsne.NeighborCount(sh.ds.N, sh.plan.MaxPerplexity())
+		mode := neighborsMode(sh.plan.Neighbors, sh.ds.N)
+		t0 := time.Now()
+		sh.nb, sh.nbErr = searchNeighbors(mode, sh.ds.X, sh.ds.N, sh.ds.D, k, sh.threads)
+		if sh.nbErr != nil {
+			sh.nbErr = fmt.Errorf("neighbours (k=%d): %w", k, sh.nbErr)
+			return
+		}
+		sh.mu.Lock()
+		sh.stats.NeighborBuilds++
+		sh.stats.NeighborK = k
+		sh.mu.Unlock()
+		sh.info(fmt.Sprintf("shared: %s neighbours, k=%d for perplexity up to %s, built once in %s",
+			mode, k, formatFloat(sh.plan.MaxPerplexity()), round(time.Since(t0))))
+	})
+	return sh.nb, sh.nbErr
+}
+
+func (sh *shared) affinities(perp float64) (*tsne.Sparse, error) {
+	sh.mu.Lock()
+	e := sh.aff[perp]
+	sh.mu.Unlock()
+	e.once.Do(func() {
+		nb, err := sh.neighbors()
+		if err != nil {
+			e.err = err
+			return
+		}
+		k := tsne.NeighborCount(sh.ds.N, perp)
+		t0 := time.Now()
+		e.p, e.err = tsne.Affinities(nb.Truncate(k), perp, sh.threads)
+		if e.err != nil {
+			e.err = fmt.Errorf("affinities (perplexity %s): %w", formatFloat(perp), e.err)
+			return
+		}
+		sh.mu.Lock()
+		sh.stats.AffinityBuilds[perp]++
+		n := e.pending
+		sh.mu.Unlock()
+		sh.info(fmt.Sprintf("shared: affinities for perplexity %s (k=%d) built once in %s, used by %d runs",
+			formatFloat(perp), k, round(time.Since(t0)), n))
+	})
+	return e.p, e.err
+}
+
+// release drops a reference to the perplexity's P; the last run frees it.
+func (sh *shared) release(perp float64) {
+	sh.mu.Lock()
+	defer sh.mu.Unlock()
+	e := sh.aff[perp]
+	e.pending--
+	if e.pending == 0 {
+		e.p = nil
+	}
+}
+
+func (sh *shared) pcaInit() ([]float64, error) {
+	sh.pcaOnce.Do(func() {
+		sh.pca, sh.pcaErr = tsne.PCAInit(sh.ds.X, sh.ds.N, sh.ds.D)
+		if sh.pcaErr != nil {
+			sh.pcaErr = fmt.Errorf("PCA initialisation: %w", sh.pcaErr)
+			return
+		}
+		sh.mu.Lock()
+		sh.stats.PCAInits++
+		sh.mu.Unlock()
+		sh.info("shared: PCA initialisation computed once")
+	})
+	return sh.pca, sh.pcaErr
+}
+
+func (sh *shared) info(msg string) {
+	if sh.event != nil {
+		sh.event(Event{Kind: EventInfo, Message: msg})
+	}
+}
+
+func round(d time.Duration) time.Duration {
+	if d > time.Second {
+		return d.Round(10 * time.Millisecond)
+	}
+	return d.Round(time.Millisecond)
+}
+
+// Execute runs the plan's runs of opt.Shard on ds into opt.Dir, skipping runs
+// already finished there (verified: record, trace and layout decode and
+// match the plan hash, input fingerprint and run id). Neighbours are
+// searched once for the largest perplexity of the plan and truncated for
+// the others; P is built once per perplexity that has runs to do, the PCA
+// initialisation once. A run that fails (for example diverges) is recorded
+// as failed and the sweep goes on; an error is returned only for problems
+// that stop the whole sweep (the directory, the shared work).
+//
+// Cancelling ctx stops the runs in flight (their files are not written);
+// finished runs stay. When every run of the plan is finished — or when the
+// sweep is not sharded — runs.parquet is rebuilt from the records.
+func Execute(ctx context.Context, ds *dataset.Dataset, plan *Plan, opt Options) (*Summary, error) {
+	if err := Validate(plan, ds); err != nil {
+		return nil, err
+	}
+	runs, err := plan.Runs()
+	if err != nil {
+		return nil, err
+	}
+	info := &Info{Format: studyFormat, Version: opt.Version, Created: nowUTC(), PlanHash: plan.Hash(),
+		Plan: plan, Input: opt.Input, Settings: plan.NumSettings(), Runs: len(runs)}
+	if info.Input.Fingerprint == "" {
+		info.Input.Fingerprint = ds.Fingerprint
+		info.Input.N, info.Input.D = ds.N, ds.D
+	}
+	if info.Input.Fingerprint != ds.Fingerprint || info.Input.N != ds.N {
+		return nil, fmt.Errorf("sweep: Options.Input does not describe the dataset")
+	}
+	if err := prepare(opt.Dir, info, runs, opt.Force); err != nil {
+		return nil, err
+	}
+	mine := opt.Shard.Select(runs)
+	stats := Stats{AffinityBuilds: map[float64]int{}, Planned: len(runs), InShard: len(mine)}
+	var todo []*Run
+	for _, r := range mine {
+		rec := verify(opt.Dir, info, r)
+		if rec != nil && !(opt.RetryFailed && rec.Status == StatusFailed) {
+			stats.Skipped++
+			continue
+		}
+		cleanTemps(opt.Dir, r.ID)
+		todo = append(todo, r)
+	}
+	jobs, threads := parallelism(opt, ds.N, len(todo))
+	sum := &Summary{Jobs: jobs, Threads: threads}
+	emit := func(e Event) {}
+	var emitMu sync.Mutex
+	if opt.Events != nil {
+		emit = func(e Event) {
+			emitMu.Lock()
+			defer emitMu.Unlock()
+			opt.Events(e)
+		}
+	}
+	emit(Event{Kind: EventInfo, Message: fmt.Sprintf("plan %s: %d settings × %d seeds = %d runs; %s: %d runs, %d already finished, %d to do (%d jobs × %d threads)",
+		info.PlanHash, plan.NumSettings(), len(plan.Seeds), len(runs), opt.Shard, len(mine), stats.Skipped, len(todo), jobs, threads)})
+
+	sh := &shared{ds: ds, plan: plan, threads: jobs * threads, aff: map[float64]*affEntry{}, stats: &stats, event: emit}
+	for _, perp := range plan.Perplexity {
+		sh.aff[perp] = &affEntry{}
+	}
+	for _, r := range todo {
+		sh.aff[r.Setting.Perplexity].pending++
+	}
+	start := time.Now()
+	var (
+		mu     sync.Mutex
+		next   int
+		fatal  error
+		wg     sync.WaitGroup
+		counts struct{ done, failed int }
+	)
+	work := func() {
+		defer wg.Done()
+		for {
+			mu.Lock()
+			if next >= len(todo) || fatal != nil || ctx.Err() != nil {
+				mu.Unlock()
+				return
+			}
+			r := todo[next]
+			next++
+			mu.Unlock()
+			rec, err := sh.runOne(ctx, opt, info, r, threads)
+			sh.release(r.Setting.Perplexity)
+			mu.Lock()
+			switch {
+			case err != nil && errors.Is(err, errShared):
+				if fatal == nil {
+					fatal = err
+				}
+			case err != nil:
+				// Stopped by cancellation, or files could not be written.
+				if ctx.Err() != nil {
+					stats.Stopped++
+				} else if fatal == nil {
+					fatal = err
+				}
+			case rec.Status == StatusDone:
+				counts.done++
+				stats.Done++
+				emit(Event{Kind: EventRunDone, Run: r, Done: counts.done, Failed: counts.failed, Todo: len(todo), Elapsed: time.Since(start)})
+			default:
+				counts.failed++
+				stats.Failed++
+				emit(Event{Kind: EventRunFailed, Run: r, Err: errors.New(rec.Error), Done: counts.done, Failed: counts.failed, Todo: len(todo), Elapsed: time.Since(start)})
+			}
+			mu.Unlock()
+		}
+	}
+	if len(todo) > 0 {
+		wg.Add(jobs)
+		for i := 0; i < jobs; i++ {
+			go work()
+		}
+		wg.Wait()
+	}
+	sum.Elapsed = time.Since(start)
+	sum.Stats = stats
+	if fatal != nil {
+		return sum, unwrapShared(fatal)
+	}
+	sum.Canceled = ctx.Err() != nil && stats.Done+stats.Failed < len(todo)
+	sum.Complete = true
+	for _, r := range runs {
+		if _, err := os.Stat(recordPath(opt.Dir, r.ID)); err != nil {
+			sum.Complete = false
+			break
+		}
+	}
+	if sum.Complete || opt.Shard.Whole() {
+		if _, err := writeRunsTable(opt.Dir, info, runs); err != nil {
+			return sum, err
+		}
+		sum.RunsTable = true
+	}
+	if sum.Complete {
+		// Records exist for all runs; make sure they are valid ones.
+		for _, r := range runs {
+			if _, err := readRecord(opt.Dir, info, r); err != nil {
+				sum.Complete = false
+				break
+			}
+		}
+	}
+	return sum, nil
+}
+
+// errShared marks failures of the shared work, which stop the sweep.
+var errShared = errors.New("shared work failed")
+
+type sharedErr struct{ err error }
+
+func (e *sharedErr) Error() string { return e.err.Error() }
+func (e *sharedErr) Is(t error) bool {
+	return t == errShared
+}
+func (e *sharedErr) Unwrap() error { return e.err }
+
+func unwrapShared(err error) error {
+	var s *sharedErr
+	if errors.As(err, &s) {
+		return s.err
+	}
+	return err
+}
+
+// runOne optimises one run and writes its files. It returns the record
+// written, or an error if the run was stopped, the shared work failed or
+// the files could not be written.
+func (sh *shared) runOne(ctx context.Context, opt Options, info *Info, r *Run, threads int) (rec *Record, err error) {
+	s := r.Setting
+	p, err := sh.affinities(s.Perplexity)
+	if err != nil {
+		return nil, &sharedErr{err}
+	}
+	var init []float64
+	if s.Init == "pca" {
+		if init, err = sh.pcaInit(); err != nil {
+			return nil, &sharedErr{err}
+		}
+	} else {
+		init = tsne.RandomInit(sh.ds.N, r.Seed)
+	}
+	cfg := runConfig(s, threads, sh.plan.KLEvery)
+	cfg.Progress = func(tsne.Progress) bool { return ctx.Err() == nil }
+	rec = &Record{RunID: r.ID, SettingID: s.ID, Seed: r.Seed, PlanHash: info.PlanHash,
+		InputFingerprint: info.Input.Fingerprint,
+		LearningRate:     cfg.LearningRate, Gradient: string(resolveGradient(s.Gradient, sh.ds.N))}
+	if rec.LearningRate == 0 {
+		rec.LearningRate = tsne.LearningRateAuto(sh.ds.N, cfg.Exaggeration)
+	}
+	t0 := time.Now()
+	res, oerr := optimize(p, init, cfg)
+	rec.Seconds = math.Round(time.Since(t0).Seconds()*1000) / 1000
+	if oerr != nil && (errors.Is(oerr, tsne.ErrStopped) || ctx.Err() != nil) {
+		return nil, fmt.Errorf("run %s: %w", r.ID, oerr)
+	}
+	if oerr != nil {
+		rec.Status = StatusFailed
+		rec.Error = oerr.Error()
+		var de *tsne.DivergedError
+		if errors.As(oerr, &de) {
+			rec.IterationsDone = de.Iter
+		}
+	} else {
+		rec.Status = StatusDone
+		kl := res.KL
+		rec.KL = &kl
+		rec.IterationsDone = res.Iters
+		rec.LearningRate = res.LearningRate
+		rec.Gradient = string(res.Method)
+	}
+	if err := writeRun(opt.Dir, info, sh.ds, r, res, rec); err != nil {
+		return nil, fmt.Errorf("run %s: %w", r.ID, err)
+	}
+	return rec, nil
+}
+
+// optimize calls tsne.Optimize, turning a panic into an error so that one
+// broken run cannot take the sweep down.
+func optimize(p *tsne.Sparse, init []float64, cfg tsne.Config) (res *tsne.Result, err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			res, err = nil, fmt.Errorf("internal error: %v", r)
+		}
+	}()
+	return tsne.Optimize(p, init, cfg)
+}
+
+// runConfig is the engine configuration of a setting.
+func runConfig(s *Setting, threads, klEvery int) tsne.Config {
+	cfg := tsne.Config{
+		LearningRate:      s.LearningRate,
+		Exaggeration:      s.Exaggeration,
+		ExaggerationIters: s.ExaggerationIters,
+		Iters:             s.Iters,
+		Method:            tsne.Method(s.Gradient),
+		Theta:             s.Theta,
+		Threads:           threads,
+		KLEvery:           klEvery,
+	}
+	return cfg
+}
+
+func resolveGradient(g string, n int) tsne.Method {
+	if g == "auto" || g == "" {
+		return tsne.AutoMethod(n)
+	}
+	return tsne.Method(g)
+}
+
+// perplexities returns the distinct perplexities of runs, ascending.
+func perplexities(runs []*Run) []float64 {
+	seen := map[float64]bool{}
+	var out []float64
+	for _, r := range runs {
+		if !seen[r.Setting.Perplexity] {
+			seen[r.Setting.Perplexity] = true
+			out = append(out, r.Setting.Perplexity)
+		}
+	}
+	sort.Float64s(out)
+	return out
+}

@@ -1,0 +1,228 @@
+package sweep
+
+import (
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+
+	"plumb/internal/pq"
+)
+
+// Files of the scores/ directory.
+const (
+	ScoreRunsFile     = "runs.parquet"
+	ScoreSettingsFile = "settings.parquet"
+	ScorePointsFile   = "points.parquet"
+	ScorePairsFile    = "pairs.parquet"
+)
+
+// spreadColumns are the per-setting statistics, in column order; each
+// becomes NAME_median and NAME_iqr.
+var spreadColumns = []string{"disparity", "jaccard", "pair_spearman", "trustworthiness", "continuity",
+	"knn_recall", "distance_spearman", "label_accuracy", "label_purity", "kl"}
+
+func (ss *SettingScore) spreads() []*Spread {
+	return []*Spread{&ss.Disparity, &ss.Jaccard, &ss.PairSpearman, &ss.Trustworthiness, &ss.Continuity,
+		&ss.KNNRecall, &ss.DistSpearman, &ss.LabelAccuracy, &ss.LabelPurity, &ss.KL}
+}
+
+// nullable returns a nullable float column, NaN entries null.
+func nullable(name string, v []float64) pq.Column {
+	valid := make([]bool, len(v))
+	for i, x := range v {
+		valid[i] = !math.IsNaN(x)
+	}
+	return pq.Column{Name: name, Values: v, Nullable: true, Valid: allTrueNil(valid)}
+}
+
+func scoresPath(dir, name string) string { return filepath.Join(dir, ScoresDir, name) }
+
+func scoreMeta(info *Info, table string, k int) map[string]string {
+	m := baseMeta(info, table)
+	m[MetaK] = strconv.Itoa(k)
+	return m
+}
+
+func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings []SettingScore, points []PointScore, pairs []PairScore) error {
+	if err := os.MkdirAll(filepath.Join(dir, ScoresDir), 0o755); err != nil {
+		return err
+	}
+	// runs
+	{
+		n := len(runs)
+		id, sid := make([]string, n), make([]string, n)
+		tw, co, kr, ds, la, lp, kl := make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
+		kk, sa := make([]int32, n), make([]int32, n)
+		for i, r := range runs {
+			id[i], sid[i] = r.RunID, r.SettingID
+			tw[i], co[i], kr[i], ds[i], la[i], lp[i], kl[i] = r.Trustworthiness, r.Continuity, r.KNNRecall, r.DistSpearman, r.LabelAccuracy, r.LabelPurity, r.KL
+			kk[i], sa[i] = int32(r.K), int32(r.Sampled)
+		}
+		t := &pq.Table{Meta: scoreMeta(info, "scores.runs", k), Columns: []pq.Column{
+			{Name: "run_id", Values: id}, {Name: "setting_id", Values: sid},
+			{Name: "trustworthiness", Values: tw}, {Name: "continuity", Values: co}, {Name: "knn_recall", Values: kr},
+			{Name: "distance_spearman", Values: ds}, nullable("label_accuracy", la), nullable("label_purity", lp),
+			{Name: "k", Values: kk}, {Name: "sampled", Values: sa}, {Name: "kl", Values: kl}}}
+		if err := pq.Write(scoresPath(dir, ScoreRunsFile), t); err != nil {
+			return err
+		}
+	}
+	// settings
+	{
+		n := len(settings)
+		sid, lrs, init, grad := make([]string, n), make([]string, n), make([]string, n), make([]string, n)
+		perp, lr, ex, th, share := make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
+		ei, it, done, failed := make([]int32, n), make([]int32, n), make([]int32, n), make([]int32, n)
+		stats := make([][]float64, 2*len(spreadColumns))
+		for j := range stats {
+			stats[j] = make([]float64, n)
+		}
+		for i := range settings {
+			s := &settings[i]
+			sid[i], lrs[i], init[i], grad[i] = s.ID, s.LearningRateSpec(), s.Init, s.Gradient
+			perp[i], lr[i], ex[i], th[i], share[i] = s.Perplexity, s.LearningRate, s.Exaggeration, s.Theta, s.UnstableShare
+			if lr[i] == 0 {
+				lr[i] = math.NaN()
+			}
+			ei[i], it[i], done[i], failed[i] = int32(s.ExaggerationIters), int32(s.Iters), int32(s.RunsDone), int32(s.RunsFailed)
+			for j, sp := range s.spreads() {
+				stats[2*j][i], stats[2*j+1][i] = sp.Median, sp.IQR
+			}
+		}
+		cols := []pq.Column{{Name: "setting_id", Values: sid}, {Name: "perplexity", Values: perp},
+			nullable("learning_rate", lr), {Name: "learning_rate_spec", Values: lrs}, {Name: "exaggeration", Values: ex},
+			{Name: "exaggeration_iters", Values: ei}, {Name: "iters", Values: it}, {Name: "init", Values: init},
+			{Name: "gradient", Values: grad}, {Name: "theta", Values: th},
+			{Name: "runs_done", Values: done}, {Name: "runs_failed", Values: failed}}
+		for j, name := range spreadColumns {
+			cols = append(cols, nullable(name+"_median", stats[2*j]), nullable(name+"_iqr", stats[2*j+1]))
+		}
+		cols = append(cols, nullable("unstable_share", share))
+		if err := pq.Write(scoresPath(dir, ScoreSettingsFile), &pq.Table{Meta: scoreMeta(info, "scores.settings", k), Columns: cols}); err != nil {
+			return err
+		}
+	}
+	// points
+	{
+		n := len(points)
+		sid, id := make([]string, n), make([]string, n)
+		pt := make([]int32, n)
+		sp, cx, cy := make([]float64, n), make([]float64, n), make([]float64, n)
+		un := make([]bool, n)
+		for i, p := range points {
+			sid[i], id[i], pt[i], sp[i], un[i], cx[i], cy[i] = p.SettingID, p.ID, int32(p.Point), p.Spread, p.Unstable, p.ConsensusX, p.ConsensusY
+		}
+		t := &pq.Table{Meta: scoreMeta(info, "scores.points", k), Columns: []pq.Column{
+			{Name: "setting_id", Values: sid}, {Name: "point", Values: pt}, {Name: "id", Values: id},
+			{Name: "spread", Values: sp}, {Name: "unstable", Values: un},
+			{Name: "consensus_x", Values: cx}, {Name: "consensus_y", Values: cy}}}
+		if err := pq.Write(scoresPath(dir, ScorePointsFile), t); err != nil {
+			return err
+		}
+	}
+	// pairs
+	{
+		n := len(pairs)
+		sid, a, b := make([]string, n), make([]string, n), make([]string, n)
+		di, ja, ds := make([]float64, n), make([]float64, n), make([]float64, n)
+		for i, p := range pairs {
+			sid[i], a[i], b[i], di[i], ja[i], ds[i] = p.SettingID, p.RunA, p.RunB, p.Disparity, p.Jaccard, p.DistSpearman
+		}
+		t := &pq.Table{Meta: scoreMeta(info, "scores.pairs", k), Columns: []pq.Column{
+			{Name: "setting_id", Values: sid}, {Name: "run_a", Values: a}, {Name: "run_b", Values: b},
+			{Name: "disparity", Values: di}, {Name: "jaccard", Values: ja}, {Name: "distance_spearman", Values: ds}}}
+		if err := pq.Write(scoresPath(dir, ScorePairsFile), t); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// readScores loads the score tables if scores/settings.parquet exists.
+func (s *Study) readScores() error {
+	if _, err := os.Stat(scoresPath(s.Dir, ScoreSettingsFile)); err != nil {
+		return nil
+	}
+	// runs
+	c, err := readTable(scoresPath(s.Dir, ScoreRunsFile))
+	if err != nil {
+		return err
+	}
+	if k, err := strconv.Atoi(c.t.Meta[MetaK]); err == nil {
+		s.ScoresK = k
+	}
+	{
+		id, sid := c.str("run_id"), c.str("setting_id")
+		tw, co, kr, ds := c.f64("trustworthiness"), c.f64("continuity"), c.f64("knn_recall"), c.f64("distance_spearman")
+		la, lp, kk, sa, kl := c.f64("label_accuracy"), c.f64("label_purity"), c.i32("k"), c.i32("sampled"), c.f64("kl")
+		if c.err != nil {
+			return c.err
+		}
+		s.RunScores = make([]RunScore, len(id))
+		for i := range id {
+			s.RunScores[i] = RunScore{RunID: id[i], SettingID: sid[i], Trustworthiness: tw[i], Continuity: co[i],
+				KNNRecall: kr[i], DistSpearman: ds[i], LabelAccuracy: la[i], LabelPurity: lp[i], K: int(kk[i]),
+				Sampled: int(sa[i]), KL: kl[i]}
+		}
+	}
+	// settings
+	if c, err = readTable(scoresPath(s.Dir, ScoreSettingsFile)); err != nil {
+		return err
+	}
+	{
+		sid := c.str("setting_id")
+		done, failed, share := c.i32("runs_done"), c.i32("runs_failed"), c.f64("unstable_share")
+		stats := make([][]float64, 2*len(spreadColumns))
+		for j, name := range spreadColumns {
+			stats[2*j], stats[2*j+1] = c.f64(name+"_median"), c.f64(name+"_iqr")
+		}
+		if c.err != nil {
+			return c.err
+		}
+		s.SettingScores = make([]SettingScore, len(sid))
+		for i := range sid {
+			ss := &s.SettingScores[i]
+			if st := s.Setting(sid[i]); st != nil {
+				ss.Setting = *st
+			} else {
+				ss.Setting.ID = sid[i]
+			}
+			ss.RunsDone, ss.RunsFailed, ss.UnstableShare = int(done[i]), int(failed[i]), share[i]
+			for j, sp := range ss.spreads() {
+				sp.Median, sp.IQR = stats[2*j][i], stats[2*j+1][i]
+			}
+		}
+	}
+	// points
+	if c, err = readTable(scoresPath(s.Dir, ScorePointsFile)); err != nil {
+		return err
+	}
+	{
+		sid, pt, id := c.str("setting_id"), c.i32("point"), c.str("id")
+		sp, un, cx, cy := c.f64("spread"), c.boolean("unstable"), c.f64("consensus_x"), c.f64("consensus_y")
+		if c.err != nil {
+			return c.err
+		}
+		s.Points = make([]PointScore, len(sid))
+		for i := range sid {
+			s.Points[i] = PointScore{SettingID: sid[i], Point: int(pt[i]), ID: id[i], Spread: sp[i], Unstable: un[i], ConsensusX: cx[i], ConsensusY: cy[i]}
+		}
+	}
+	// pairs
+	if c, err = readTable(scoresPath(s.Dir, ScorePairsFile)); err != nil {
+		return err
+	}
+	{
+		sid, a, b := c.str("setting_id"), c.str("run_a"), c.str("run_b")
+		di, ja, ds := c.f64("disparity"), c.f64("jaccard"), c.f64("distance_spearman")
+		if c.err != nil {
+			return c.err
+		}
+		s.Pairs = make([]PairScore, len(sid))
+		for i := range sid {
+			s.Pairs[i] = PairScore{SettingID: sid[i], RunA: a[i], RunB: b[i], Disparity: di[i], Jaccard: ja[i], DistSpearman: ds[i]}
+		}
+	}
+	return nil
+}
