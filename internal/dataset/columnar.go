@@ -14,14 +14,36 @@ import (
 	"github.com/apache/arrow-go/v18/arrow/array"
 	"github.com/apache/arrow-go/v18/arrow/ipc"
 	"github.com/apache/arrow-go/v18/arrow/memory"
+	"github.com/apache/arrow-go/v18/parquet"
 	"github.com/apache/arrow-go/v18/parquet/file"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 )
 
-// readColumnar reads a Parquet or Arrow IPC (file or stream) table. Any
-// panic inside the Arrow and Parquet readers (they may panic on corrupt
-// input) is turned into an *InputError.
-func readColumnar(f *os.File, path, format string, opt Options) (ds *Dataset, err error) {
+// source is what the Parquet and Arrow readers need: an *os.File or, in
+// tests, a *bytes.Reader.
+type source interface {
+	io.Reader
+	io.ReaderAt
+	io.Seeker
+}
+
+// readColumnarFile reads a Parquet or Arrow IPC (file or stream) table
+// from an open file.
+func readColumnarFile(f *os.File, path, format string, opt Options) (*Dataset, error) {
+	st, err := f.Stat()
+	if err != nil {
+		return nil, &InputError{File: path, Msg: "cannot stat: " + err.Error(), Err: err}
+	}
+	if st.IsDir() {
+		return nil, &InputError{File: path, Msg: "is a directory, not a file"}
+	}
+	return readColumnar(f, st.Size(), path, format, opt)
+}
+
+// readColumnar reads a Parquet or Arrow IPC table of size bytes from r.
+// Any panic inside the Arrow and Parquet readers (they may panic on
+// corrupt input) is turned into an *InputError.
+func readColumnar(r source, size int64, path, format string, opt Options) (ds *Dataset, err error) {
 	kind := "Parquet"
 	if format == "arrow" {
 		kind = "Arrow IPC"
@@ -31,30 +53,23 @@ func readColumnar(f *os.File, path, format string, opt Options) (ds *Dataset, er
 			ds, err = nil, &InputError{File: path, Msg: fmt.Sprintf("corrupt or truncated %s file (the reader failed: %v)", kind, r)}
 		}
 	}()
-	st, err := f.Stat()
-	if err != nil {
-		return nil, &InputError{File: path, Msg: "cannot stat: " + err.Error(), Err: err}
-	}
-	if st.IsDir() {
-		return nil, &InputError{File: path, Msg: "is a directory, not a file"}
-	}
-	if st.Size() == 0 {
+	if size == 0 {
 		return nil, &InputError{File: path, Msg: "empty file"}
 	}
-	mem := memory.NewGoAllocator()
+	mem := allocatorFor(size)
 	if format == "parquet" {
-		return readParquet(f, path, opt, mem)
+		return readParquet(r, path, opt, mem)
 	}
-	return readArrow(f, path, opt, mem)
+	return readArrow(r, path, size, opt, mem)
 }
 
 func corrupt(path, kind string, err error) error {
 	return &InputError{File: path, Msg: fmt.Sprintf("corrupt or truncated %s file: %v", kind, err), Err: err}
 }
 
-func readParquet(f *os.File, path string, opt Options, mem memory.Allocator) (*Dataset, error) {
+func readParquet(f source, path string, opt Options, mem memory.Allocator) (*Dataset, error) {
 	const kind = "Parquet"
-	pf, err := file.NewParquetReader(f)
+	pf, err := file.NewParquetReader(f, file.WithReadProps(parquet.NewReaderProperties(mem)))
 	if err != nil {
 		return nil, corrupt(path, kind, err)
 	}
@@ -119,7 +134,7 @@ var (
 	featherV1Magic = []byte("FEA1")
 )
 
-func readArrow(f *os.File, path string, opt Options, mem memory.Allocator) (*Dataset, error) {
+func readArrow(f source, path string, size int64, opt Options, mem memory.Allocator) (*Dataset, error) {
 	const kind = "Arrow IPC"
 	head := make([]byte, 6)
 	n, _ := io.ReadFull(f, head)
@@ -130,8 +145,13 @@ func readArrow(f *os.File, path string, opt Options, mem memory.Allocator) (*Dat
 	if bytes.HasPrefix(head, featherV1Magic) {
 		return nil, &InputError{File: path, Msg: "Feather version 1 files are not supported; write Feather version 2 (Arrow IPC file)"}
 	}
-	if bytes.Equal(head, arrowFileMagic) {
-		fr, err := ipc.NewFileReader(f, ipc.WithAllocator(mem))
+	isFile := bytes.Equal(head, arrowFileMagic)
+	if err := checkArrowSchema(f, size, isFile); err != nil {
+		return nil, corrupt(path, kind, err)
+	}
+	limits := []ipc.Option{ipc.WithAllocator(mem), ipc.WithMetadataSizeLimit(maxMetadata), ipc.WithBodySizeLimit(size)}
+	if isFile {
+		fr, err := ipc.NewFileReader(f, limits...)
 		if err != nil {
 			return nil, corrupt(path, kind, err)
 		}
@@ -157,7 +177,7 @@ func readArrow(f *os.File, path string, opt Options, mem memory.Allocator) (*Dat
 		}
 		return b.dataset(), nil
 	}
-	r, err := ipc.NewReader(f, ipc.WithAllocator(mem))
+	r, err := ipc.NewReader(f, limits...)
 	if err != nil {
 		return nil, corrupt(path, kind, err)
 	}

@@ -1,6 +1,7 @@
 package dataset
 
 import (
+	"bytes"
 	"errors"
 	"math"
 	"os"
@@ -130,23 +131,27 @@ func TestReadBadColumnar(t *testing.T) {
 // data set — never a panic (common practice: robustness of binary readers).
 func TestColumnarDamage(t *testing.T) {
 	dir := t.TempDir()
-	for _, name := range []string{"good.parquet"} {
+	for _, name := range []string{"good.parquet", "good.arrow", "good.arrows"} {
 		data, err := os.ReadFile(in(name))
 		if err != nil {
 			t.Fatal(err)
 		}
 		path := filepath.Join(dir, name)
+		format := "parquet"
+		if !strings.HasSuffix(name, ".parquet") {
+			format = "arrow"
+		}
 		try := func(b []byte, what string) {
-			if err := os.WriteFile(path, b, 0o644); err != nil {
-				t.Fatal(err)
-			}
-			ds, err := Read(path, goodOpt)
+			ds, err := readColumnar(bytes.NewReader(b), int64(len(b)), path, format, goodOpt)
 			if err != nil {
 				var ie *InputError
 				if !errors.As(err, &ie) || strings.ContainsAny(err.Error(), "\n\r") {
 					t.Fatalf("%s %s: got %T %q, want a one-line *InputError", name, what, err, err)
 				}
 				return
+			}
+			if err := ds.prepare(goodOpt); err != nil {
+				t.Fatal(err)
 			}
 			checkConsistent(t, ds)
 		}

@@ -119,7 +119,7 @@ func Read(path string, opt Options) (*Dataset, error) {
 		if gz {
 			return nil, &InputError{File: path, Msg: "compressed (.gz) Parquet or Arrow files are not supported; use the format's own compression"}
 		}
-		ds, err = readColumnar(f, path, format, opt)
+		ds, err = readColumnarFile(f, path, format, opt)
 		if err == nil {
 			// The Parquet reader closes f; hash the bytes from a fresh handle.
 			err = hashFile(h, path)
