@@ -191,7 +191,8 @@ func gradBenchKNNP(x []float64, n, d, k int) *Sparse {
 }
 
 func BenchmarkGradient(b *testing.B) {
-	sizes := []int{10000}
+	// n = 1000 shows where AutoMethod's exact/Barnes-Hut threshold sits.
+	sizes := []int{1000, 10000}
 	if longTests() {
 		sizes = append(sizes, 100000)
 	}
