@@ -2,6 +2,7 @@ package tsne_test
 
 import (
 	"encoding/csv"
+	"fmt"
 	"os"
 	"path/filepath"
 	"plumb/tsne"
@@ -20,17 +21,25 @@ type qualityData struct {
 // column labelCol holds the labels, every other column is a feature.
 func readLabelled(t testing.TB, name, labelCol string) qualityData {
 	t.Helper()
-	f, err := os.Open(filepath.Join("..", "testdata", name))
+	q, err := loadLabelled(name, labelCol)
 	if err != nil {
 		t.Fatal(err)
+	}
+	return q
+}
+
+func loadLabelled(name, labelCol string) (qualityData, error) {
+	var q qualityData
+	f, err := os.Open(filepath.Join("..", "testdata", name))
+	if err != nil {
+		return q, err
 	}
 	defer f.Close()
 	rows, err := csv.NewReader(f).ReadAll()
 	if err != nil {
-		t.Fatal(err)
+		return q, err
 	}
 	head := rows[0]
-	var q qualityData
 	for r, row := range rows[1:] {
 		for c, cell := range row {
 			switch head[c] {
@@ -40,7 +49,7 @@ func readLabelled(t testing.TB, name, labelCol string) qualityData {
 			default:
 				v, err := strconv.ParseFloat(cell, 64)
 				if err != nil {
-					t.Fatalf("%s: row %d, column %d: %v", name, r+2, c+1, err)
+					return q, fmt.Errorf("%s: row %d, column %d: %v", name, r+2, c+1, err)
 				}
 				q.x = append(q.x, v)
 			}
@@ -48,7 +57,7 @@ func readLabelled(t testing.TB, name, labelCol string) qualityData {
 	}
 	q.n = len(rows) - 1
 	q.d = len(q.x) / q.n
-	return q
+	return q, nil
 }
 
 // mapNeighbours returns the k nearest map neighbours of point i (self
