@@ -591,6 +591,48 @@ func ExampleAffinities() {
 	// 5: 1=0.0003 2=0.0010 3=0.0082 4=0.0834
 }
 
+func ExampleConditionalAffinities() {
+	// Four points on a line, perplexity 2 (k = min(n − 1, 6) = 3): β is
+	// found by bisection so that each row's entropy is ln 2 = 0.69315 nats
+	// within 1e-5.
+	x := []float64{0, 1, 3, 6}
+	nb, err := ExactNeighbors(x, 4, 1, 3, 1)
+	if err != nil {
+		panic(err)
+	}
+	c, err := ConditionalAffinities(nb, 2, 1)
+	if err != nil {
+		panic(err)
+	}
+	for i := 0; i < c.N; i++ {
+		row := c.P[i*c.K : (i+1)*c.K]
+		fmt.Printf("%d: neighbours %v p %.4f β %.4f H %.5f\n", i, c.Index[i*c.K:(i+1)*c.K], row, c.Beta[i], afftEntropy(row))
+	}
+	// Output:
+	// 0: neighbours [1 2 3] p [0.6839 0.2980 0.0181] β 0.1038 H 0.69315
+	// 1: neighbours [0 2 3] p [0.6320 0.3609 0.0071] β 0.1868 H 0.69315
+	// 2: neighbours [1 0 3] p [0.7729 0.1135 0.1135] β 0.3836 H 0.69315
+	// 3: neighbours [2 1 0] p [0.7586 0.1766 0.0648] β 0.0911 H 0.69315
+}
+
+func ExampleExactAffinities() {
+	// Four points on a line, every pair, perplexity 2.
+	x := []float64{0, 1, 3, 6}
+	p, err := ExactAffinities(x, 4, 1, 2, 1)
+	if err != nil {
+		panic(err)
+	}
+	for i := 0; i < p.N; i++ {
+		a, b := p.RowPtr[i], p.RowPtr[i+1]
+		fmt.Printf("%d: %v %.4f\n", i, p.Col[a:b], p.Val[a:b])
+	}
+	// Output:
+	// 0: [1 2 3] [0.1645 0.0514 0.0104]
+	// 1: [0 2 3] [0.1645 0.1417 0.0230]
+	// 2: [0 1 3] [0.0514 0.1417 0.1090]
+	// 3: [0 1 2] [0.0104 0.0230 0.1090]
+}
+
 // BenchmarkAffinities measures calibration plus symmetrisation at
 // perplexity 30 (k = 90) from precomputed neighbours of a seeded
 // 5-dimensional Gaussian mixture (the cost does not depend on d). Run with

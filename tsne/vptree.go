@@ -11,13 +11,16 @@ const vpLeafSize = 16
 
 // vpNode is one node of a vantage-point tree. The subtree owns
 // items[lo:hi]. An internal node's vantage point is items[lo]; its inner
-// child holds the points within radius of it and its outer child the points
-// at radius or beyond (points at exactly radius may fall on either side).
+// child holds the points nearer to it than the median distance and its
+// outer child the points at the median distance or beyond (points at
+// exactly the median may fall on either side).
 type vpNode struct {
 	lo, hi       int32
 	inner, outer int32 // child node indices; -1 for a leaf bucket
 	minIdx       int32 // smallest point index in the subtree
-	radius       float64
+	// The inner child's distances to the vantage point lie in
+	// [inLo, inHi], the outer child's in [outLo, outHi] (inHi ≤ outLo).
+	inLo, inHi, outLo, outHi float64
 }
 
 // vpTree is a vantage-point tree over the rows of x under the Euclidean
@@ -67,11 +70,22 @@ func (t *vpTree) build(lo, hi int, dist []float64, rng *rand.Rand) int32 {
 	}
 	m := lo + 1 + (hi-lo-1)/2
 	vpSelect(dist, t.items, lo+1, hi, m, rng)
-	radius := dist[m]
-	inner := t.build(lo+1, m, dist, rng)
+	nd := &t.nodes[id]
+	nd.inLo, nd.inHi = vpRange(dist[lo+1 : m])
+	nd.outLo, nd.outHi = vpRange(dist[m:hi])
+	inner := t.build(lo+1, m, dist, rng) // may grow t.nodes: nd is stale below
 	outer := t.build(m, hi, dist, rng)
-	t.nodes[id].inner, t.nodes[id].outer, t.nodes[id].radius = inner, outer, radius
+	t.nodes[id].inner, t.nodes[id].outer = inner, outer
 	return id
+}
+
+// vpRange returns the smallest and largest value of a non-empty slice.
+func vpRange(v []float64) (lo, hi float64) {
+	lo, hi = v[0], v[0]
+	for _, x := range v[1:] {
+		lo, hi = min(lo, x), max(hi, x)
+	}
+	return lo, hi
 }
 
 // vpSelect reorders dist[a:b] (and items alongside) so that dist[m] is the
@@ -144,16 +158,19 @@ func (s *vpSearch) visit(ni int32) {
 	if v != s.self && sq <= s.h.bound() {
 		s.h.push(sq, v)
 	}
-	dv, radius := math.Sqrt(sq), nd.radius
-	// Triangle inequality: every inner point p has d(q,p) ≥ dv − radius,
-	// every outer point d(q,p) ≥ radius − dv. Visit the likelier side first.
-	slack := 1e-10 * (dv + radius)
-	if dv < radius {
-		s.maybe(nd.inner, dv-radius, slack)
-		s.maybe(nd.outer, radius-dv, slack)
+	dv := math.Sqrt(sq)
+	// Triangle inequality: a point p with d(p,v) in [lo, hi] has
+	// d(q,p) ≥ max(lo − dv, dv − hi). Visit the likelier side first.
+	inLB := max(nd.inLo-dv, dv-nd.inHi)
+	outLB := max(nd.outLo-dv, dv-nd.outHi)
+	slack := 1e-10 * (dv + nd.outHi)
+	inner, outer := nd.inner, nd.outer
+	if dv < nd.inHi {
+		s.maybe(inner, inLB, slack)
+		s.maybe(outer, outLB, slack)
 	} else {
-		s.maybe(nd.outer, radius-dv, slack)
-		s.maybe(nd.inner, dv-radius, slack)
+		s.maybe(outer, outLB, slack)
+		s.maybe(inner, inLB, slack)
 	}
 }
 
