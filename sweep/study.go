@@ -40,11 +40,16 @@ const (
 
 // Input describes the study's input as recorded in study.json.
 type Input struct {
-	Path        string   `json:"path"`
-	Fingerprint string   `json:"fingerprint"`
-	N           int      `json:"n"`
-	D           int      `json:"d"`
+	// Path is the input file as given; AbsPath the same made absolute.
+	Path        string `json:"path"`
+	AbsPath     string `json:"abs_path,omitempty"`
+	Fingerprint string `json:"fingerprint"`
+	N           int    `json:"n"`
+	D           int    `json:"d"`
+	// Columns names the features used (after PCA: pc1..pcK); Select the
+	// --columns selection, if one was given.
 	Columns     []string `json:"columns"`
+	Select      []string `json:"select,omitempty"`
 	IDColumn    string   `json:"id_column,omitempty"`
 	LabelColumn string   `json:"label_column,omitempty"`
 	HasLabels   bool     `json:"has_labels"`
@@ -54,9 +59,16 @@ type Input struct {
 
 // NewInput describes ds, read from path with opt.
 func NewInput(path string, opt dataset.Options, ds *dataset.Dataset) Input {
-	return Input{Path: path, Fingerprint: ds.Fingerprint, N: ds.N, D: ds.D, Columns: ds.Columns,
+	abs, _ := filepath.Abs(path)
+	return Input{Path: path, AbsPath: abs, Select: opt.Columns, Fingerprint: ds.Fingerprint, N: ds.N, D: ds.D, Columns: ds.Columns,
 		IDColumn: opt.IDColumn, LabelColumn: opt.LabelColumn, HasLabels: ds.Labels != nil,
 		Standardize: opt.Standardize, PCA: opt.PCA}
+}
+
+// Options returns the dataset options the input was read with.
+func (in Input) Options() dataset.Options {
+	return dataset.Options{IDColumn: in.IDColumn, LabelColumn: in.LabelColumn, Columns: in.Select,
+		Standardize: in.Standardize, PCA: in.PCA}
 }
 
 // Info is the content of study.json.

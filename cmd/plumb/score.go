@@ -1,0 +1,101 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"os"
+	"os/signal"
+	"syscall"
+	"time"
+
+	"github.com/urfave/cli/v2"
+
+	"plumb/internal/dataset"
+	"plumb/sweep"
+)
+
+func init() {
+	register(&cli.Command{
+		Name:      "score",
+		Usage:     "(re)compute a study's score tables from its finished runs",
+		UsageText: "plumb score STUDY_DIR [--k 15] [--input FILE]",
+		Flags: []cli.Flag{
+			&cli.IntFlag{Name: "k", Value: sweep.DefaultK, Usage: "neighbourhood size of the neighbour-based scores (below n/2)"},
+			&cli.StringFlag{Name: "input", Usage: "the study's input `FILE`, if it moved since the sweep (its fingerprint must match)"},
+			&cli.Float64Flag{Name: "spread-threshold", Usage: "flag a point as unstable above this spread (0: the default 0.1)"},
+			threadsFlag,
+		},
+		Action: scoreAction,
+	})
+}
+
+// studyArg returns the single STUDY_DIR argument.
+func studyArg(c *cli.Context) (string, error) {
+	if c.NArg() != 1 {
+		return "", &exitError{code: 2, err: fmt.Errorf("%s needs exactly one argument, the study directory (got %d)", c.Command.Name, c.NArg())}
+	}
+	return c.Args().First(), nil
+}
+
+// studyInput reads the input of a study: --input if given, else the path
+// recorded in study.json (as given, then absolute).
+func studyInput(c *cli.Context, info *sweep.Info) (*dataset.Dataset, error) {
+	opt := info.Input.Options()
+	paths := []string{info.Input.Path, info.Input.AbsPath}
+	if p := c.String("input"); p != "" {
+		paths = []string{p}
+	}
+	var firstErr error
+	for _, p := range paths {
+		if p == "" {
+			continue
+		}
+		if _, err := os.Stat(p); err != nil {
+			if firstErr == nil {
+				firstErr = fmt.Errorf("input of the study: %w", err)
+			}
+			continue
+		}
+		return dataset.Read(p, opt)
+	}
+	return nil, hintError{err: firstErr, hint: "pass the input file with --input"}
+}
+
+func scoreAction(c *cli.Context) error {
+	dir, err := studyArg(c)
+	if err != nil {
+		return err
+	}
+	if c.Int("k") < 1 {
+		return fmt.Errorf("--k %d: must be positive", c.Int("k"))
+	}
+	if c.Float64("spread-threshold") < 0 {
+		return fmt.Errorf("--spread-threshold %g: must be positive (or 0 for the default)", c.Float64("spread-threshold"))
+	}
+	th, err := threads(c)
+	if err != nil {
+		return err
+	}
+	info, err := sweep.ReadInfo(dir)
+	if err != nil {
+		if errors.Is(err, os.ErrNotExist) {
+			return fmt.Errorf("%s is not a study (no %s)", dir, sweep.StudyFile)
+		}
+		return err
+	}
+	ds, err := studyInput(c, info)
+	if err != nil {
+		return err
+	}
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	t0 := time.Now()
+	sum, err := sweep.Score(ctx, dir, ds, sweep.ScoreOptions{K: c.Int("k"), Threads: th, SpreadThreshold: c.Float64("spread-threshold")})
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(c.App.ErrWriter, "plumb: scored %d runs in %d settings (k=%d, %d pairs) in %s\n",
+		sum.Runs, sum.Settings, sum.K, sum.Pairs, time.Since(t0).Round(time.Millisecond))
+	return nil
+}

@@ -1,0 +1,287 @@
+package main
+
+import (
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"sort"
+	"strconv"
+	"strings"
+	"text/tabwriter"
+
+	"github.com/urfave/cli/v2"
+
+	"plumb/sweep"
+)
+
+func init() {
+	register(&cli.Command{
+		Name:      "show",
+		Usage:     "print a study's settings with their headline scores",
+		UsageText: "plumb show STUDY_DIR [--sort COLUMN] [--desc] [--json]",
+		Flags: []cli.Flag{
+			&cli.StringFlag{Name: "sort", Usage: "sort the settings by `COLUMN` (a key of --json's settings, e.g. trustworthiness_median)"},
+			&cli.BoolFlag{Name: "desc", Usage: "sort in descending order"},
+			&cli.BoolFlag{Name: "json", Usage: "print JSON for machines"},
+		},
+		Action: showAction,
+	})
+}
+
+// settingRow is one setting as shown: ordered keys and values (float64
+// NaN for missing, printed as null / "-").
+type settingRow struct {
+	keys []string
+	vals map[string]any
+}
+
+func (r *settingRow) set(k string, v any) {
+	if _, ok := r.vals[k]; !ok {
+		r.keys = append(r.keys, k)
+	}
+	r.vals[k] = v
+}
+
+func (r *settingRow) MarshalJSON() ([]byte, error) {
+	var b strings.Builder
+	b.WriteByte('{')
+	for i, k := range r.keys {
+		if i > 0 {
+			b.WriteByte(',')
+		}
+		kb, _ := json.Marshal(k)
+		b.Write(kb)
+		b.WriteByte(':')
+		v := r.vals[k]
+		if f, ok := v.(float64); ok && (math.IsNaN(f) || math.IsInf(f, 0)) {
+			v = nil
+		}
+		vb, err := json.Marshal(v)
+		if err != nil {
+			return nil, err
+		}
+		b.Write(vb)
+	}
+	b.WriteByte('}')
+	return []byte(b.String()), nil
+}
+
+// showRows builds one row per setting from the score table, or, for an
+// unscored study, from the runs table.
+func showRows(st *sweep.Study) []*settingRow {
+	byID := map[string]*sweep.SettingScore{}
+	for i := range st.SettingScores {
+		byID[st.SettingScores[i].ID] = &st.SettingScores[i]
+	}
+	var rows []*settingRow
+	for _, s := range st.Settings {
+		r := &settingRow{vals: map[string]any{}}
+		r.set("setting_id", s.ID)
+		r.set("perplexity", s.Perplexity)
+		r.set("learning_rate", s.LearningRateSpec())
+		r.set("exaggeration", s.Exaggeration)
+		r.set("exaggeration_iters", s.ExaggerationIters)
+		r.set("iters", s.Iters)
+		r.set("init", s.Init)
+		r.set("gradient", s.Gradient)
+		var kls []float64
+		done, failed := 0, 0
+		for _, row := range st.Rows {
+			if row.SettingID != s.ID {
+				continue
+			}
+			if row.Status == sweep.StatusDone {
+				done++
+				kls = append(kls, row.KL)
+			} else {
+				failed++
+			}
+		}
+		r.set("runs_planned", len(st.Plan.Seeds))
+		r.set("runs_done", done)
+		r.set("runs_failed", failed)
+		if ss, ok := byID[s.ID]; ok {
+			add := func(name string, sp sweep.Spread) {
+				r.set(name+"_median", sp.Median)
+				r.set(name+"_iqr", sp.IQR)
+			}
+			add("kl", ss.KL)
+			add("disparity", ss.Disparity)
+			add("jaccard", ss.Jaccard)
+			add("pair_spearman", ss.PairSpearman)
+			add("trustworthiness", ss.Trustworthiness)
+			add("continuity", ss.Continuity)
+			add("knn_recall", ss.KNNRecall)
+			add("distance_spearman", ss.DistSpearman)
+			add("label_accuracy", ss.LabelAccuracy)
+			add("label_purity", ss.LabelPurity)
+			r.set("unstable_share", ss.UnstableShare)
+		} else {
+			r.set("kl_median", median(kls))
+		}
+		rows = append(rows, r)
+	}
+	return rows
+}
+
+func median(v []float64) float64 {
+	if len(v) == 0 {
+		return math.NaN()
+	}
+	s := append([]float64(nil), v...)
+	sort.Float64s(s)
+	h := float64(len(s)-1) / 2
+	lo := int(h)
+	if lo+1 >= len(s) {
+		return s[lo]
+	}
+	return s[lo] + (h-float64(lo))*(s[lo+1]-s[lo])
+}
+
+func showAction(c *cli.Context) error {
+	dir, err := studyArg(c)
+	if err != nil {
+		return err
+	}
+	st, err := sweep.Open(dir)
+	if err != nil {
+		return err
+	}
+	rows := showRows(st)
+	if key := c.String("sort"); key != "" {
+		if len(rows) > 0 {
+			if _, ok := rows[0].vals[key]; !ok {
+				return &exitError{code: 2, err: fmt.Errorf("--sort %q: no such column (have %s)", key, strings.Join(rows[0].keys, ", "))}
+			}
+		}
+		desc := c.Bool("desc")
+		sort.SliceStable(rows, func(i, j int) bool {
+			a, b := rows[i].vals[key], rows[j].vals[key]
+			less, nanA, nanB := compare(a, b)
+			if nanA || nanB {
+				return nanB && !nanA // missing values last
+			}
+			if desc {
+				less, _, _ = compare(b, a)
+			}
+			return less
+		})
+	}
+	if c.Bool("json") {
+		return showJSON(c.App.Writer, st, rows)
+	}
+	showTable(c.App.Writer, st, rows)
+	return nil
+}
+
+// compare orders two values of one column; NaN reports missing.
+func compare(a, b any) (less, nanA, nanB bool) {
+	switch x := a.(type) {
+	case float64:
+		y := b.(float64)
+		return x < y, math.IsNaN(x), math.IsNaN(y)
+	case int:
+		return x < b.(int), false, false
+	case string:
+		return x < b.(string), false, false
+	}
+	return false, false, false
+}
+
+func showJSON(w io.Writer, st *sweep.Study, rows []*settingRow) error {
+	done, failed := 0, 0
+	for _, r := range st.Rows {
+		if r.Status == sweep.StatusDone {
+			done++
+		} else {
+			failed++
+		}
+	}
+	out := struct {
+		Study    string        `json:"study"`
+		PlanHash string        `json:"plan_hash"`
+		Input    sweep.Input   `json:"input"`
+		Planned  int           `json:"runs_planned"`
+		Done     int           `json:"runs_done"`
+		Failed   int           `json:"runs_failed"`
+		Scored   bool          `json:"scored"`
+		K        int           `json:"k,omitempty"`
+		Settings []*settingRow `json:"settings"`
+	}{st.Dir, st.Info.PlanHash, st.Info.Input, len(st.Planned), done, failed, st.SettingScores != nil, st.ScoresK, rows}
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(out)
+}
+
+func showTable(w io.Writer, st *sweep.Study, rows []*settingRow) {
+	done, failed := 0, 0
+	for _, r := range st.Rows {
+		if r.Status == sweep.StatusDone {
+			done++
+		} else {
+			failed++
+		}
+	}
+	fmt.Fprintf(w, "study %s: plan %s, %d points, %d of %d runs done, %d failed", st.Dir, st.Info.PlanHash, st.Info.Input.N, done, len(st.Planned), failed)
+	if st.SettingScores != nil {
+		fmt.Fprintf(w, ", scored at k=%d\n", st.ScoresK)
+	} else {
+		fmt.Fprintf(w, ", not scored (run plumb score %s)\n", st.Dir)
+	}
+	cols := []struct{ key, head string }{
+		{"setting_id", "setting"}, {"perplexity", "perp"}, {"learning_rate", "lr"}, {"exaggeration", "exag"},
+		{"iters", "iters"}, {"init", "init"}, {"gradient", "gradient"}, {"runs_done", "done"}, {"runs_failed", "failed"},
+		{"kl_median", "kl"},
+	}
+	if st.SettingScores != nil {
+		cols = append(cols, []struct{ key, head string }{
+			{"disparity_median", "disparity"}, {"jaccard_median", "jaccard"}, {"trustworthiness_median", "trust"},
+			{"continuity_median", "contin"}, {"knn_recall_median", "recall"}, {"unstable_share", "unstable"}}...)
+		if st.Info.Input.HasLabels {
+			cols = append(cols, struct{ key, head string }{"label_accuracy_median", "label_acc"})
+		}
+	}
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
+	for i, c := range cols {
+		if i > 0 {
+			fmt.Fprint(tw, "\t")
+		}
+		fmt.Fprint(tw, c.head)
+	}
+	fmt.Fprintln(tw, "\t")
+	for _, r := range rows {
+		for i, c := range cols {
+			if i > 0 {
+				fmt.Fprint(tw, "\t")
+			}
+			fmt.Fprint(tw, cell(r.vals[c.key]))
+		}
+		fmt.Fprintln(tw, "\t")
+	}
+	tw.Flush()
+	if st.SettingScores != nil {
+		fmt.Fprintln(w, "medians over the runs (kl, trust, contin, recall) or pairs of runs (disparity, jaccard) of each setting; unstable: share of points with spread > threshold")
+	}
+}
+
+func cell(v any) string {
+	switch x := v.(type) {
+	case float64:
+		if math.IsNaN(x) {
+			return "-"
+		}
+		if x == math.Trunc(x) && math.Abs(x) < 1e6 {
+			return strconv.FormatFloat(x, 'f', -1, 64)
+		}
+		if math.Abs(x) < 0.1 {
+			return strconv.FormatFloat(x, 'g', 3, 64)
+		}
+		return strconv.FormatFloat(x, 'f', 3, 64)
+	case int:
+		return strconv.Itoa(x)
+	case string:
+		return x
+	}
+	return fmt.Sprint(v)
+}

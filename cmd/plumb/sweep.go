@@ -1,0 +1,345 @@
+package main
+
+import (
+	"context"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"strings"
+	"syscall"
+	"text/tabwriter"
+	"time"
+
+	"github.com/urfave/cli/v2"
+
+	"plumb/internal/dataset"
+	"plumb/sweep"
+)
+
+func init() {
+	flags := append(inputFlags(),
+		&cli.StringFlag{Name: "out", Aliases: []string{"o"}, Usage: "study `DIR` (created; resumed if it holds this study)", Required: true},
+		&cli.StringFlag{Name: "plan", Usage: "plan `FILE` (JSON object with the fields below); flags override it"},
+		&cli.StringFlag{Name: "perplexity", Usage: "comma list of perplexities (default 30)"},
+		&cli.StringFlag{Name: "learning-rate", Usage: "comma list of learning rates, numbers or auto (default auto = max(n/(4·exaggeration), 50), 4-in-gradient convention)"},
+		&cli.StringFlag{Name: "exaggeration", Usage: "comma list of early-exaggeration factors ≥ 1 (default 12)"},
+		&cli.StringFlag{Name: "exaggeration-iters", Usage: "comma list of early-exaggeration lengths (default 250)"},
+		&cli.StringFlag{Name: "iters", Usage: "comma list of total iteration counts (default 1000)"},
+		&cli.StringFlag{Name: "init", Usage: "comma list of initialisations: pca, random (default pca)"},
+		&cli.StringFlag{Name: "gradient", Usage: "comma list of gradient methods: auto, exact, barnes-hut, fft (default auto)"},
+		&cli.StringFlag{Name: "theta", Usage: "Barnes-Hut opening angle (default 0.5)"},
+		&cli.StringFlag{Name: "seeds", Usage: "a count N (seeds 1..N) or a list/range such as 1-5,9 (default 1)"},
+		&cli.StringFlag{Name: "neighbors", Usage: "neighbour search: auto, exact, approx (default auto)"},
+		&cli.StringFlag{Name: "kl-every", Usage: "record the KL divergence every N iterations (default 50)"},
+		&cli.BoolFlag{Name: "dry-run", Usage: "print the plan, the shared work and an estimate; run nothing"},
+		&cli.IntFlag{Name: "jobs", Aliases: []string{"j"}, Usage: "runs optimised at once (0: automatic, see --help of the README)"},
+		threadsFlag,
+		&cli.StringFlag{Name: "shard", Usage: "run only shard `I/N` of the runs (0-based); Slurm array variables are read when absent"},
+		&cli.IntFlag{Name: "shards", Usage: "number of shards for a Kubernetes Indexed Job (with JOB_COMPLETION_INDEX)"},
+		&cli.BoolFlag{Name: "force", Usage: "use a directory holding another plan or other data anyway (its old runs are redone)"},
+		&cli.BoolFlag{Name: "retry-failed", Usage: "redo runs recorded as failed"},
+		&cli.BoolFlag{Name: "no-score", Usage: "do not score the study after the runs"},
+		&cli.IntFlag{Name: "k", Value: sweep.DefaultK, Usage: "neighbourhood size for scoring"},
+		&cli.BoolFlag{Name: "quiet", Aliases: []string{"q"}, Usage: "no progress display"},
+	)
+	register(&cli.Command{
+		Name:      "sweep",
+		Usage:     "run a grid of t-SNE settings × seeds into a study directory",
+		UsageText: "plumb sweep --input FILE --out DIR [--perplexity 5,15,30] [--learning-rate auto,200] [--seeds 10] [options]",
+		Flags:     flags,
+		Action:    sweepAction,
+	})
+}
+
+// planSpec collects the plan from --plan and the grid flags.
+func planSpec(c *cli.Context) (sweep.Spec, error) {
+	var base sweep.Spec
+	if f := c.String("plan"); f != "" {
+		s, err := sweep.ReadSpec(f)
+		if err != nil {
+			return base, err
+		}
+		base = s
+	}
+	over := sweep.Spec{
+		Perplexity: c.String("perplexity"), LearningRate: c.String("learning-rate"),
+		Exaggeration: c.String("exaggeration"), ExaggerationIters: c.String("exaggeration-iters"),
+		Iters: c.String("iters"), Init: c.String("init"), Gradient: c.String("gradient"),
+		Theta: c.String("theta"), Seeds: c.String("seeds"), Neighbors: c.String("neighbors"),
+		KLEvery: c.String("kl-every"),
+	}
+	return base.Merge(over), nil
+}
+
+func sweepAction(c *cli.Context) error {
+	stderr := c.App.ErrWriter
+	stdout := c.App.Writer
+	spec, err := planSpec(c)
+	if err != nil {
+		return err
+	}
+	plan, err := spec.Plan()
+	if err != nil {
+		return err
+	}
+	if c.Int("jobs") < 0 {
+		return fmt.Errorf("--jobs %d: must be 0 (automatic) or positive", c.Int("jobs"))
+	}
+	if c.Int("threads") < 0 {
+		return fmt.Errorf("--threads %d: must be 0 (automatic) or positive", c.Int("threads"))
+	}
+	if c.Int("k") < 1 {
+		return fmt.Errorf("--k %d: must be positive", c.Int("k"))
+	}
+	shard, err := sweep.ResolveShard(c.String("shard"), c.Int("shards"), os.Getenv)
+	if err != nil {
+		return err
+	}
+	path, dopt, err := inputOptions(c)
+	if err != nil {
+		return err
+	}
+	ds, err := dataset.Read(path, dopt)
+	if err != nil {
+		return err
+	}
+	opt := sweep.Options{
+		Dir: c.String("out"), Input: sweep.NewInput(path, dopt, ds), Version: version, Shard: shard,
+		Jobs: c.Int("jobs"), Threads: c.Int("threads"), Force: c.Bool("force"), RetryFailed: c.Bool("retry-failed"),
+	}
+	if c.Bool("dry-run") {
+		o, err := sweep.PlanOutline(ds, plan, opt)
+		if err != nil {
+			return err
+		}
+		printOutline(stdout, ds, path, shard, o)
+		return nil
+	}
+
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	var prog *progress
+	if !c.Bool("quiet") {
+		prog = newProgress(stderr)
+		opt.Events = prog.event
+	}
+	sum, err := sweep.Execute(ctx, ds, plan, opt)
+	if prog != nil {
+		prog.finish()
+	}
+	if err != nil {
+		return err
+	}
+	st := sum.Stats
+	if !c.Bool("quiet") {
+		fmt.Fprintf(stderr, "plumb: %d runs done, %d failed, %d already finished, in %s (%s)\n",
+			st.Done, st.Failed, st.Skipped, sum.Elapsed.Round(time.Millisecond), shard)
+	}
+	if sum.Canceled {
+		return &exitError{code: 130, err: hintError{
+			err:  fmt.Errorf("interrupted: %d runs finished and kept, %d in flight discarded", st.Done+st.Failed, st.Stopped),
+			hint: "run the same command again to resume"}}
+	}
+	if st.Failed > 0 && !c.Bool("quiet") {
+		fmt.Fprintf(stderr, "plumb: warning: %d runs failed; their reasons are in %s (column error)\n", st.Failed, sweep.RunsFile)
+	}
+	if !sum.Complete {
+		if !c.Bool("quiet") {
+			fmt.Fprintf(stderr, "plumb: other shards still have runs to do; score with `plumb score %s` when all are finished\n", opt.Dir)
+		}
+		return nil
+	}
+	if c.Bool("no-score") {
+		return nil
+	}
+	if !c.Bool("quiet") {
+		fmt.Fprintf(stderr, "plumb: scoring (k=%d)\n", c.Int("k"))
+	}
+	t0 := time.Now()
+	if _, err := sweep.Score(ctx, opt.Dir, ds, sweep.ScoreOptions{K: c.Int("k"), Threads: sum.Jobs * sum.Threads}); err != nil {
+		return fmt.Errorf("score: %w", err)
+	}
+	if !c.Bool("quiet") {
+		fmt.Fprintf(stderr, "plumb: scored in %s; see `plumb show %s`\n", time.Since(t0).Round(time.Millisecond), opt.Dir)
+	}
+	return nil
+}
+
+// hintError attaches a hint to an error (see hinter in main.go).
+type hintError struct {
+	err  error
+	hint string
+}
+
+func (e hintError) Error() string { return e.err.Error() }
+func (e hintError) Unwrap() error { return e.err }
+func (e hintError) Hint() string  { return e.hint }
+
+func printOutline(w io.Writer, ds *dataset.Dataset, path string, shard sweep.Shard, o *sweep.Outline) {
+	p := o.Plan
+	fmt.Fprintf(w, "plan %s: %d settings × %d seeds = %d runs\n", o.PlanHash, len(o.Settings), len(p.Seeds), o.Runs)
+	fmt.Fprintf(w, "input: %s, %d points × %d features, fingerprint %.12s\n", path, ds.N, ds.D, ds.Fingerprint)
+	fmt.Fprintln(w, "settings:")
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "  setting_id\tperplexity\tlearning_rate\texaggeration\texaggeration_iters\titers\tinit\tgradient")
+	for _, s := range o.Settings {
+		fmt.Fprintf(tw, "  %s\t%g\t%s\t%g\t%d\t%d\t%s\t%s\n", s.ID, s.Perplexity, s.LearningRateSpec(), s.Exaggeration,
+			s.ExaggerationIters, s.Iters, s.Init, s.Gradient)
+	}
+	tw.Flush()
+	fmt.Fprintf(w, "seeds: %s\n", seedList(p.Seeds))
+	fmt.Fprintln(w, "shared work (done once, not per run):")
+	if o.Todo == 0 {
+		fmt.Fprintln(w, "  none: every run of this shard is finished")
+	} else {
+		fmt.Fprintf(w, "  neighbours: %s search, k=%d for the largest perplexity %g, truncated for the others\n", o.Neighbors, o.NeighborK, p.MaxPerplexity())
+		for _, a := range o.Affinities {
+			fmt.Fprintf(w, "  affinities P: perplexity %g (k=%d), shared by %d runs\n", a.Perplexity, a.K, a.Runs)
+		}
+		if o.PCARuns > 0 {
+			fmt.Fprintf(w, "  PCA initialisation: once, shared by %d runs\n", o.PCARuns)
+		}
+	}
+	switch {
+	case o.Mismatch != nil:
+		fmt.Fprintf(w, "study directory: holds another %s; the sweep would refuse it without --force\n", o.Mismatch.What)
+	case o.Existing:
+		fmt.Fprintln(w, "study directory: holds this study; finished runs are skipped")
+	default:
+		fmt.Fprintln(w, "study directory: new")
+	}
+	fmt.Fprintf(w, "this process (%s): %d runs, %d finished, %d to do, %d jobs × %d threads\n", shard, o.InShard, o.Finished, o.Todo, o.Jobs, o.Threads)
+	fmt.Fprintf(w, "estimate: %s for %d gradient iterations (rough, from per-method costs measured on a 2-core machine)\n",
+		roundEstimate(o.Estimate), o.Iterations)
+}
+
+func roundEstimate(d time.Duration) string {
+	switch {
+	case d < time.Second:
+		return "under a second"
+	case d < time.Minute:
+		return "about " + d.Round(time.Second).String()
+	default:
+		return "about " + d.Round(time.Minute).String()
+	}
+}
+
+// seedList prints seeds compactly as ranges.
+func seedList(s []uint64) string {
+	var parts []string
+	for i := 0; i < len(s); {
+		j := i
+		for j+1 < len(s) && s[j+1] == s[j]+1 {
+			j++
+		}
+		if j > i {
+			parts = append(parts, fmt.Sprintf("%d-%d", s[i], s[j]))
+		} else {
+			parts = append(parts, fmt.Sprintf("%d", s[i]))
+		}
+		i = j + 1
+	}
+	return strings.Join(parts, ",")
+}
+
+// progress shows the sweep's progress on stderr: a bar redrawn in place on
+// a terminal, plain lines (at most one every few seconds, failures always)
+// otherwise.
+type progress struct {
+	w        io.Writer
+	tty      bool
+	last     time.Time
+	drawn    bool
+	done     int
+	failed   int
+	todo     int
+	elapsed  time.Duration
+	interval time.Duration
+}
+
+func newProgress(w io.Writer) *progress {
+	p := &progress{w: w, interval: 5 * time.Second}
+	if f, ok := w.(*os.File); ok {
+		if fi, err := f.Stat(); err == nil && fi.Mode()&os.ModeCharDevice != 0 {
+			p.tty = true
+			p.interval = 200 * time.Millisecond
+		}
+	}
+	return p
+}
+
+func (p *progress) clear() {
+	if p.tty && p.drawn {
+		fmt.Fprint(p.w, "\r\x1b[K")
+		p.drawn = false
+	}
+}
+
+func (p *progress) event(e sweep.Event) {
+	switch e.Kind {
+	case sweep.EventInfo:
+		p.clear()
+		fmt.Fprintf(p.w, "plumb: %s\n", e.Message)
+		return
+	case sweep.EventRunFailed:
+		p.clear()
+		fmt.Fprintf(p.w, "plumb: run %s failed: %v\n", e.Run.ID, e.Err)
+	}
+	p.done, p.failed, p.todo, p.elapsed = e.Done, e.Failed, e.Todo, e.Elapsed
+	finished := p.done+p.failed == p.todo
+	if !finished && time.Since(p.last) < p.interval {
+		return
+	}
+	p.last = time.Now()
+	p.draw()
+}
+
+func (p *progress) line() string {
+	n := p.done + p.failed
+	eta := "--"
+	if n > 0 && n < p.todo {
+		rem := time.Duration(float64(p.elapsed) / float64(n) * float64(p.todo-n))
+		eta = fmtDur(rem)
+	} else if n == p.todo {
+		eta = "0s"
+	}
+	return fmt.Sprintf("%d/%d runs, %d failed, elapsed %s, ETA %s", n, p.todo, p.failed, fmtDur(p.elapsed), eta)
+}
+
+func (p *progress) draw() {
+	if p.todo == 0 {
+		return
+	}
+	if !p.tty {
+		fmt.Fprintf(p.w, "plumb: %s\n", p.line())
+		return
+	}
+	const width = 30
+	n := p.done + p.failed
+	fill := width * n / p.todo
+	bar := strings.Repeat("#", fill) + strings.Repeat(".", width-fill)
+	fmt.Fprintf(p.w, "\r\x1b[K[%s] %s", bar, p.line())
+	p.drawn = true
+}
+
+func (p *progress) finish() {
+	if p.tty && p.drawn {
+		fmt.Fprintln(p.w)
+		p.drawn = false
+	}
+}
+
+func fmtDur(d time.Duration) string {
+	d = d.Round(time.Second)
+	h := d / time.Hour
+	m := (d % time.Hour) / time.Minute
+	s := (d % time.Minute) / time.Second
+	if h > 0 {
+		return fmt.Sprintf("%dh%02dm%02ds", h, m, s)
+	}
+	if m > 0 {
+		return fmt.Sprintf("%dm%02ds", m, s)
+	}
+	return fmt.Sprintf("%ds", s)
+}

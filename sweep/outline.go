@@ -1,0 +1,147 @@
+package sweep
+
+import (
+	"errors"
+	"math"
+	"os"
+	"time"
+
+	"plumb/internal/dataset"
+	"plumb/tsne"
+)
+
+// Outline describes what Execute would do, without doing it (--dry-run).
+type Outline struct {
+	Plan     *Plan
+	PlanHash string
+	Settings []*Setting
+	// Runs is the number of runs of the plan; InShard of this shard;
+	// Finished those already finished in the study directory; Todo the
+	// rest.
+	Runs, InShard, Finished, Todo int
+	// Neighbors is the search used ("exact" or "approx") and NeighborK the
+	// neighbours per point, for the plan's largest perplexity.
+	Neighbors string
+	NeighborK int
+	// Affinities lists, per perplexity with runs to do, its k and the runs
+	// sharing it.
+	Affinities []SharedAffinity
+	// PCARuns is the number of runs to do that share the PCA start.
+	PCARuns int
+	// Existing is true when the directory already holds this study;
+	// Mismatch is set when it holds another one.
+	Existing bool
+	Mismatch *MismatchError
+	// Jobs and Threads are the parallelism Execute would use.
+	Jobs, Threads int
+	// Estimate is a rough wall-clock estimate for the runs to do (see
+	// EstimateRun); Iterations the gradient iterations in total.
+	Estimate   time.Duration
+	Iterations int64
+}
+
+// SharedAffinity is one affinity matrix shared by runs.
+type SharedAffinity struct {
+	Perplexity float64
+	K, Runs    int
+}
+
+// Plan outlines what Execute(ctx, ds, plan, opt) would do. It reads the
+// study directory if it exists but writes nothing.
+func PlanOutline(ds *dataset.Dataset, plan *Plan, opt Options) (*Outline, error) {
+	if err := Validate(plan, ds); err != nil {
+		return nil, err
+	}
+	runs, err := plan.Runs()
+	if err != nil {
+		return nil, err
+	}
+	o := &Outline{Plan: plan, PlanHash: plan.Hash(), Settings: plan.Settings(), Runs: len(runs),
+		Neighbors: neighborsMode(plan.Neighbors, ds.N), NeighborK: tsne.NeighborCount(ds.N, plan.MaxPerplexity())}
+	mine := opt.Shard.Select(runs)
+	o.InShard = len(mine)
+	var info *Info
+	if old, err := ReadInfo(opt.Dir); err == nil {
+		switch {
+		case old.Input.Fingerprint != ds.Fingerprint:
+			o.Mismatch = &MismatchError{Dir: opt.Dir, What: "input", Have: short(old.Input.Fingerprint), Want: short(ds.Fingerprint)}
+		case old.PlanHash != o.PlanHash:
+			o.Mismatch = &MismatchError{Dir: opt.Dir, What: "plan", Have: old.PlanHash, Want: o.PlanHash}
+		default:
+			o.Existing = true
+			info = old
+		}
+	} else if !errors.Is(err, os.ErrNotExist) {
+		return nil, err
+	}
+	perRuns := map[float64]int{}
+	var secs float64
+	for _, r := range mine {
+		if info != nil {
+			if rec := verify(opt.Dir, info, r); rec != nil && !(opt.RetryFailed && rec.Status == StatusFailed) {
+				o.Finished++
+				continue
+			}
+		}
+		o.Todo++
+		perRuns[r.Setting.Perplexity]++
+		if r.Setting.Init == "pca" {
+			o.PCARuns++
+		}
+		o.Iterations += int64(r.Setting.Iters)
+	}
+	o.Jobs, o.Threads = parallelism(opt, ds.N, o.Todo)
+	for _, perp := range plan.Perplexity {
+		if perRuns[perp] > 0 {
+			o.Affinities = append(o.Affinities, SharedAffinity{Perplexity: perp, K: tsne.NeighborCount(ds.N, perp), Runs: perRuns[perp]})
+		}
+	}
+	for _, r := range mine {
+		if perRuns[r.Setting.Perplexity] > 0 {
+			secs += EstimateRun(ds.N, r.Setting, o.Threads).Seconds()
+		}
+	}
+	// Runs spread over jobs; the shared neighbour search runs on all cores.
+	secs = secs/float64(o.Jobs) + EstimateNeighbors(ds.N, ds.D, o.NeighborK, o.Jobs*o.Threads).Seconds()
+	if o.Todo == 0 {
+		secs = 0
+	}
+	o.Estimate = time.Duration(secs * float64(time.Second))
+	return o, nil
+}
+
+// Rough costs per point and iteration, measured on the two-core
+// development machine (one thread) with the engine of this version; they
+// are for --dry-run estimates only and may be off by a factor of two or
+// more elsewhere.
+const (
+	costExactPerPair  = 4e-9   // seconds per pair of points per iteration, exact gradient
+	costBHPerPoint    = 1.5e-6 // seconds per point per iteration, Barnes-Hut θ=0.5
+	costFFTPerPoint   = 1e-6   // seconds per point per iteration, FFT interpolation
+	costNeighborPair  = 1e-9   // seconds per pair and feature, brute-force neighbour search
+	costAffinityPoint = 2e-6   // seconds per point and neighbour
+)
+
+// EstimateRun returns a rough duration of one run of setting s on n points
+// with the given threads.
+func EstimateRun(n int, s *Setting, threads int) time.Duration {
+	threads = max(threads, 1)
+	var perIter float64
+	switch resolveGradient(s.Gradient, n) {
+	case tsne.MethodExact:
+		perIter = costExactPerPair * float64(n) * float64(n)
+	case tsne.MethodBarnesHut:
+		perIter = costBHPerPoint * float64(n) * math.Log2(float64(max(n, 2))) / 10
+	default:
+		perIter = costFFTPerPoint * float64(n)
+	}
+	return time.Duration(perIter * float64(s.Iters) / float64(threads) * float64(time.Second))
+}
+
+// EstimateNeighbors returns a rough duration of the shared neighbour search.
+func EstimateNeighbors(n, d, k, threads int) time.Duration {
+	threads = max(threads, 1)
+	nf := float64(n)
+	sec := costNeighborPair*nf*math.Min(nf, 20*math.Sqrt(nf)*math.Log2(nf+2))*float64(d) + costAffinityPoint*nf*float64(k)
+	return time.Duration(sec / float64(threads) * float64(time.Second))
+}
