@@ -34,6 +34,8 @@ func smallPlan(t testing.TB) *Plan {
 	return p
 }
 
+var irisOptions = dataset.Options{IDColumn: "id", LabelColumn: "species"}
+
 func runSweep(t testing.TB, ds *dataset.Dataset, p *Plan, dir string, mod func(*Options)) *Summary {
 	t.Helper()
 	opt := Options{Dir: dir, Input: NewInput("iris.csv", dataset.Options{IDColumn: "id", LabelColumn: "species"}, ds), Version: "test"}
