@@ -1,6 +1,7 @@
 package tsne
 
 import (
+	"cmp"
 	"fmt"
 	"math"
 	"slices"
@@ -83,6 +84,14 @@ type Conditional struct {
 // malformed nb (bad lengths, index out of range, a point listed as its own
 // neighbour or twice in a row, a negative or non-finite distance).
 func ConditionalAffinities(nb *Neighbors, perplexity float64, threads int) (*Conditional, error) {
+	return affConditional(nb, perplexity, threads, false)
+}
+
+// affConditional implements ConditionalAffinities. With share set and
+// nb.K equal to the k needed, the result's Index is nb.Index itself (for
+// Affinities, which only reads it and drops the Conditional), saving
+// 4·n·k bytes.
+func affConditional(nb *Neighbors, perplexity float64, threads int, share bool) (*Conditional, error) {
 	if nb == nil {
 		return nil, fmt.Errorf("tsne: affinities: nil neighbours")
 	}
@@ -103,7 +112,16 @@ func ConditionalAffinities(nb *Neighbors, perplexity float64, threads int) (*Con
 	if len(nb.Index) != n*nb.K || len(nb.Dist) != n*nb.K {
 		return nil, fmt.Errorf("tsne: neighbours have %d indices and %d distances, want N·K = %d", len(nb.Index), len(nb.Dist), n*nb.K)
 	}
-	c := &Conditional{N: n, K: k, Index: make([]int32, n*k), P: make([]float64, n*k), Beta: make([]float64, n)}
+	if uint64(n)*uint64(k) > math.MaxUint32 {
+		return nil, fmt.Errorf("tsne: %d points × %d neighbours exceed 2³² entries", n, k)
+	}
+	c := &Conditional{N: n, K: k, P: make([]float64, n*k), Beta: make([]float64, n)}
+	shared := share && k == nb.K
+	if shared {
+		c.Index = nb.Index
+	} else {
+		c.Index = make([]int32, n*k)
+	}
 	logPerp := math.Log(perplexity)
 	workers := nbWorkers(n, affChunk, threads)
 	type work struct {
@@ -139,7 +157,9 @@ func ConditionalAffinities(nb *Neighbors, perplexity float64, threads int) (*Con
 				wk.seen[j] = int32(i + 1)
 				wk.sq[col] = dist[col] * dist[col]
 			}
-			copy(c.Index[i*k:(i+1)*k], idx)
+			if !shared {
+				copy(c.Index[i*k:(i+1)*k], idx)
+			}
 			beta, _, ok := affCalibrate(c.P[i*k:(i+1)*k], wk.sq, logPerp)
 			c.Beta[i] = beta
 			if !ok {
@@ -260,7 +280,7 @@ func affCalibrate(p, sq []float64, logPerp float64) (beta, entropy float64, ok b
 // k and n − 1 entries. See ConditionalAffinities for the calibration,
 // threads and errors; the result is bit-identical for any thread count.
 func Affinities(nb *Neighbors, perplexity float64, threads int) (*Sparse, error) {
-	c, err := ConditionalAffinities(nb, perplexity, threads)
+	c, err := affConditional(nb, perplexity, threads, true)
 	if err != nil {
 		return nil, err
 	}
@@ -273,34 +293,19 @@ func Affinities(nb *Neighbors, perplexity float64, threads int) (*Sparse, error)
 //
 // where p_j|i is 0 when j is not a listed neighbour of i. The result is a
 // CSR Sparse with ascending columns, no diagonal, values summing to 1 (up
-// to rounding). Cost O(n·k log k) time, O(n·k) space; rows are built in
+// to rounding). Cost O(n·k log k) time; besides the result (12 bytes per
+// entry, between n·k and 2·n·k entries) it needs 4·n·k + 8·n bytes of
+// working memory. Rows are built in
 // parallel on threads goroutines (< 1 means runtime.GOMAXPROCS(0)) with a
-// bit-identical result for any thread count.
+// bit-identical result for any thread count. It panics if N·K ≥ 2³²
+// (ConditionalAffinities refuses such sizes).
 func (c *Conditional) Joint(threads int) *Sparse {
 	n, k := c.N, c.K
-	// Out-edges of each row sorted by column.
-	outCol := make([]int32, n*k)
-	outVal := make([]float64, n*k)
-	workers := nbWorkers(n, affChunk, threads)
-	perm := make([][]int32, workers)
-	nbParallel(n, affChunk, threads, func(lo, hi, w int) {
-		if perm[w] == nil {
-			perm[w] = make([]int32, k)
-		}
-		pm := perm[w]
-		for i := lo; i < hi; i++ {
-			idx := c.Index[i*k : (i+1)*k]
-			for t := range pm {
-				pm[t] = int32(t)
-			}
-			slices.SortFunc(pm, func(a, b int32) int { return int(idx[a]) - int(idx[b]) })
-			for t, src := range pm {
-				outCol[i*k+t] = idx[src]
-				outVal[i*k+t] = c.P[i*k+int(src)]
-			}
-		}
-	})
-	// In-edges (transpose), sources ascending because i is visited in order.
+	if uint64(n)*uint64(k) > math.MaxUint32 {
+		panic("tsne: Joint: more than 2³² neighbour entries")
+	}
+	// In-edges (the transpose) as flat positions t into Index/P, row t/k;
+	// ascending, so the sources of each list are ascending too.
 	inPtr := make([]int, n+1)
 	for _, j := range c.Index {
 		inPtr[j+1]++
@@ -308,23 +313,51 @@ func (c *Conditional) Joint(threads int) *Sparse {
 	for j := 0; j < n; j++ {
 		inPtr[j+1] += inPtr[j]
 	}
-	inSrc := make([]int32, n*k)
-	inVal := make([]float64, n*k)
-	fill := make([]int, n)
-	copy(fill, inPtr[:n])
-	for i := 0; i < n; i++ {
-		for t := i * k; t < (i+1)*k; t++ {
-			j := c.Index[t]
-			inSrc[fill[j]] = int32(i)
-			inVal[fill[j]] = c.P[t]
+	inPos := make([]uint32, n*k)
+	{
+		fill := make([]int, n)
+		copy(fill, inPtr[:n])
+		for t, j := range c.Index {
+			inPos[fill[j]] = uint32(t)
 			fill[j]++
 		}
 	}
+	// Per-worker scratch: the row's out-edges sorted by column, and its
+	// in-edges' sources and values.
+	type scratch struct {
+		out []affEntry
+		ca  []int32
+		va  []float64
+		cb  []int32
+		vb  []float64
+	}
+	ws := make([]scratch, nbWorkers(n, affChunk, threads))
+	load := func(w, i int) *scratch {
+		sc := &ws[w]
+		if sc.out == nil {
+			sc.out = make([]affEntry, k)
+			sc.ca, sc.va = make([]int32, k), make([]float64, k)
+		}
+		for t := range sc.out {
+			sc.out[t] = affEntry{c.Index[i*k+t], c.P[i*k+t]}
+		}
+		slices.SortFunc(sc.out, func(a, b affEntry) int { return cmp.Compare(a.col, b.col) })
+		for t, e := range sc.out {
+			sc.ca[t], sc.va[t] = e.col, e.val
+		}
+		sc.cb, sc.vb = sc.cb[:0], sc.vb[:0]
+		for _, pos := range inPos[inPtr[i]:inPtr[i+1]] {
+			sc.cb = append(sc.cb, int32(int(pos)/k))
+			sc.vb = append(sc.vb, c.P[pos])
+		}
+		return sc
+	}
 	// Row sizes of the union, then the merge itself.
 	rowPtr := make([]int, n+1)
-	nbParallel(n, affChunk, threads, func(lo, hi, _ int) {
+	nbParallel(n, affChunk, threads, func(lo, hi, w int) {
 		for i := lo; i < hi; i++ {
-			rowPtr[i+1] = affMergeRow(outCol[i*k:(i+1)*k], nil, inSrc[inPtr[i]:inPtr[i+1]], nil, nil, nil, 0)
+			sc := load(w, i)
+			rowPtr[i+1] = affMergeRow(sc.ca, nil, sc.cb, nil, nil, nil, 0)
 		}
 	})
 	for i := 0; i < n; i++ {
@@ -332,15 +365,20 @@ func (c *Conditional) Joint(threads int) *Sparse {
 	}
 	p := &Sparse{N: n, RowPtr: rowPtr, Col: make([]int32, rowPtr[n]), Val: make([]float64, rowPtr[n])}
 	scale := 1 / (2 * float64(n))
-	nbParallel(n, affChunk, threads, func(lo, hi, _ int) {
+	nbParallel(n, affChunk, threads, func(lo, hi, w int) {
 		for i := lo; i < hi; i++ {
+			sc := load(w, i)
 			a, b := rowPtr[i], rowPtr[i+1]
-			affMergeRow(outCol[i*k:(i+1)*k], outVal[i*k:(i+1)*k],
-				inSrc[inPtr[i]:inPtr[i+1]], inVal[inPtr[i]:inPtr[i+1]],
-				p.Col[a:b], p.Val[a:b], scale)
+			affMergeRow(sc.ca, sc.va, sc.cb, sc.vb, p.Col[a:b], p.Val[a:b], scale)
 		}
 	})
 	return p
+}
+
+// affEntry is one neighbour entry of a conditional row.
+type affEntry struct {
+	col int32
+	val float64
 }
 
 // affMergeRow merges two ascending column lists, writing the union with
