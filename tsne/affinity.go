@@ -1,7 +1,6 @@
 package tsne
 
 import (
-	"cmp"
 	"fmt"
 	"math"
 	"slices"
@@ -325,30 +324,36 @@ func (c *Conditional) Joint(threads int) *Sparse {
 	// Per-worker scratch: the row's out-edges sorted by column, and its
 	// in-edges' sources and values.
 	type scratch struct {
-		out []affEntry
-		ca  []int32
-		va  []float64
-		cb  []int32
-		vb  []float64
+		keys []uint64 // column<<32 | position in the row, sorted
+		ca   []int32
+		va   []float64
+		cb   []int32
+		vb   []float64
 	}
 	ws := make([]scratch, nbWorkers(n, affChunk, threads))
-	load := func(w, i int) *scratch {
+	load := func(w, i int, values bool) *scratch {
 		sc := &ws[w]
-		if sc.out == nil {
-			sc.out = make([]affEntry, k)
+		if sc.keys == nil {
+			sc.keys = make([]uint64, k)
 			sc.ca, sc.va = make([]int32, k), make([]float64, k)
 		}
-		for t := range sc.out {
-			sc.out[t] = affEntry{c.Index[i*k+t], c.P[i*k+t]}
+		row := c.Index[i*k : (i+1)*k]
+		for t, j := range row {
+			sc.keys[t] = uint64(uint32(j))<<32 | uint64(t)
 		}
-		slices.SortFunc(sc.out, func(a, b affEntry) int { return cmp.Compare(a.col, b.col) })
-		for t, e := range sc.out {
-			sc.ca[t], sc.va[t] = e.col, e.val
+		slices.Sort(sc.keys)
+		for t, key := range sc.keys {
+			sc.ca[t] = int32(key >> 32)
+			if values {
+				sc.va[t] = c.P[i*k+int(uint32(key))]
+			}
 		}
 		sc.cb, sc.vb = sc.cb[:0], sc.vb[:0]
 		for _, pos := range inPos[inPtr[i]:inPtr[i+1]] {
 			sc.cb = append(sc.cb, int32(int(pos)/k))
-			sc.vb = append(sc.vb, c.P[pos])
+			if values {
+				sc.vb = append(sc.vb, c.P[pos])
+			}
 		}
 		return sc
 	}
@@ -356,7 +361,7 @@ func (c *Conditional) Joint(threads int) *Sparse {
 	rowPtr := make([]int, n+1)
 	nbParallel(n, affChunk, threads, func(lo, hi, w int) {
 		for i := lo; i < hi; i++ {
-			sc := load(w, i)
+			sc := load(w, i, false)
 			rowPtr[i+1] = affMergeRow(sc.ca, nil, sc.cb, nil, nil, nil, 0)
 		}
 	})
@@ -367,18 +372,12 @@ func (c *Conditional) Joint(threads int) *Sparse {
 	scale := 1 / (2 * float64(n))
 	nbParallel(n, affChunk, threads, func(lo, hi, w int) {
 		for i := lo; i < hi; i++ {
-			sc := load(w, i)
+			sc := load(w, i, true)
 			a, b := rowPtr[i], rowPtr[i+1]
 			affMergeRow(sc.ca, sc.va, sc.cb, sc.vb, p.Col[a:b], p.Val[a:b], scale)
 		}
 	})
 	return p
-}
-
-// affEntry is one neighbour entry of a conditional row.
-type affEntry struct {
-	col int32
-	val float64
 }
 
 // affMergeRow merges two ascending column lists, writing the union with
