@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"os"
 	"os/signal"
+	"strings"
 	"syscall"
 	"time"
 
@@ -30,12 +31,56 @@ func init() {
 	})
 }
 
-// studyArg returns the single STUDY_DIR argument.
+// studyArg returns the single STUDY_DIR argument. The command-line
+// library stops reading flags at the first argument, so flags written after
+// the directory ("plumb show DIR --json") are applied here.
 func studyArg(c *cli.Context) (string, error) {
-	if c.NArg() != 1 {
-		return "", &exitError{code: 2, err: fmt.Errorf("%s needs exactly one argument, the study directory (got %d)", c.Command.Name, c.NArg())}
+	var pos []string
+	args := c.Args().Slice()
+	for i := 0; i < len(args); i++ {
+		a := args[i]
+		if a == "--" {
+			pos = append(pos, args[i+1:]...)
+			break
+		}
+		if !strings.HasPrefix(a, "-") || a == "-" {
+			pos = append(pos, a)
+			continue
+		}
+		name, val, hasVal := strings.Cut(strings.TrimLeft(a, "-"), "=")
+		f := lookupFlag(c.Command.Flags, name)
+		if f == nil {
+			return "", &exitError{code: 2, err: fmt.Errorf("%s: unknown flag %s", c.Command.Name, a)}
+		}
+		if _, isBool := f.(*cli.BoolFlag); isBool && !hasVal {
+			val, hasVal = "true", true
+		}
+		if !hasVal {
+			if i+1 >= len(args) {
+				return "", &exitError{code: 2, err: fmt.Errorf("%s: flag %s needs a value", c.Command.Name, a)}
+			}
+			i++
+			val = args[i]
+		}
+		if err := c.Set(f.Names()[0], val); err != nil {
+			return "", &exitError{code: 2, err: fmt.Errorf("%s: flag %s: %v", c.Command.Name, a, err)}
+		}
 	}
-	return c.Args().First(), nil
+	if len(pos) != 1 {
+		return "", &exitError{code: 2, err: fmt.Errorf("%s needs exactly one argument, the study directory (got %d)", c.Command.Name, len(pos))}
+	}
+	return pos[0], nil
+}
+
+func lookupFlag(flags []cli.Flag, name string) cli.Flag {
+	for _, f := range flags {
+		for _, n := range f.Names() {
+			if n == name {
+				return f
+			}
+		}
+	}
+	return nil
 }
 
 // studyInput reads the input of a study: --input if given, else the path
