@@ -6,7 +6,6 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
-	"sort"
 )
 
 // Default sizes for the faithfulness scores.
@@ -245,54 +244,72 @@ func faithfulness(x []float64, d int, y []float64, k int, opt Options, w which) 
 	contPen := make([]int64, nq)
 	hits := make([]int32, nq)
 	needDX := w.trust || ((w.cont || w.recall) && inNb == nil)
-	parallel(nq, opt.Threads, func(lo, hi int) {
-		var dx, dy []float64
-		if needDX {
-			dx = make([]float64, n)
-		}
-		if w.cont {
-			dy = make([]float64, n)
-		}
-		var h nbHeap
-		inRow := make([]int32, k)
-		rk := newRanker(k)
-		for m := lo; m < hi; m++ {
-			i := m
-			if queries != nil {
-				i = queries[m]
-			}
+	type scratch struct {
+		dx    [group][]float64
+		dy    []float64
+		h     nbHeap
+		inRow []int32
+		rk    *ranker
+	}
+	pool := make([]*scratch, workers(nq, opt.Threads))
+	parallelW(nq, opt.Threads, func(wk, lo, hi int) {
+		if pool[wk] == nil {
+			sc := &scratch{inRow: make([]int32, k), rk: newRanker(k)}
 			if needDX {
-				inputDistances(dx, x, d, i)
-			}
-			if w.cont || w.recall {
-				if inNb != nil {
-					copy(inRow, inNb[i*inK:i*inK+k])
-				} else {
-					selectK(dx, i, k, &h, inRow)
+				for g := range sc.dx {
+					sc.dx[g] = make([]float64, n)
 				}
-			}
-			var mrow []int32
-			if mapNb != nil {
-				mrow = mapNb[m*k : (m+1)*k]
-			}
-			if w.trust {
-				trustPen[m] = rk.penalty(dx, i, mrow)
 			}
 			if w.cont {
-				mapDistances(dy, y, i)
-				contPen[m] = rk.penalty(dy, i, inRow)
+				sc.dy = make([]float64, n)
 			}
-			if w.recall {
-				var c int32
-				for _, a := range inRow {
-					for _, b := range mrow {
-						if a == b {
-							c++
-							break
-						}
+			pool[wk] = sc
+		}
+		sc := pool[wk]
+		dx, dy, inRow, rk := &sc.dx, sc.dy, sc.inRow, sc.rk
+		h := &sc.h
+		for g0 := lo; g0 < hi; g0 += group {
+			g1 := min(g0+group, hi)
+			var qs [group]int
+			for m := g0; m < g1; m++ {
+				qs[m-g0] = m
+				if queries != nil {
+					qs[m-g0] = queries[m]
+				}
+			}
+			if needDX {
+				if g1-g0 == group {
+					inputDistances4(dx, x, d, &qs)
+				} else {
+					for m := g0; m < g1; m++ {
+						inputDistances(dx[m-g0], x, d, qs[m-g0])
 					}
 				}
-				hits[m] = c
+			}
+			for m := g0; m < g1; m++ {
+				i := qs[m-g0]
+				dxi := dx[m-g0]
+				if w.cont || w.recall {
+					if inNb != nil {
+						copy(inRow, inNb[i*inK:i*inK+k])
+					} else {
+						selectK(dxi, i, k, h, inRow)
+					}
+				}
+				var mrow []int32
+				if mapNb != nil {
+					mrow = mapNb[m*k : (m+1)*k]
+				}
+				if w.trust {
+					trustPen[m] = rk.penalty(dxi, i, mrow)
+				}
+				if w.cont {
+					mapDistances(dy, y, i)
+					contPen[m] = rk.penalty(dy, i, inRow)
+				}
+				if w.recall {
+					hits[m] = int32(overlap(inRow, mrow))
+				}
 			}
 		}
 	})
@@ -349,6 +366,68 @@ func inputDistances(dst, x []float64, d, i int) {
 	}
 }
 
+// group is the number of query points whose input distances are computed
+// together, so that each row of x is read once per group.
+const group = 4
+
+// inputDistances4 is inputDistances for four query points at once. Each
+// distance is accumulated in the same order as inputDistances, so the
+// results are bit-identical.
+func inputDistances4(dst *[group][]float64, x []float64, d int, q *[group]int) {
+	x0 := x[q[0]*d : (q[0]+1)*d : (q[0]+1)*d]
+	x1 := x[q[1]*d : (q[1]+1)*d : (q[1]+1)*d]
+	x2 := x[q[2]*d : (q[2]+1)*d : (q[2]+1)*d]
+	x3 := x[q[3]*d : (q[3]+1)*d : (q[3]+1)*d]
+	d0, d1, d2, d3 := dst[0], dst[1], dst[2], dst[3]
+	for l := range d0 {
+		xl := x[l*d : (l+1)*d : (l+1)*d]
+		xl = xl[:len(x0)]
+		var a0, a1, a2, a3 float64 // query 0, lanes 0-3
+		var b0, b1, b2, b3 float64
+		var c0, c1, c2, c3 float64
+		var e0, e1, e2, e3 float64
+		c := 0
+		for ; c+3 < d; c += 4 {
+			v0, v1, v2, v3 := xl[c], xl[c+1], xl[c+2], xl[c+3]
+			t0, t1, t2, t3 := x0[c]-v0, x0[c+1]-v1, x0[c+2]-v2, x0[c+3]-v3
+			a0 += t0 * t0
+			a1 += t1 * t1
+			a2 += t2 * t2
+			a3 += t3 * t3
+			t0, t1, t2, t3 = x1[c]-v0, x1[c+1]-v1, x1[c+2]-v2, x1[c+3]-v3
+			b0 += t0 * t0
+			b1 += t1 * t1
+			b2 += t2 * t2
+			b3 += t3 * t3
+			t0, t1, t2, t3 = x2[c]-v0, x2[c+1]-v1, x2[c+2]-v2, x2[c+3]-v3
+			c0 += t0 * t0
+			c1 += t1 * t1
+			c2 += t2 * t2
+			c3 += t3 * t3
+			t0, t1, t2, t3 = x3[c]-v0, x3[c+1]-v1, x3[c+2]-v2, x3[c+3]-v3
+			e0 += t0 * t0
+			e1 += t1 * t1
+			e2 += t2 * t2
+			e3 += t3 * t3
+		}
+		for ; c < d; c++ {
+			v := xl[c]
+			t := x0[c] - v
+			a0 += t * t
+			t = x1[c] - v
+			b0 += t * t
+			t = x2[c] - v
+			c0 += t * t
+			t = x3[c] - v
+			e0 += t * t
+		}
+		d0[l] = (a0 + a1) + (a2 + a3)
+		d1[l] = (b0 + b1) + (b2 + b3)
+		d2[l] = (c0 + c1) + (c2 + c3)
+		d3[l] = (e0 + e1) + (e2 + e3)
+	}
+}
+
 func mapDistances(dst, y []float64, i int) {
 	qx, qy := y[2*i], y[2*i+1]
 	for l := range dst {
@@ -378,11 +457,12 @@ func selectK(dist []float64, i, k int, h *nbHeap, dst []int32) {
 type ranker struct {
 	k    int
 	tgt  []int32
+	td   []float64
 	hist []int64
 }
 
 func newRanker(k int) *ranker {
-	return &ranker{k: k, tgt: make([]int32, k), hist: make([]int64, k+1)}
+	return &ranker{k: k, tgt: make([]int32, k), td: make([]float64, k), hist: make([]int64, k+1)}
 }
 
 // penalty sorts the targets by (dist, index); for every other point l it
@@ -391,32 +471,45 @@ func newRanker(k int) *ranker {
 // 1 + t + Σ_{p ≤ t} hist[p]. Cost O(N log k).
 func (r *ranker) penalty(dist []float64, i int, targets []int32) int64 {
 	k := r.k
-	copy(r.tgt, targets)
-	tg := r.tgt
-	sort.Slice(tg, func(a, b int) bool { return worse(dist[tg[b]], tg[b], dist[tg[a]], tg[a]) })
-	for p := range r.hist {
-		r.hist[p] = 0
+	tg, td := r.tgt, r.td
+	// Insertion sort by (dist, index): k is small and this allocates nothing.
+	for s, j := range targets {
+		v := dist[j]
+		m := s
+		for ; m > 0 && (td[m-1] > v || (td[m-1] == v && tg[m-1] > j)); m-- {
+			td[m], tg[m] = td[m-1], tg[m-1]
+		}
+		td[m], tg[m] = v, j
 	}
-	maxD, maxI := dist[tg[k-1]], tg[k-1]
+	hist := r.hist
+	for p := range hist {
+		hist[p] = 0
+	}
+	maxD, maxI := td[k-1], tg[k-1]
 	for l, v := range dist {
-		if l == i {
+		// Most points come after every target: one comparison.
+		if v > maxD || (v == maxD && int32(l) > maxI) || l == i {
 			continue
 		}
 		li := int32(l)
-		if worse(v, li, maxD, maxI) {
-			continue // after every target
+		// p = number of targets strictly before (v, l).
+		p, q := 0, k
+		for p < q {
+			m := int(uint(p+q) >> 1)
+			if td[m] < v || (td[m] == v && tg[m] < li) {
+				p = m + 1
+			} else {
+				q = m
+			}
 		}
-		// p = number of targets strictly before (v, l); targets themselves
-		// are skipped (they are counted by t below).
-		p := sort.Search(k, func(s int) bool { return !worse(v, li, dist[tg[s]], tg[s]) })
 		if p < k && tg[p] == li {
-			continue
+			continue // a target itself; counted by t below
 		}
-		r.hist[p]++
+		hist[p]++
 	}
 	var pen, before int64
 	for t := 0; t < k; t++ {
-		before += r.hist[t]
+		before += hist[t]
 		rank := int64(1+t) + before
 		if rank > int64(k) {
 			pen += rank - int64(k)

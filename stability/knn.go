@@ -130,21 +130,31 @@ func (h *nbHeap) push(d float64, i int32) {
 	}
 }
 
-// sorted writes the heap's indices into dst in ascending (d2, index) order,
-// destroying the heap.
+// sorted writes the heap's indices into dst in ascending (d2, index) order
+// by heapsort, destroying the heap.
 func (h *nbHeap) sorted(dst []int32) {
-	type c struct {
-		d float64
-		i int32
+	for n := len(h.d2); n > 1; n-- {
+		h.d2[0], h.d2[n-1] = h.d2[n-1], h.d2[0]
+		h.ix[0], h.ix[n-1] = h.ix[n-1], h.ix[0]
+		c := 0
+		for {
+			l := 2*c + 1
+			if l >= n-1 {
+				break
+			}
+			w := l
+			if r := l + 1; r < n-1 && worse(h.d2[r], h.ix[r], h.d2[l], h.ix[l]) {
+				w = r
+			}
+			if !worse(h.d2[w], h.ix[w], h.d2[c], h.ix[c]) {
+				break
+			}
+			h.d2[c], h.d2[w] = h.d2[w], h.d2[c]
+			h.ix[c], h.ix[w] = h.ix[w], h.ix[c]
+			c = w
+		}
 	}
-	tmp := make([]c, len(h.d2))
-	for m := range tmp {
-		tmp[m] = c{h.d2[m], h.ix[m]}
-	}
-	sort.Slice(tmp, func(a, b int) bool { return worse(tmp[b].d, tmp[b].i, tmp[a].d, tmp[a].i) })
-	for m := range tmp {
-		dst[m] = tmp[m].i
-	}
+	copy(dst, h.ix)
 }
 
 // query finds the k nearest points to point q (q itself excluded) and
@@ -152,15 +162,14 @@ func (h *nbHeap) sorted(dst []int32) {
 func (t *kdTree) query(q int, k int, h *nbHeap, dst []int32) {
 	h.reset(k)
 	qx, qy := t.y[2*q], t.y[2*q+1]
-	var walk func(id int32)
-	walk = func(id int32) {
+	var stackBuf [64]int32
+	stack := append(stackBuf[:0], 0)
+	for len(stack) > 0 {
+		id := stack[len(stack)-1]
+		stack = stack[:len(stack)-1]
 		nd := &t.nodes[id]
-		if h.full() {
-			dx := max(nd.minX-qx, 0, qx-nd.maxX)
-			dy := max(nd.minY-qy, 0, qy-nd.maxY)
-			if dx*dx+dy*dy > h.d2[0] {
-				return
-			}
+		if h.full() && boxDist2(nd, qx, qy) > h.d2[0] {
+			continue
 		}
 		if nd.left < 0 {
 			for _, p := range t.idx[nd.lo:nd.hi] {
@@ -170,16 +179,15 @@ func (t *kdTree) query(q int, k int, h *nbHeap, dst []int32) {
 				dx, dy := t.y[2*p]-qx, t.y[2*p+1]-qy
 				h.push(dx*dx+dy*dy, p)
 			}
-			return
+			continue
 		}
 		a, b := nd.left, nd.right
 		if boxDist2(&t.nodes[b], qx, qy) < boxDist2(&t.nodes[a], qx, qy) {
 			a, b = b, a
 		}
-		walk(a)
-		walk(b)
+		// Push the farther child first so the nearer one is visited next.
+		stack = append(stack, b, a)
 	}
-	walk(0)
 	h.sorted(dst)
 }
 
@@ -219,16 +227,26 @@ const chunk = 32
 // parallel runs f over [0, n) in fixed chunks on up to threads goroutines
 // (0 means GOMAXPROCS). f must write only to per-item outputs.
 func parallel(n, threads int, f func(lo, hi int)) {
+	parallelW(n, threads, func(_, lo, hi int) { f(lo, hi) })
+}
+
+// workers returns the number of goroutines parallelW uses.
+func workers(n, threads int) int {
 	if threads <= 0 {
 		threads = runtime.GOMAXPROCS(0)
 	}
+	return max(1, min(threads, (n+chunk-1)/chunk))
+}
+
+// parallelW is parallel with the worker number w ∈ [0, workers(n, threads))
+// passed to f, for per-worker scratch space. Which worker handles a chunk
+// varies from run to run, so scratch must not carry results.
+func parallelW(n, threads int, f func(w, lo, hi int)) {
+	nw := workers(n, threads)
 	nChunks := (n + chunk - 1) / chunk
-	if threads > nChunks {
-		threads = nChunks
-	}
-	if threads <= 1 {
+	if nw <= 1 {
 		for lo := 0; lo < n; lo += chunk {
-			f(lo, min(lo+chunk, n))
+			f(0, lo, min(lo+chunk, n))
 		}
 		return
 	}
@@ -238,15 +256,15 @@ func parallel(n, threads int, f func(lo, hi int)) {
 	}
 	close(next)
 	var wg sync.WaitGroup
-	for w := 0; w < threads; w++ {
+	for w := 0; w < nw; w++ {
 		wg.Add(1)
-		go func() {
+		go func(w int) {
 			defer wg.Done()
 			for c := range next {
 				lo := c * chunk
-				f(lo, min(lo+chunk, n))
+				f(w, lo, min(lo+chunk, n))
 			}
-		}()
+		}(w)
 	}
 	wg.Wait()
 }

@@ -1,0 +1,70 @@
+package stability
+
+import (
+	"fmt"
+	"math/rand/v2"
+	"testing"
+)
+
+var sinkScore Faithfulness
+
+// BenchmarkTrustworthiness: exact trustworthiness (every point a query) of
+// a seeded Gaussian input (d = 50) against a map that is its first two
+// coordinates plus noise, k = 15. The n = 10000 case is the target.
+func BenchmarkTrustworthiness(b *testing.B) {
+	for _, n := range []int{2000, 10000} {
+		b.Run(fmt.Sprintf("n=%d/d=50", n), func(b *testing.B) {
+			rng := rand.New(rand.NewPCG(1, uint64(n)))
+			d := 50
+			x := gauss(rng, n*d)
+			y := make([]float64, 2*n)
+			for i := 0; i < n; i++ {
+				y[2*i] = x[i*d] + 0.3*rng.NormFloat64()
+				y[2*i+1] = x[i*d+1] + 0.3*rng.NormFloat64()
+			}
+			b.ReportAllocs()
+			b.ResetTimer()
+			for i := 0; i < b.N; i++ {
+				s, err := TrustworthinessWith(x, d, y, 15, Options{})
+				if err != nil {
+					b.Fatal(err)
+				}
+				sinkScore.Trustworthiness = s
+			}
+		})
+	}
+}
+
+// BenchmarkFaithfulness: trustworthiness, continuity and recall together.
+func BenchmarkFaithfulness(b *testing.B) {
+	n, d := 10000, 50
+	rng := rand.New(rand.NewPCG(2, 3))
+	x := gauss(rng, n*d)
+	y := gauss(rng, 2*n)
+	b.ReportAllocs()
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		f, err := FaithfulnessAt(x, d, y, 15, Options{})
+		if err != nil {
+			b.Fatal(err)
+		}
+		sinkScore = f
+	}
+}
+
+var sinkF float64
+
+func BenchmarkNeighborJaccard(b *testing.B) {
+	n := 100000
+	rng := rand.New(rand.NewPCG(4, 5))
+	a, c := gauss(rng, 2*n), gauss(rng, 2*n)
+	b.ReportAllocs()
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		j, err := NeighborJaccard(a, c, 15)
+		if err != nil {
+			b.Fatal(err)
+		}
+		sinkF = j
+	}
+}

@@ -1,0 +1,97 @@
+package stability_test
+
+import (
+	"fmt"
+	"math"
+
+	"plumb/align"
+	"plumb/stability"
+)
+
+// circle returns n points on a circle of radius r, rotated by phase.
+func circle(n int, r, phase float64) []float64 {
+	y := make([]float64, 0, 2*n)
+	for i := 0; i < n; i++ {
+		a := 2*math.Pi*float64(i)/float64(n) + phase
+		y = append(y, r*math.Cos(a), r*math.Sin(a))
+	}
+	return y
+}
+
+// Points on a line in 3-d, laid out on the same line in the map: every map
+// neighbour is an input neighbour. Swapping the two ends of the map line
+// makes those points' map neighbours strangers: the penalties are 42 for
+// each moved point, 16 for each of its three new neighbours and 1 for point
+// 2 (whose tie at map distance 2 goes to point 4, input rank 4), 133 in all,
+// so T = 1 − 2·133/(20·3·30) = 0.8522 (by hand).
+func ExampleTrustworthiness() {
+	n := 20
+	x := make([]float64, 0, 3*n)
+	y := make([]float64, 0, 2*n)
+	for i := 0; i < n; i++ {
+		x = append(x, float64(i), 2*float64(i), 0)
+		y = append(y, float64(i), 0)
+	}
+	t, _ := stability.Trustworthiness(x, 3, y, 3)
+	fmt.Printf("same order: %.4f\n", t)
+	y[0], y[2*(n-1)] = y[2*(n-1)], y[0]
+	t, _ = stability.Trustworthiness(x, 3, y, 3)
+	c, _ := stability.Continuity(x, 3, y, 3)
+	fmt.Printf("ends swapped: trustworthiness %.4f continuity %.4f\n", t, c)
+	// Output:
+	// same order: 1.0000
+	// ends swapped: trustworthiness 0.8522 continuity 0.8522
+}
+
+func ExampleLabelAccuracy() {
+	// Points 0-2 ("a") sit together with point 5 ("b"); points 3-4 ("b")
+	// are far away. By hand: points 0-2 have point 5 nearest and one "a"
+	// neighbour, a 1-1 tie that goes to the nearest ("b"): wrong; point 5's
+	// two nearest are "a": wrong; points 3 and 4 are right. Only point 3 has
+	// both neighbours sharing its label.
+	y := []float64{0, 0, 0, 1, 1, 0, 10, 10, 10, 11, 0.5, 0.5}
+	labels := []string{"a", "a", "a", "b", "b", "b"}
+	acc, _ := stability.LabelAccuracy(y, labels, 2)
+	agree, _ := stability.LabelAgreement(y, labels, 2)
+	fmt.Printf("accuracy %.4f, agreement %.4f\n", acc, agree)
+	// Output: accuracy 0.3333, agreement 0.1667
+}
+
+func ExampleNeighborJaccard() {
+	a := circle(12, 1, 0)
+	b := circle(12, 5, 1) // same circle, larger and turned: same neighbours
+	j, _ := stability.NeighborJaccard(a, b, 2)
+	fmt.Printf("Jaccard %.4f\n", j)
+	// Output: Jaccard 1.0000
+}
+
+func ExampleSettingAgreement() {
+	runs := [][]float64{circle(10, 1, 0), circle(10, 2, 0.5), circle(10, 1, 1)}
+	runs[2][0] += 0.5 // one run moves point 0, which swaps neighbour 1 for 8
+	// (by hand: Jaccard 1/3 at point 0, 1 elsewhere, mean 0.9333)
+	ag, _ := stability.SettingAgreement(runs, 2, 1)
+	for _, p := range ag.Pairs {
+		fmt.Printf("runs %d-%d: disparity %.4f Jaccard %.4f\n", p.A, p.B, p.Disparity, p.Jaccard)
+	}
+	fmt.Printf("median disparity %.4f IQR %.4f\n", ag.Disparity.Median, ag.Disparity.IQR)
+	// Output:
+	// runs 0-1: disparity 0.0000 Jaccard 1.0000
+	// runs 0-2: disparity 0.0186 Jaccard 0.9333
+	// runs 1-2: disparity 0.0186 Jaccard 0.9333
+	// median disparity 0.0186 IQR 0.0093
+}
+
+func ExampleSpread() {
+	runs := [][]float64{circle(10, 1, 0), circle(10, 1, 2), circle(10, 1, 4)}
+	runs[1][0] += 0.6 // point 0 wanders in one run
+	g, _ := align.Generalized(runs, 0, 0)
+	ps, _ := stability.Spread(g, 0) // default threshold 0.1
+	fmt.Printf("point 0 %.3f, point 5 %.3f, flagged %d\n", ps.Spread[0], ps.Spread[5], ps.NumFlagged)
+	// Output: point 0 0.230, point 5 0.011, flagged 1
+}
+
+func ExampleQuantile() {
+	v := []float64{1, 2, 3, 4}
+	fmt.Println(stability.Quantile(v, 0.25), stability.Quantile(v, 0.5), stability.Quantile(v, 0.75))
+	// Output: 1.75 2.5 3.25
+}
