@@ -7,7 +7,6 @@ import (
 	"math"
 	"os"
 	"runtime"
-	"sort"
 	"sync"
 	"time"
 
@@ -138,24 +137,6 @@ func Validate(p *Plan, ds *dataset.Dataset) error {
 	}
 	return nil
 }
-
-// neighborsMode resolves the plan's neighbour search for n points.
-func neighborsMode(mode string, n int) string {
-	if mode == "auto" {
-		if n <= ApproxMinN {
-			return "exact"
-		}
-		return "approx"
-	}
-	return mode
-}
-
-// ApproxMinN is the largest n for which "auto" neighbour search is exact.
-const ApproxMinN = 100000
-
-// neighborSeed seeds the approximate neighbour search. It is fixed, so
-// every shard builds the same lists.
-const neighborSeed = 0x706c756d62
 
 // shared holds the work every run of a sweep reuses.
 type shared struct {
@@ -520,18 +501,4 @@ func resolveGradient(g string, n int) tsne.Method {
 		return tsne.AutoMethod(n)
 	}
 	return tsne.Method(g)
-}
-
-// perplexities returns the distinct perplexities of runs, ascending.
-func perplexities(runs []*Run) []float64 {
-	seen := map[float64]bool{}
-	var out []float64
-	for _, r := range runs {
-		if !seen[r.Setting.Perplexity] {
-			seen[r.Setting.Perplexity] = true
-			out = append(out, r.Setting.Perplexity)
-		}
-	}
-	sort.Float64s(out)
-	return out
 }
