@@ -45,8 +45,13 @@ type Options struct {
 	// InputNeighbors optionally gives the exact input-space neighbours of
 	// every point, row i = InputNeighbors[i*InputK:(i+1)*InputK], self
 	// excluded, ascending distance, ties by smaller index — the layout of
-	// tsne.Neighbors.Index. When present with InputK ≥ k, continuity and
-	// kNN recall use its first k columns instead of searching the input.
+	// tsne.Neighbors.Index from an exact search. When present with
+	// InputK ≥ k, continuity and kNN recall use its first k columns instead
+	// of searching the input, and trustworthiness reads the input rank of a
+	// map neighbour from its position in the row, computing a query's input
+	// distances only if one of its map neighbours is missing from the row.
+	// Results are identical to the search when the list is exact; a list
+	// from an approximate search gives approximate scores.
 	InputNeighbors []int32
 	InputK         int
 }
@@ -250,12 +255,14 @@ func faithfulness(x []float64, d int, y []float64, k int, opt Options, w which) 
 		h     nbHeap
 		inRow []int32
 		rk    *ranker
+		// pending lists the chunk's queries that need input distances.
+		pending []int
 	}
 	pool := make([]*scratch, workers(nq, opt.Threads))
 	parallelW(nq, opt.Threads, func(wk, lo, hi int) {
 		if pool[wk] == nil {
 			sc := &scratch{inRow: make([]int32, k), rk: newRanker(k)}
-			if needDX {
+			if needDX || inNb != nil && w.trust {
 				for g := range sc.dx {
 					sc.dx[g] = make([]float64, n)
 				}
@@ -268,47 +275,74 @@ func faithfulness(x []float64, d int, y []float64, k int, opt Options, w which) 
 		sc := pool[wk]
 		dx, dy, inRow, rk := &sc.dx, sc.dy, sc.inRow, sc.rk
 		h := &sc.h
-		for g0 := lo; g0 < hi; g0 += group {
-			g1 := min(g0+group, hi)
-			var qs [group]int
-			for m := g0; m < g1; m++ {
-				qs[m-g0] = m
-				if queries != nil {
-					qs[m-g0] = queries[m]
-				}
+		query := func(m int) int {
+			if queries != nil {
+				return queries[m]
 			}
-			if needDX {
-				if g1-g0 == group {
-					inputDistances4(dx, x, d, &qs)
+			return m
+		}
+		mapRow := func(m int) []int32 {
+			if mapNb == nil {
+				return nil
+			}
+			return mapNb[m*k : (m+1)*k]
+		}
+		// First pass: everything the input neighbour list answers alone.
+		pending := sc.pending[:0]
+		for m := lo; m < hi; m++ {
+			i := query(m)
+			if inNb == nil {
+				pending = append(pending, m)
+				continue
+			}
+			row := inNb[i*inK : (i+1)*inK]
+			if w.cont {
+				mapDistances(dy, y, i)
+				contPen[m] = rk.penalty(dy, i, row[:k])
+			}
+			if w.recall {
+				hits[m] = int32(overlap(row[:k], mapRow(m)))
+			}
+			if w.trust {
+				if pen, ok := listPenalty(row, mapRow(m), k); ok {
+					trustPen[m] = pen
 				} else {
-					for m := g0; m < g1; m++ {
-						inputDistances(dx[m-g0], x, d, qs[m-g0])
-					}
+					pending = append(pending, m)
 				}
 			}
-			for m := g0; m < g1; m++ {
-				i := qs[m-g0]
-				dxi := dx[m-g0]
-				if w.cont || w.recall {
-					if inNb != nil {
-						copy(inRow, inNb[i*inK:i*inK+k])
-					} else {
-						selectK(dxi, i, k, h, inRow)
-					}
+		}
+		sc.pending = pending
+		// Second pass: queries that need their input distances, in groups.
+		for g0 := 0; g0 < len(pending); g0 += group {
+			g1 := min(g0+group, len(pending))
+			var qs [group]int
+			for g := g0; g < g1; g++ {
+				qs[g-g0] = query(pending[g])
+			}
+			if g1-g0 == group {
+				inputDistances4(dx, x, d, &qs)
+			} else {
+				for g := g0; g < g1; g++ {
+					inputDistances(dx[g-g0], x, d, qs[g-g0])
 				}
-				var mrow []int32
-				if mapNb != nil {
-					mrow = mapNb[m*k : (m+1)*k]
-				}
+			}
+			for g := g0; g < g1; g++ {
+				m, i, dxi := pending[g], qs[g-g0], dx[g-g0]
 				if w.trust {
-					trustPen[m] = rk.penalty(dxi, i, mrow)
+					trustPen[m] = rk.penalty(dxi, i, mapRow(m))
+				}
+				if inNb != nil {
+					continue
+				}
+				if w.cont || w.recall {
+					selectK(dxi, i, k, h, inRow)
 				}
 				if w.cont {
 					mapDistances(dy, y, i)
 					contPen[m] = rk.penalty(dy, i, inRow)
 				}
 				if w.recall {
-					hits[m] = int32(overlap(inRow, mrow))
+					hits[m] = int32(overlap(inRow, mapRow(m)))
 				}
 			}
 		}
@@ -330,6 +364,28 @@ func faithfulness(x []float64, d int, y []float64, k int, opt Options, w which) 
 		f.KNNRecall = mk(float64(t) / (float64(nq) * float64(k)))
 	}
 	return f, nil
+}
+
+// listPenalty returns Σ_j max(0, r(i,j) − k) over the map neighbours j of
+// i when every one of them appears in i's exact input neighbour row (rank
+// = position + 1); ok is false otherwise.
+func listPenalty(row, mapRow []int32, k int) (pen int64, ok bool) {
+	for _, j := range mapRow {
+		p := -1
+		for s, c := range row {
+			if c == j {
+				p = s
+				break
+			}
+		}
+		if p < 0 {
+			return 0, false
+		}
+		if r := p + 1; r > k {
+			pen += int64(r - k)
+		}
+	}
+	return pen, true
 }
 
 func sum64(v []int64) int64 {

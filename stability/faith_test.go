@@ -3,6 +3,7 @@ package stability
 import (
 	"math"
 	"math/rand/v2"
+	"runtime"
 	"testing"
 )
 
@@ -176,6 +177,119 @@ func TestMapNeighborsBruteForce(t *testing.T) {
 					}
 				}
 			}
+		}
+	}
+}
+
+// With a layout close to the input most queries are answered from the
+// neighbour list alone; the scores must still equal the searched ones.
+func TestInputNeighborListGoodLayout(t *testing.T) {
+	rng := rand.New(rand.NewPCG(27, 28))
+	n, d, K := 1500, 3, 30
+	x := gauss(rng, n*d)
+	y := make([]float64, 2*n)
+	for i := 0; i < n; i++ {
+		x[i*d+2] *= 0.05 // nearly planar input
+		y[2*i] = x[i*d] + 0.02*rng.NormFloat64()
+		y[2*i+1] = x[i*d+1] + 0.02*rng.NormFloat64()
+	}
+	nb := exactInputNeighbors(x, n, d, K)
+	resolved := 0
+	mnb := mapNeighbors(y, 10, nil, 1)
+	for i := 0; i < n; i++ {
+		if _, ok := listPenalty(nb[i*K:(i+1)*K], mnb[i*10:(i+1)*10], 10); ok {
+			resolved++
+		}
+	}
+	if resolved < n/10 {
+		t.Fatalf("only %d of %d queries resolved from the list; test does not exercise it", resolved, n)
+	}
+	for _, k := range []int{1, 10} {
+		a, err := FaithfulnessAt(x, d, y, k, Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		b, err := FaithfulnessAt(x, d, y, k, Options{InputNeighbors: nb, InputK: K, Threads: 2})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if a != b || a.Trustworthiness.Value >= 1 {
+			t.Errorf("k=%d: searched %+v, from list %+v", k, a, b)
+		}
+	}
+}
+
+func exactInputNeighbors(x []float64, n, d, K int) []int32 {
+	nb := make([]int32, n*K)
+	dist := make([]float64, n)
+	var h nbHeap
+	for i := 0; i < n; i++ {
+		inputDistances(dist, x, d, i)
+		selectK(dist, i, K, &h, nb[i*K:(i+1)*K])
+	}
+	return nb
+}
+
+// Threads = 0 follows GOMAXPROCS; the scores' bits must not (team rule).
+func TestDeterministicGOMAXPROCS(t *testing.T) {
+	rng := rand.New(rand.NewPCG(29, 30))
+	n, d := 1200, 4
+	x := gauss(rng, n*d)
+	y := gauss(rng, 2*n)
+	labels := make([]string, n)
+	for i := range labels {
+		labels[i] = string(rune('a' + rng.IntN(3)))
+	}
+	old := runtime.GOMAXPROCS(0)
+	defer runtime.GOMAXPROCS(old)
+	type result struct {
+		f       Faithfulness
+		acc, jc float64
+		dc      PairScore
+	}
+	var first result
+	for m, p := range []int{1, 2, 5} {
+		runtime.GOMAXPROCS(p)
+		var r result
+		var err error
+		if r.f, err = FaithfulnessAt(x, d, y, 7, Options{ExactLimit: 1000, Samples: 300, Seed: 3}); err != nil {
+			t.Fatal(err)
+		}
+		if r.acc, err = LabelAccuracy(y, labels, 9); err != nil {
+			t.Fatal(err)
+		}
+		if r.jc, err = NeighborJaccard(y, x[:2*n], 9); err != nil {
+			t.Fatal(err)
+		}
+		if r.dc, err = DistanceCorrelation(x, d, y, 2, 5000, 8); err != nil {
+			t.Fatal(err)
+		}
+		if m == 0 {
+			first = r
+		} else if r != first {
+			t.Errorf("GOMAXPROCS=%d: got %+v want %+v", p, r, first)
+		}
+	}
+}
+
+// Vote ties go to the tied label whose member is nearest (our documented
+// rule); hand-made cases.
+func TestLabelVoteTies(t *testing.T) {
+	// Point 0 at the origin; neighbours at distance 1 ("x"), 2 ("y"),
+	// 3 ("y"), 4 ("x"). k = 4 is a 2-2 tie and k = 2 a 1-1 tie: "x" has
+	// the nearest member. k = 3 is a 2-1 majority for "y".
+	y := []float64{0, 0, 1, 0, 0, 2, -3, 0, 0, -4, 100, 100, 101, 100}
+	labels := []string{"x", "x", "y", "y", "x", "z", "z"}
+	for _, tc := range []struct {
+		k    int
+		want string
+	}{{4, "x"}, {3, "y"}, {2, "x"}, {1, "x"}} {
+		pred, err := LabelPredictions(y, labels, tc.k, 1)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if pred[0] != tc.want {
+			t.Errorf("k=%d: point 0 predicted %q want %q", tc.k, pred[0], tc.want)
 		}
 	}
 }

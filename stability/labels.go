@@ -48,43 +48,54 @@ func LabelAgreement(y []float64, labels []string, k int) (float64, error) {
 	return labelScore(y, labels, k, 0, true)
 }
 
-func labelScore(y []float64, labels []string, k, threads int, agreement bool) (float64, error) {
+// LabelPredictions returns the label LabelAccuracy predicts for each point
+// (majority of its k nearest map neighbours, ties to the nearest tied
+// label), on up to threads goroutines (0 = GOMAXPROCS).
+func LabelPredictions(y []float64, labels []string, k, threads int) ([]string, error) {
 	n, err := checkLabels(y, labels, k)
 	if err != nil {
-		return 0, err
+		return nil, err
 	}
-	code := make([]int32, n)
+	code, names := encode(labels)
+	pred := predict(y, code, len(names), k, threads)
+	out := make([]string, n)
+	for i, c := range pred {
+		out[i] = names[c]
+	}
+	return out, nil
+}
+
+func encode(labels []string) (code []int32, names []string) {
+	code = make([]int32, len(labels))
 	ids := map[string]int32{}
 	for i, l := range labels {
 		c, ok := ids[l]
 		if !ok {
-			c = int32(len(ids))
+			c = int32(len(names))
 			ids[l] = c
+			names = append(names, l)
 		}
 		code[i] = c
 	}
+	return code, names
+}
+
+// predict returns each point's majority label code among its k map
+// neighbours.
+func predict(y []float64, code []int32, nLabels, k, threads int) []int32 {
+	n := len(code)
 	nb := mapNeighbors(y, k, nil, threads)
-	good := make([]bool, n)
+	pred := make([]int32, n)
 	parallel(n, threads, func(lo, hi int) {
-		count := make([]int, len(ids))
+		count := make([]int, nLabels)
 		for i := lo; i < hi; i++ {
 			row := nb[i*k : (i+1)*k]
-			if agreement {
-				same := 0
-				for _, j := range row {
-					if code[j] == code[i] {
-						same++
-					}
-				}
-				good[i] = 2*same > k
-				continue
-			}
-			best, bestC := int32(-1), 0
 			for _, j := range row {
 				count[code[j]]++
 			}
 			// Walking the row in distance order and keeping the first label
 			// to reach the maximum count breaks ties by nearest member.
+			best, bestC := int32(-1), 0
 			for _, j := range row {
 				if c := count[code[j]]; c > bestC {
 					best, bestC = code[j], c
@@ -93,14 +104,46 @@ func labelScore(y []float64, labels []string, k, threads int, agreement bool) (f
 			for _, j := range row {
 				count[code[j]] = 0
 			}
-			good[i] = best == code[i]
+			pred[i] = best
 		}
 	})
+	return pred
+}
+
+func labelScore(y []float64, labels []string, k, threads int, agreement bool) (float64, error) {
+	n, err := checkLabels(y, labels, k)
+	if err != nil {
+		return 0, err
+	}
+	code, names := encode(labels)
+	good := make([]bool, n)
+	if !agreement {
+		for i, p := range predict(y, code, len(names), k, threads) {
+			good[i] = p == code[i]
+		}
+		return share(good), nil
+	}
+	nb := mapNeighbors(y, k, nil, threads)
+	parallel(n, threads, func(lo, hi int) {
+		for i := lo; i < hi; i++ {
+			same := 0
+			for _, j := range nb[i*k : (i+1)*k] {
+				if code[j] == code[i] {
+					same++
+				}
+			}
+			good[i] = 2*same > k
+		}
+	})
+	return share(good), nil
+}
+
+func share(good []bool) float64 {
 	var c int
 	for _, g := range good {
 		if g {
 			c++
 		}
 	}
-	return float64(c) / float64(n), nil
+	return float64(c) / float64(len(good))
 }
