@@ -68,8 +68,9 @@ func TestGaussianRowWorkedExample(t *testing.T) {
 
 func TestCalibrationEntropy(t *testing.T) {
 	// Definition of perplexity calibration (van der Maaten & Hinton 2008,
-	// §2): the entropy of every p_·|i equals ln(perplexity) within the
-	// tolerance (1e-5, common reference code).
+	// §2: Perp = 2^H with H in bits, i.e. H = ln(perplexity) in nats): the
+	// entropy of every p_·|i equals ln(perplexity) within the tolerance
+	// (1e-5, common reference code).
 	x, n, d := nbtDigits(t)
 	nbDigits, err := ExactNeighbors(x, n, d, 90, 0)
 	if err != nil {
@@ -283,7 +284,8 @@ func TestExactAffinitiesAgainstScikitLearn(t *testing.T) {
 
 // afftCheckSparse checks the documented invariants of a joint P: CSR shape,
 // ascending columns, no diagonal, symmetric, non-negative, finite, sum 1.
-// (Definition of the symmetric joint P, van der Maaten & Hinton 2008 §3.1.)
+// (Definition of the symmetric joint P, van der Maaten & Hinton 2008,
+// symmetric SNE, §3.1 — section from memory.)
 func afftCheckSparse(t *testing.T, p *Sparse) {
 	t.Helper()
 	n := p.N
@@ -535,8 +537,8 @@ func TestAffinitiesDeterministic(t *testing.T) {
 }
 
 func TestExactAffinitiesApproachesSparse(t *testing.T) {
-	// With k = n − 1 neighbours the kNN P is the dense P (definitions,
-	// van der Maaten 2014 §4.1): both paths must agree to rounding.
+	// With k = n − 1 neighbours the kNN P is the dense P (follows from the
+	// definitions in van der Maaten 2014): both paths must agree to rounding.
 	x := nbtClusters(200, 7, 3, 71)
 	nb, err := ExactNeighbors(x, 200, 7, 199, 2)
 	if err != nil {

@@ -163,7 +163,8 @@ func TestExactNeighborsErrors(t *testing.T) {
 }
 
 func TestNeighborCount(t *testing.T) {
-	// k = min(n − 1, ⌊3·perplexity⌋): van der Maaten, JMLR 15, 2014, §4.1.
+	// k = min(n − 1, ⌊3·perplexity⌋): van der Maaten, JMLR 15, 2014, which
+	// keeps ⌊3u⌋ neighbours for perplexity u (§4.1, section from memory).
 	tests := []struct {
 		n    int
 		perp float64
