@@ -199,6 +199,9 @@ func BenchmarkGradient(b *testing.B) {
 	th := runtime.GOMAXPROCS(0)
 	for _, n := range sizes {
 		b.Run("exact/n="+itoa(n), func(b *testing.B) {
+			if n > 20000 {
+				b.Skip("one exact evaluation at this size takes tens of seconds")
+			}
 			benchGradient(b, func() Gradient { return NewExact(th) }, n)
 		})
 		b.Run("barnes-hut/n="+itoa(n), func(b *testing.B) {
