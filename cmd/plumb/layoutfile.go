@@ -1,0 +1,107 @@
+package main
+
+import (
+	"bufio"
+	"encoding/json"
+	"fmt"
+	"io"
+	"os"
+	"strconv"
+
+	"plumb/internal/dataset"
+	"plumb/internal/pq"
+)
+
+// writeLayout writes one row per point (id, label when given, x, y) to out,
+// atomically, with the run description alongside: in the key-value metadata
+// of a Parquet file (key "plumb.run", JSON), in a sidecar out+".json" for CSV.
+func writeLayout(out, format string, data *dataset.Dataset, y []float64, rec embedRecord) error {
+	meta, err := json.Marshal(rec)
+	if err != nil {
+		return err
+	}
+	switch format {
+	case "csv":
+		if err := pq.WriteAtomic(out, func(f *os.File) error { return writeLayoutCSV(f, data, y) }); err != nil {
+			return fmt.Errorf("write %s: %w", out, err)
+		}
+		pretty, _ := json.MarshalIndent(rec, "", "  ")
+		if err := pq.WriteFile(out+".json", append(pretty, '\n')); err != nil {
+			return fmt.Errorf("write %s.json: %w", out, err)
+		}
+		return nil
+	case "parquet":
+		n := data.N
+		point := make([]int32, n)
+		xs := make([]float64, n)
+		ys := make([]float64, n)
+		for i := range n {
+			point[i] = int32(i)
+			xs[i], ys[i] = y[2*i], y[2*i+1]
+		}
+		cols := []pq.Column{
+			{Name: "point", Values: point},
+			{Name: "id", Values: data.IDs},
+		}
+		if data.Labels != nil {
+			cols = append(cols, pq.Column{Name: "label", Values: data.Labels})
+		}
+		cols = append(cols, pq.Column{Name: "x", Values: xs}, pq.Column{Name: "y", Values: ys})
+		t := &pq.Table{Columns: cols, Meta: map[string]string{
+			"plumb.version":           version,
+			"plumb.table":             "layout",
+			"plumb.input_fingerprint": data.Fingerprint,
+			"plumb.run":               string(meta),
+		}}
+		return pq.Write(out, t)
+	}
+	return fmt.Errorf("unknown layout format %q", format)
+}
+
+func writeLayoutCSV(w io.Writer, data *dataset.Dataset, y []float64) error {
+	bw := bufio.NewWriter(w)
+	if data.Labels != nil {
+		bw.WriteString("id,label,x,y\n")
+	} else {
+		bw.WriteString("id,x,y\n")
+	}
+	buf := make([]byte, 0, 64)
+	for i := 0; i < data.N; i++ {
+		buf = appendCSVField(buf[:0], data.IDs[i])
+		buf = append(buf, ',')
+		if data.Labels != nil {
+			buf = appendCSVField(buf, data.Labels[i])
+			buf = append(buf, ',')
+		}
+		buf = strconv.AppendFloat(buf, y[2*i], 'g', -1, 64)
+		buf = append(buf, ',')
+		buf = strconv.AppendFloat(buf, y[2*i+1], 'g', -1, 64)
+		buf = append(buf, '\n')
+		if _, err := bw.Write(buf); err != nil {
+			return err
+		}
+	}
+	return bw.Flush()
+}
+
+// appendCSVField quotes s when RFC 4180 needs it.
+func appendCSVField(dst []byte, s string) []byte {
+	need := s != "" && (s[0] == ' ' || s[len(s)-1] == ' ')
+	for i := 0; i < len(s) && !need; i++ {
+		switch s[i] {
+		case ',', '"', '\n', '\r':
+			need = true
+		}
+	}
+	if !need {
+		return append(dst, s...)
+	}
+	dst = append(dst, '"')
+	for i := 0; i < len(s); i++ {
+		if s[i] == '"' {
+			dst = append(dst, '"')
+		}
+		dst = append(dst, s[i])
+	}
+	return append(dst, '"')
+}
