@@ -40,7 +40,7 @@
 // P, so values before and after the end of early exaggeration are
 // comparable (scikit-learn reports the exaggerated objective in the first
 // phase). The final Result.KL is computed for the final layout with the
-// exact O(N²) Z when N ≤ ExactKLMaxN (10,000) and with one more evaluation
+// exact O(N²) Z when N ≤ ExactKLMaxN (5,000) and with one more evaluation
 // of the run's gradient method beyond.
 //
 // # Gradient methods
