@@ -66,17 +66,23 @@ func drawIndex(n int) []int {
 	return idx
 }
 
-// labelColours assigns palette colours to labels in sorted order; labels
-// past the palette share otherColor.
+// labelColours assigns palette colours to labels by decreasing frequency
+// (ties alphabetical), so the largest groups get the most distinct colours;
+// labels past the palette share otherColor.
 func labelColours(labels []string) (order []string, col map[string]rgb) {
-	seen := map[string]bool{}
+	count := map[string]int{}
 	for _, l := range labels {
-		if !seen[l] {
-			seen[l] = true
+		if count[l] == 0 {
 			order = append(order, l)
 		}
+		count[l]++
 	}
-	sort.Strings(order)
+	sort.Slice(order, func(i, j int) bool {
+		if count[order[i]] != count[order[j]] {
+			return count[order[i]] > count[order[j]]
+		}
+		return order[i] < order[j]
+	})
 	col = map[string]rgb{}
 	for i, l := range order {
 		if i < len(categorical) {
@@ -91,36 +97,44 @@ func labelColours(labels []string) (order []string, col map[string]rgb) {
 type bounds struct{ x0, x1, y0, y1 float64 }
 
 func layoutBounds(ls ...[]float64) bounds {
-	b := bounds{math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)}
+	var xs, ys []float64
 	for _, y := range ls {
 		for i := 0; i+1 < len(y); i += 2 {
-			if !finite(y[i]) || !finite(y[i+1]) {
-				continue
+			if finite(y[i]) && finite(y[i+1]) {
+				xs = append(xs, y[i])
+				ys = append(ys, y[i+1])
 			}
-			b.x0, b.x1 = math.Min(b.x0, y[i]), math.Max(b.x1, y[i])
-			b.y0, b.y1 = math.Min(b.y0, y[i+1]), math.Max(b.y1, y[i+1])
 		}
 	}
-	if !finite(b.x0) {
+	if len(xs) == 0 {
 		return bounds{-1, 1, -1, 1}
 	}
-	return b
+	// The box from the 0.5th to the 99.5th percentile, widened by 8%: a
+	// few far outliers should not shrink every cluster to a dot. Points
+	// outside are drawn on the frame (see mapper.at).
+	b := bounds{quantile(xs, 0.005), quantile(xs, 0.995), quantile(ys, 0.005), quantile(ys, 0.995)}
+	px, py := 0.08*(b.x1-b.x0), 0.08*(b.y1-b.y0)
+	return bounds{b.x0 - px, b.x1 + px, b.y0 - py, b.y1 + py}
 }
 
 // mapper places layout coordinates into a square panel with equal scales
 // on both axes (a t-SNE map has no preferred axis).
-type mapper struct{ ox, oy, s, cx, cy float64 }
+type mapper struct{ ox, oy, s, cx, cy, half float64 }
 
 func newMapper(b bounds, px, py, size float64) mapper {
 	span := math.Max(b.x1-b.x0, b.y1-b.y0)
 	if span <= 0 {
 		span = 1
 	}
-	return mapper{ox: px + size/2, oy: py + size/2, s: (size - 20) / span, cx: (b.x0 + b.x1) / 2, cy: (b.y0 + b.y1) / 2}
+	return mapper{ox: px + size/2, oy: py + size/2, s: (size - 20) / span, cx: (b.x0 + b.x1) / 2, cy: (b.y0 + b.y1) / 2, half: size/2 - 3}
 }
 
+// at maps a layout point into the panel, clamping points beyond the
+// bounds onto the frame.
 func (m mapper) at(x, y float64) (float64, float64) {
-	return m.ox + (x-m.cx)*m.s, m.oy - (y-m.cy)*m.s
+	dx := math.Max(-m.half, math.Min(m.half, (x-m.cx)*m.s))
+	dy := math.Max(-m.half, math.Min(m.half, (y-m.cy)*m.s))
+	return m.ox + dx, m.oy - dy
 }
 
 // alignedConsensus rotates every setting's consensus onto the reference
@@ -147,8 +161,6 @@ func alignedConsensus(st *Study, ref int) ([][]float64, error) {
 	return out, nil
 }
 
-const panel = 210.0
-
 func gridDims(n int) (cols, rows int) {
 	cols = min(n, 4)
 	if cols == 0 {
@@ -165,6 +177,7 @@ func layoutsFigure(st *Study, ref int, chosen string) (*Figure, error) {
 	}
 	n := len(st.Settings)
 	cols, rows := gridDims(n)
+	panel := math.Max(200, math.Min(320, 1000/float64(cols)-14))
 	head := 34.0
 	legendH := 0.0
 	var order []string
@@ -193,7 +206,7 @@ func layoutsFigure(st *Study, ref int, chosen string) (*Figure, error) {
 		if s.ID == chosen {
 			title += " (recommended)"
 		}
-		lines := wrap(title, 34)
+		lines := wrap(title, int(panel/6.2))
 		for k, l := range lines {
 			c.text(px, py+12+float64(k)*13, l, 11, "start", black)
 		}
@@ -245,7 +258,7 @@ func layoutsFigure(st *Study, ref int, chosen string) (*Figure, error) {
 	} else {
 		colourBar(c, 14, ly, 200, "per-point spread (0 to 95th percentile)")
 	}
-	cap := "One panel per setting: the consensus of its seeds, rotated, reflected and scaled by ordinary Procrustes onto the reference setting so that panels are comparable. "
+	cap := "One panel per setting: the consensus of its seeds, rotated, reflected and scaled by ordinary Procrustes onto the reference setting so that panels are comparable; the few points beyond the 0.5th–99.5th percentile box are drawn on the frame. Where seeds disagree (high disparity) the consensus is an average of different maps and can place points between their positions in any single run. "
 	if cols2 != nil {
 		cap += "Colour shows the label (" + st.Input.LabelColumn + "). "
 	} else {

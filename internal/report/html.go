@@ -108,6 +108,9 @@ func page(st *Study, rec *Recommendation, recErr error, figs []*Figure, methods 
 		}
 		w("</div>\n")
 	}
+	if same := seedless(st); len(same) > 0 {
+		w("<p class=\"cautions\"><strong>Seeds made no difference</strong> for %s: every finished seed gave the same map (seed-to-seed disparity 0). With a deterministic start such as PCA initialisation the seed changes nothing, so for these settings the stability scores say nothing about sensitivity to the starting point; sweep <code>--init random</code> to measure it.</p>\n", h(strings.Join(same, "; ")))
+	}
 	w("<p><strong>The rule.</strong> %s</p>\n", h(rec0(rec).Words()))
 	if rec != nil && len(rec.Excluded) > 0 {
 		w("<p>Left out of the rule:</p><ul>\n")
@@ -248,4 +251,16 @@ var stepWords = map[string]string{
 	"jaccard":         "stability (kNN Jaccard)",
 	"kl":              "KL divergence",
 	"order":           "id order (exact tie)",
+}
+
+// seedless lists the settings whose seeds all gave the same map.
+func seedless(st *Study) []string {
+	var out []string
+	for i := range st.Settings {
+		s := &st.Settings[i]
+		if s.RunsDone >= 2 && s.Disparity.Median == 0 && s.Disparity.IQR == 0 {
+			out = append(out, st.Label(s))
+		}
+	}
+	return out
 }

@@ -182,3 +182,34 @@ func TestBuildRejectsBadConsensus(t *testing.T) {
 		t.Errorf("got %v, want an error naming setting %s", err, st.Settings[2].ID)
 	}
 }
+
+// A setting whose seeds all gave the same map (disparity exactly 0) gets a
+// note that its stability scores cannot measure sensitivity to the start.
+func TestSeedlessNote(t *testing.T) {
+	st := syntheticStudy()
+	st.Settings[0].Disparity = Summary{0, 0}
+	out, err := Write(st, t.TempDir(), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	page, _ := os.ReadFile(out.Index)
+	if !strings.Contains(string(page), "Seeds made no difference</strong> for perplexity 5, learning_rate auto:") {
+		t.Error("page lacks the note on settings whose seeds gave identical maps")
+	}
+	st = syntheticStudy()
+	out, _ = Write(st, t.TempDir(), Options{})
+	page, _ = os.ReadFile(out.Index)
+	if strings.Contains(string(page), "Seeds made no difference") {
+		t.Error("note shown although every setting varies across seeds")
+	}
+}
+
+func TestLabelColoursByFrequency(t *testing.T) {
+	order, col := labelColours([]string{"b", "a", "c", "c", "b", "c"})
+	if strings.Join(order, ",") != "c,b,a" {
+		t.Errorf("order: got %v want c,b,a (by count, ties by name)", order)
+	}
+	if col["c"] != categorical[0] || col["a"] != categorical[2] {
+		t.Errorf("colours: got %v", col)
+	}
+}
