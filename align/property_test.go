@@ -215,6 +215,9 @@ func TestGeneralizedNoisy(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
+		if !res.Converged {
+			t.Errorf("noise %g: not converged in %d rounds", noise, res.Iters)
+		}
 		var mean float64
 		for _, r := range res.Residuals {
 			mean += r / 5

@@ -68,3 +68,39 @@ func BenchmarkNeighborJaccard(b *testing.B) {
 		sinkF = j
 	}
 }
+
+// BenchmarkTrustworthinessList: n = 10000, d = 50, nearly planar input (two
+// coordinates sd 1, 48 sd 0.002) and a faithful map, with the exact input
+// neighbour list (K = 90, as the engine keeps for perplexity 30) passed in.
+func BenchmarkTrustworthinessList(b *testing.B) {
+	n, d, K := 10000, 50, 90
+	rng := rand.New(rand.NewPCG(6, 7))
+	x := gauss(rng, n*d)
+	y := make([]float64, 2*n)
+	for i := 0; i < n; i++ {
+		for c := 2; c < d; c++ {
+			x[i*d+c] *= 0.002
+		}
+		y[2*i] = x[i*d] + 0.01*rng.NormFloat64()
+		y[2*i+1] = x[i*d+1] + 0.01*rng.NormFloat64()
+	}
+	nb := exactInputNeighbors(x, n, d, K)
+	for _, withList := range []bool{false, true} {
+		b.Run(fmt.Sprintf("list=%v", withList), func(b *testing.B) {
+			opt := Options{}
+			if withList {
+				opt.InputNeighbors, opt.InputK = nb, K
+			}
+			b.ReportAllocs()
+			b.ResetTimer()
+			for i := 0; i < b.N; i++ {
+				s, err := TrustworthinessWith(x, d, y, 15, opt)
+				if err != nil {
+					b.Fatal(err)
+				}
+				sinkScore.Trustworthiness = s
+			}
+			b.ReportMetric(sinkScore.Trustworthiness.Value, "T")
+		})
+	}
+}
