@@ -187,6 +187,9 @@ func newOptimizer(p *Sparse, init []float64, cfg Config) (*optimizer, error) {
 		return nil, errors.New("tsne: nil affinity matrix")
 	}
 	n := p.N
+	if n < 2 {
+		return nil, fmt.Errorf("tsne: need at least 2 points, got %d", n)
+	}
 	if len(init) != 2*n {
 		return nil, fmt.Errorf("tsne: initial layout has %d values, want %d (2 per point)", len(init), 2*n)
 	}
