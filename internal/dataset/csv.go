@@ -53,7 +53,9 @@ func (b *builder) addID(id string, row, col int) error {
 }
 
 // addLabel records the label of the current point.
+// Surrounding spaces are removed.
 func (b *builder) addLabel(s string) {
+	s = strings.TrimSpace(s)
 	l, ok := b.uniq[s]
 	if !ok {
 		l = strings.Clone(s)

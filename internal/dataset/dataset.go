@@ -55,11 +55,12 @@ type Dataset struct {
 // Options selects and prepares the columns of the input table.
 type Options struct {
 	// IDColumn names the column holding point ids (text or integer; every id
-	// must be unique and non-empty). If empty, ids are the 0-based row
-	// numbers.
+	// must be unique and non-empty after removing surrounding spaces). If
+	// empty, ids are the 0-based row numbers.
 	IDColumn string
 	// LabelColumn names a column of any type whose values are kept, as
-	// text, in Dataset.Labels. If empty, there are no labels.
+	// text without surrounding spaces, in Dataset.Labels (a null in
+	// Parquet/Arrow becomes ""). If empty, there are no labels.
 	LabelColumn string
 	// Columns lists the feature columns, in the order wanted. If empty,
 	// every column except the id and label columns is a feature.

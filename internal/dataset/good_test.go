@@ -197,3 +197,12 @@ func TestFingerprintSensitivity(t *testing.T) {
 		t.Error("fingerprint ignores the ids")
 	}
 }
+
+// TestReadTxt: .txt files are tab-separated when the first line has a tab.
+func TestReadTxt(t *testing.T) {
+	ds, err := Read(in("good.txt"), goodOpt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkGood(t, ds)
+}
