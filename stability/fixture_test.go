@@ -4,6 +4,7 @@ import (
 	"encoding/csv"
 	"encoding/json"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -106,6 +107,11 @@ func TestTrustworthinessSklearn(t *testing.T) {
 	// so any rank difference would show as ≥ 2/(N k (2N−3k−1)) ≈ 1e-8 at
 	// k = 30; the tolerance only absorbs the rounding of the final division.
 	const tol = 1e-12
+	maxDiff := map[string]float64{}
+	defer func() { t.Logf("largest |difference| per score: %v", maxDiff) }()
+	track := func(what string, d float64) {
+		maxDiff[what] = math.Max(maxDiff[what], math.Abs(d))
+	}
 	for _, name := range []string{"pca_noise", "pca_noise2", "random"} {
 		y := ref.Layouts[name]
 		for _, k := range ref.Ks {
@@ -127,6 +133,7 @@ func TestTrustworthinessSklearn(t *testing.T) {
 					{"knn recall", f.KNNRecall.Value, ref.RecallJit[name][ks]},
 				}
 				for _, c := range checks {
+					track(c.what, c.got-c.want)
 					if d := c.got - c.want; d > tol || d < -tol {
 						t.Errorf("%s: got %.17g want %.17g (diff %.3g)", c.what, c.got, c.want, d)
 					}
@@ -138,6 +145,8 @@ func TestTrustworthinessSklearn(t *testing.T) {
 				if err != nil {
 					t.Fatal(err)
 				}
+				track("raw trustworthiness (stable ties)", tr-ref.TrustRawStable[name][ks])
+				track("raw trustworthiness vs sklearn's tie order", tr-ref.TrustRaw[name][ks])
 				if d := tr - ref.TrustRawStable[name][ks]; d > tol || d < -tol {
 					t.Errorf("raw trustworthiness: got %.17g want %.17g (diff %.3g)", tr, ref.TrustRawStable[name][ks], d)
 				}
