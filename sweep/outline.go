@@ -103,6 +103,9 @@ func PlanOutline(ds *dataset.Dataset, plan *Plan, opt Options) (*Outline, error)
 	}
 	// Runs spread over jobs; the shared neighbour search runs on all cores.
 	secs = secs/float64(o.Jobs) + EstimateNeighbors(ds.N, ds.D, o.NeighborK, o.Jobs*o.Threads).Seconds()
+	for _, a := range o.Affinities {
+		secs += costAffinityNeigbor * float64(ds.N) * float64(a.K) / float64(o.Jobs*o.Threads)
+	}
 	if o.Todo == 0 {
 		secs = 0
 	}
@@ -110,16 +113,20 @@ func PlanOutline(ds *dataset.Dataset, plan *Plan, opt Options) (*Outline, error)
 	return o, nil
 }
 
-// Rough costs per point and iteration, measured on the two-core
-// development machine (one thread) with the engine of this version; they
-// are for --dry-run estimates only and may be off by a factor of two or
-// more elsewhere.
+// Rough single-thread costs, measured with this version's engine on the
+// two-core development machine (1000 iterations, perplexity 30, 50
+// features): exact gradient at n = 1000 took 8.8 s, Barnes-Hut at n = 5000
+// 29.4 s, FFT interpolation at n = 5000 104 s (its grid cost dominates at
+// this size and does not grow with n, so the linear model overestimates
+// large n), exact neighbours (k = 90) at n = 5000 1.1 s, affinities 0.28 s
+// (n = 5000) and 0.09 s (n = 1000). For --dry-run estimates only; expect a
+// factor of two either way on other machines and data.
 const (
-	costExactPerPair  = 4e-9   // seconds per pair of points per iteration, exact gradient
-	costBHPerPoint    = 1.5e-6 // seconds per point per iteration, Barnes-Hut θ=0.5
-	costFFTPerPoint   = 1e-6   // seconds per point per iteration, FFT interpolation
-	costNeighborPair  = 1e-9   // seconds per pair and feature, brute-force neighbour search
-	costAffinityPoint = 2e-6   // seconds per point and neighbour
+	costExactPerPair    = 8.8e-9 // seconds per ordered pair of points per iteration
+	costBHPerPointLog   = 4.8e-7 // seconds per point per log2(n) per iteration
+	costFFTPerPoint     = 2.1e-5 // seconds per point per iteration (measured at n = 5000)
+	costNeighborPair    = 1e-9   // seconds per pair and feature of the neighbour search
+	costAffinityNeigbor = 8e-7   // seconds per point and neighbour, per perplexity
 )
 
 // EstimateRun returns a rough duration of one run of setting s on n points
@@ -131,7 +138,7 @@ func EstimateRun(n int, s *Setting, threads int) time.Duration {
 	case tsne.MethodExact:
 		perIter = costExactPerPair * float64(n) * float64(n)
 	case tsne.MethodBarnesHut:
-		perIter = costBHPerPoint * float64(n) * math.Log2(float64(max(n, 2))) / 10
+		perIter = costBHPerPointLog * float64(n) * math.Log2(float64(max(n, 2)))
 	default:
 		perIter = costFFTPerPoint * float64(n)
 	}
@@ -142,6 +149,6 @@ func EstimateRun(n int, s *Setting, threads int) time.Duration {
 func EstimateNeighbors(n, d, k, threads int) time.Duration {
 	threads = max(threads, 1)
 	nf := float64(n)
-	sec := costNeighborPair*nf*math.Min(nf, 20*math.Sqrt(nf)*math.Log2(nf+2))*float64(d) + costAffinityPoint*nf*float64(k)
+	sec := costNeighborPair * nf * math.Min(nf, 20*math.Sqrt(nf)*math.Log2(nf+2)) * float64(d)
 	return time.Duration(sec / float64(threads) * float64(time.Second))
 }
