@@ -101,6 +101,8 @@ func TestReadBadColumnar(t *testing.T) {
 		{"corrupt parquet", "corrupt.parquet", goodOpt, "corrupt or truncated Parquet file", true},
 		{"truncated arrow", "truncated.arrow", goodOpt, "corrupt or truncated Arrow IPC file: ", true},
 		{"CSV read as Parquet", "good.csv", Options{Format: "parquet"}, "corrupt or truncated Parquet file: ", true},
+		{"parquet without rows", "zero_rows.parquet", Options{}, "no data rows", false},
+		{"arrow without rows", "zero_rows.arrow", Options{}, "no data rows", false},
 		{"empty parquet", "empty.csv", Options{Format: "parquet"}, "empty file", false},
 		{"missing parquet", "none.parquet", Options{}, "no such file", false},
 	}

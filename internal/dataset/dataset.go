@@ -82,7 +82,9 @@ type Options struct {
 // after standardisation and PCA when opt asks for them (standardisation
 // first).
 //
-// CSV and TSV files need a header row naming the columns. Fields may be
+// Column names must be non-empty and unique (surrounding spaces are
+// removed from CSV/TSV header names). CSV and TSV files need a header row
+// naming the columns. Fields may be
 // quoted as in RFC 4180 (encoding/csv); a leading UTF-8 byte order mark is
 // dropped, CRLF line ends are accepted and blank lines are skipped. Feature
 // cells must be finite decimal numbers (surrounding spaces are ignored);

@@ -207,6 +207,10 @@ func TestWriteColumnarFixtures(t *testing.T) {
 		{"id", strs("p1", "p2", "p1"), arrow.BinaryTypes.String},
 		{"a", f64s([]float64{1, 2, 3}), arrow.PrimitiveTypes.Float64},
 	}), 1024)
+	// A schema with no rows.
+	empty := record([]fixCol{{"a", f64s(nil), arrow.PrimitiveTypes.Float64}})
+	writeParquet(t, "zero_rows.parquet", empty, 1024)
+	writeArrowFile(t, "zero_rows.arrow", empty, false)
 	// Truncated and corrupted copies of good.parquet and good.arrow.
 	writeFixture(t, "truncated.parquet", pq[:len(pq)/2])
 	bad := bytes.Clone(pq)

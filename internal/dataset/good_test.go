@@ -206,3 +206,16 @@ func TestReadTxt(t *testing.T) {
 	}
 	checkGood(t, ds)
 }
+
+// TestSingleFeature: one feature column is a valid input (issue 7's
+// table), with or without standardisation and PCA to one component.
+func TestSingleFeature(t *testing.T) {
+	ds, err := Read(in("good.csv"), Options{IDColumn: "id", Columns: []string{"a"}, Standardize: true, PCA: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if ds.D != 1 || ds.N != 4 || len(ds.VarianceRatio) != 1 || math.Abs(ds.VarianceRatio[0]-1) > 1e-15 {
+		t.Errorf("got %d×%d with ratios %v, want 4×1 and [1]", ds.N, ds.D, ds.VarianceRatio)
+	}
+	checkConsistent(t, ds)
+}
