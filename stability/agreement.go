@@ -274,6 +274,9 @@ type PairAgreement struct {
 	A, B      int
 	Disparity float64 // align.Disparity(layouts[A], layouts[B])
 	Jaccard   float64 // NeighborJaccard(layouts[A], layouts[B], K)
+	// DistanceSpearman is DistanceCorrelation(layouts[A], 2, layouts[B], 2,
+	// Pairs, Seed) when AgreementOptions.Distances is set, else 0.
+	DistanceSpearman float64
 }
 
 // Agreement is the seed-to-seed agreement of one setting: every pair of its
@@ -283,6 +286,27 @@ type Agreement struct {
 	Pairs     []PairAgreement // (0,1), (0,2), …, (1,2), … in that order
 	Disparity Summary
 	Jaccard   Summary
+	// DistanceSpearman summarises PairAgreement.DistanceSpearman; Count is
+	// 0 when it was not computed. DistancePairs is the number of point
+	// pairs each correlation used.
+	DistanceSpearman Summary
+	DistancePairs    int
+}
+
+// AgreementOptions configures SettingAgreementWith.
+type AgreementOptions struct {
+	// K is the neighbourhood size of the Jaccard overlap. If K is 0,
+	// DefaultK (15) is used.
+	K int
+	// Threads bounds the goroutines (0 = GOMAXPROCS); results do not
+	// depend on it.
+	Threads int
+	// Distances turns on the distance Spearman correlation of every pair,
+	// over Pairs point pairs (0 = DefaultPairs) drawn with Seed; every pair
+	// of layouts uses the same point pairs.
+	Distances bool
+	Pairs     int
+	Seed      uint64
 }
 
 // SettingAgreement compares every pair of S ≥ 2 layouts of the same points
@@ -292,6 +316,14 @@ type Agreement struct {
 // S(S−1)/2 pairs. Each layout's neighbours are found once. threads bounds
 // the goroutines (0 = GOMAXPROCS); the result does not depend on it.
 func SettingAgreement(layouts [][]float64, k, threads int) (*Agreement, error) {
+	return SettingAgreementWith(layouts, AgreementOptions{K: k, Threads: threads})
+}
+
+// SettingAgreementWith is SettingAgreement with options; with
+// opt.Distances it also summarises the distance Spearman correlation of
+// every pair of layouts.
+func SettingAgreementWith(layouts [][]float64, opt AgreementOptions) (*Agreement, error) {
+	k, threads := opt.K, opt.Threads
 	if k <= 0 {
 		k = DefaultK
 	}
@@ -316,7 +348,7 @@ func SettingAgreement(layouts [][]float64, k, threads int) (*Agreement, error) {
 		nbs[s] = mapNeighbors(y, k, nil, threads)
 	}
 	ag := &Agreement{K: k}
-	var dis, jac []float64
+	var dis, jac, sp []float64
 	for a := 0; a < S; a++ {
 		for b := a + 1; b < S; b++ {
 			d, err := align.Disparity(layouts[a], layouts[b])
@@ -324,9 +356,25 @@ func SettingAgreement(layouts [][]float64, k, threads int) (*Agreement, error) {
 				return nil, fmt.Errorf("stability: layouts %d and %d: %w", a, b, err)
 			}
 			j := mean(jaccardRows(nbs[a], nbs[b], n, k))
-			ag.Pairs = append(ag.Pairs, PairAgreement{A: a, B: b, Disparity: d, Jaccard: j})
+			pa := PairAgreement{A: a, B: b, Disparity: d, Jaccard: j}
+			if opt.Distances {
+				dc, err := DistanceCorrelation(layouts[a], 2, layouts[b], 2, opt.Pairs, opt.Seed)
+				if err != nil {
+					return nil, fmt.Errorf("stability: layouts %d and %d: %w", a, b, err)
+				}
+				pa.DistanceSpearman = dc.Value
+				ag.DistancePairs = dc.Pairs
+				sp = append(sp, dc.Value)
+			}
+			ag.Pairs = append(ag.Pairs, pa)
 			dis = append(dis, d)
 			jac = append(jac, j)
+		}
+	}
+	if opt.Distances {
+		var err error
+		if ag.DistanceSpearman, err = Summarize(sp); err != nil {
+			return nil, err
 		}
 	}
 	var err error

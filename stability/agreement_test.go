@@ -126,9 +126,12 @@ func TestAgreementOfCopies(t *testing.T) {
 	for s := 0; s < 4; s++ {
 		ls = append(ls, moved(rng, base, s%2 == 0, 0.1+3*rng.Float64()))
 	}
-	ag, err := SettingAgreement(ls, 15, 0)
+	ag, err := SettingAgreementWith(ls, AgreementOptions{K: 15, Distances: true, Pairs: 20000, Seed: 3})
 	if err != nil {
 		t.Fatal(err)
+	}
+	if ag.DistancePairs != 20000 || ag.DistanceSpearman.Count != 10 || math.Abs(ag.DistanceSpearman.Min-1) > 1e-12 {
+		t.Errorf("distance Spearman summary %+v over %d pairs, want all ≈ 1 over 20000", ag.DistanceSpearman, ag.DistancePairs)
 	}
 	if len(ag.Pairs) != 10 {
 		t.Fatalf("got %d pairs want 10", len(ag.Pairs))

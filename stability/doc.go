@@ -7,7 +7,7 @@
 // Jaccard overlap of each point's k nearest map neighbours in the two
 // layouts, and the Spearman rank correlation of map distances over a
 // seeded sample of point pairs, which reflects the global arrangement. Over
-// all the seeds of one setting, Agreement summarises every pair by median
+// all the seeds of one setting, SettingAgreement summarises every pair by median
 // and interquartile range, and Spread measures how far each point wanders
 // around the generalised Procrustes consensus.
 //
