@@ -255,7 +255,7 @@ func (c *canvas) png() ([]byte, error) {
 		}
 	}
 	var buf bytes.Buffer
-	enc := png.Encoder{CompressionLevel: png.BestCompression}
+	enc := png.Encoder{CompressionLevel: png.DefaultCompression}
 	if err := enc.Encode(&buf, img); err != nil {
 		return nil, err
 	}
