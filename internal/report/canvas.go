@@ -186,10 +186,24 @@ func (c *canvas) svg() []byte {
 // pngScale is how many PNG pixels one SVG pixel becomes.
 const pngScale = 2
 
-// png rasterises the shapes (text is left to the SVG) with simple
-// coverage-based anti-aliasing.
+// png rasterises the shapes with simple coverage-based anti-aliasing;
+// text is drawn with the 5×7 bitmap font of font.go.
 func (c *canvas) png() ([]byte, error) {
 	w, h := int(math.Ceil(c.w*pngScale)), int(math.Ceil(c.h*pngScale))
+	// The bitmap font is monospaced and can run wider than the SVG's
+	// proportional text: widen the image to fit every label.
+	for _, s := range c.shapes {
+		if t, ok := s.(textShape); ok && t.rotate == 0 {
+			right := int(math.Round(t.x*pngScale)) + textWidth(t.s, t.size)
+			switch t.anchor {
+			case "middle":
+				right -= textWidth(t.s, t.size) / 2
+			case "end":
+				right -= textWidth(t.s, t.size)
+			}
+			w = max(w, right+2*pngScale)
+		}
+	}
 	img := image.NewNRGBA(image.Rect(0, 0, w, h))
 	for i := range img.Pix {
 		img.Pix[i] = 0xff
@@ -235,6 +249,8 @@ func (c *canvas) png() ([]byte, error) {
 					blend(x, y, s.fill, cov*s.alpha)
 				}
 			}
+		case textShape:
+			drawText(s, blend)
 		case lineShape:
 			hw := s.width * pngScale / 2
 			for i := 0; i+3 < len(s.pts); i += 2 {
@@ -273,4 +289,51 @@ func segDist(px, py, ax, ay, bx, by float64) float64 {
 		t = clamp01(((px-ax)*dx + (py-ay)*dy) / l2)
 	}
 	return math.Hypot(px-(ax+t*dx), py-(ay+t*dy))
+}
+
+// drawText draws a text shape with the bitmap font; rotated text (−90°)
+// reads upwards as in the SVG.
+func drawText(t textShape, blend func(x, y int, col rgb, a float64)) {
+	sc := glyphScale(t.size)
+	w := textWidth(t.s, t.size)
+	x0 := int(math.Round(t.x * pngScale))
+	y0 := int(math.Round(t.y * pngScale))
+	off := 0
+	switch t.anchor {
+	case "middle":
+		off = -w / 2
+	case "end":
+		off = -w
+	}
+	k := 0
+	for _, r := range t.s {
+		rows := glyph(r)
+		for gy, row := range rows {
+			for gx := 0; gx < 5; gx++ {
+				if row[gx] != '#' {
+					continue
+				}
+				// Cell position along the text (u) and from its top (v),
+				// relative to the anchor on the baseline.
+				u := off + (6*k+gx)*sc
+				v := (gy - 7) * sc
+				reps := 1
+				if t.bold {
+					reps = 2
+				}
+				for b := 0; b < reps; b++ {
+					for dy := 0; dy < sc; dy++ {
+						for dx := 0; dx < sc; dx++ {
+							px, py := x0+u+dx+b, y0+v+dy
+							if t.rotate != 0 {
+								px, py = x0+v+dy, y0-(u+dx+b)
+							}
+							blend(px, py, t.color, 1)
+						}
+					}
+				}
+			}
+		}
+		k++
+	}
 }

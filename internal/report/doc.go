@@ -11,8 +11,8 @@
 // supports the analyst's judgement and does not replace it.
 //
 // Figures are drawn once into a small list of shapes and then written both
-// as SVG (with every label as text) and as PNG (image/png, shapes only at
-// twice the SVG's pixel size). Layouts of different settings are rotated
+// as SVG (labels as real text) and as PNG (image/png at twice the SVG's
+// pixel size, labels in a 5×7 bitmap font of our own). Layouts of different settings are rotated
 // onto one reference frame with ordinary Procrustes (package align) so that
 // panels can be compared by eye.
 //
