@@ -61,6 +61,8 @@ func TestReadBadInput(t *testing.T) {
 		{"corrupt gzip", "corrupt.csv.gz", goodOpt, `not a valid gzip file: gzip: invalid header`},
 		{"unknown extension", "good.dat", goodOpt, `cannot tell the format from the extension .dat; name the format (csv, tsv, parquet or arrow)`},
 		{"PCA too large", "good.csv", Options{IDColumn: "id", LabelColumn: "group", PCA: 4}, `PCA with 4 components needs 1 ≤ K ≤ min(n, d) = min(4, 3)`},
+		{"a directory", ".", Options{Format: "csv"}, "is a directory, not a file"},
+		{"unknown format option", "good.csv", Options{Format: "xlsx"}, `unknown format "xlsx" (want csv, tsv, parquet or arrow)`},
 		{"negative PCA", "good.csv", Options{PCA: -1}, `PCA components must be 0 (off) or positive, got -1`},
 	}
 	for _, c := range cases {
