@@ -51,3 +51,17 @@ func TestReportCommand(t *testing.T) {
 		t.Errorf("no argument: exit %d %s", code, stderr)
 	}
 }
+
+// An unscored study: a one-line error and a hint naming the command.
+func TestReportUnscored(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "raw")
+	irisStudy(t, dir, "../../testdata/iris.csv", "--no-score")
+	_, stderr, code := plumb(t, "report", dir)
+	if code != 1 || !strings.Contains(stderr, "has no score tables") || !strings.Contains(stderr, "plumb: hint: run: plumb score "+dir) {
+		t.Errorf("exit %d, stderr %q", code, stderr)
+	}
+	_, stderr, code = plumb(t, "check", "--baseline", dir, dir)
+	if code != 2 || !strings.Contains(stderr, "has no score tables") {
+		t.Errorf("check: exit %d, stderr %q", code, stderr)
+	}
+}

@@ -158,12 +158,12 @@ func key(s *report.Setting, ignore map[string]bool) string {
 	return strings.Join(parts, ",")
 }
 
-// label names a setting by every parameter (not only the varied ones, since
-// the two studies may vary different ones).
-func label(s *report.Setting, ignore map[string]bool) string {
+// label names a setting by the parameters in show (all of them when show
+// is empty), as name=value pairs in the setting's order.
+func label(s *report.Setting, ignore, show map[string]bool) string {
 	var parts []string
 	for _, f := range s.Params {
-		if !ignore[f.Name] {
+		if !ignore[f.Name] && (len(show) == 0 || show[f.Name]) {
 			parts = append(parts, f.Name+"="+f.Value)
 		}
 	}
@@ -171,6 +171,29 @@ func label(s *report.Setting, ignore map[string]bool) string {
 		return s.ID
 	}
 	return strings.Join(parts, " ")
+}
+
+// varying returns the parameters that take more than one value across the
+// settings of both studies; labels name settings by these.
+func varying(base, cur *report.Study, ignore map[string]bool) map[string]bool {
+	vals := map[string]map[string]bool{}
+	for _, st := range []*report.Study{base, cur} {
+		for i := range st.Settings {
+			for _, f := range st.Settings[i].Params {
+				if vals[f.Name] == nil {
+					vals[f.Name] = map[string]bool{}
+				}
+				vals[f.Name][f.Value] = true
+			}
+		}
+	}
+	out := map[string]bool{}
+	for name, v := range vals {
+		if len(v) > 1 && !ignore[name] {
+			out[name] = true
+		}
+	}
+	return out
 }
 
 // Compare checks cur against base. Studies that cannot be compared give a
@@ -190,6 +213,7 @@ func Compare(base, cur *report.Study, opt Options) (*Result, error) {
 	for _, n := range opt.Ignore {
 		ignore[n] = true
 	}
+	show := varying(base, cur, ignore)
 	curBy := map[string]*report.Setting{}
 	for i := range cur.Settings {
 		curBy[key(&cur.Settings[i], ignore)] = &cur.Settings[i]
@@ -203,19 +227,19 @@ func Compare(base, cur *report.Study, opt Options) (*Result, error) {
 			matched[k] = true
 			pairs = append(pairs, [2]*report.Setting{b, c})
 		} else {
-			res.OnlyBaseline = append(res.OnlyBaseline, label(b, ignore))
+			res.OnlyBaseline = append(res.OnlyBaseline, label(b, ignore, show))
 		}
 	}
 	for i := range cur.Settings {
 		if !matched[key(&cur.Settings[i], ignore)] {
-			res.OnlyCurrent = append(res.OnlyCurrent, label(&cur.Settings[i], ignore))
+			res.OnlyCurrent = append(res.OnlyCurrent, label(&cur.Settings[i], ignore, show))
 		}
 	}
 	if len(pairs) == 0 {
 		res.Outcome = Incomparable
 		res.Reason = fmt.Sprintf("no setting in common: the baseline has %d setting(s), the current study %d, and none match on every parameter", len(base.Settings), len(cur.Settings))
 		if len(base.Settings) > 0 && len(cur.Settings) > 0 {
-			res.Reason += fmt.Sprintf(" (for example baseline %q vs current %q)", label(&base.Settings[0], ignore), label(&cur.Settings[0], ignore))
+			res.Reason += fmt.Sprintf(" (for example baseline %q vs current %q)", label(&base.Settings[0], ignore, nil), label(&cur.Settings[0], ignore, nil))
 		}
 		return res, nil
 	}
@@ -236,7 +260,7 @@ func Compare(base, cur *report.Study, opt Options) (*Result, error) {
 		k = len(bi) - 1
 	}
 	for _, p := range pairs {
-		sr, err := compareSetting(p[0], p[1], bi, ci, len(onlyB), k, th, ignore, base.IDs)
+		sr, err := compareSetting(p[0], p[1], bi, ci, len(onlyB), k, th, label(p[0], ignore, show), base.IDs)
 		if err != nil {
 			return nil, err
 		}
@@ -266,8 +290,8 @@ func Compare(base, cur *report.Study, opt Options) (*Result, error) {
 	return res, nil
 }
 
-func compareSetting(b, c *report.Setting, bi, ci []int, missing, k int, th Thresholds, ignore map[string]bool, ids []string) (*SettingResult, error) {
-	sr := &SettingResult{Label: label(b, ignore), BaselineID: b.ID, CurrentID: c.ID, Points: len(bi), MissingPoints: missing, K: k,
+func compareSetting(b, c *report.Setting, bi, ci []int, missing, k int, th Thresholds, name string, ids []string) (*SettingResult, error) {
+	sr := &SettingResult{Label: name, BaselineID: b.ID, CurrentID: c.ID, Points: len(bi), MissingPoints: missing, K: k,
 		Disparity: math.NaN(), Jaccard: math.NaN(), Changes: []ScoreChange{}, Moved: []Moved{}, Failures: []string{}}
 	sr.DisparityLimit = th.MaxDisparity
 	if d := b.Disparity.Median; finite(d) {
