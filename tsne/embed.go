@@ -16,8 +16,9 @@ type EmbedConfig struct {
 	Init Init
 	// Seed drives every random choice (the random initialisation).
 	Seed uint64
-	// Neighbors selects the neighbour search: "exact", "approx", or "" /
-	// "auto" (currently exact search for every N).
+	// Neighbors selects the neighbour search: "exact" (ExactNeighbors),
+	// "approx" (ApproxNeighbors, seeded by Seed), or "" / "auto": exact for
+	// N < ApproxAutoMinN, approximate beyond.
 	Neighbors string
 }
 
@@ -42,7 +43,7 @@ func Embed(x []float64, n, d int, cfg EmbedConfig) (*Result, error) {
 	case "exact":
 		nb, err = ExactNeighbors(x, n, d, k, threads)
 	case "approx":
-		err = fmt.Errorf("tsne: approximate neighbour search is not available yet")
+		nb, err = ApproxNeighbors(x, n, d, k, cfg.Seed, threads)
 	}
 	if err != nil {
 		return nil, fmt.Errorf("tsne: neighbours: %w", err)
@@ -91,6 +92,9 @@ func checkEmbedConfig(cfg *EmbedConfig, n, d, lenX int) error {
 	switch cfg.Neighbors {
 	case "", "auto":
 		cfg.Neighbors = "exact"
+		if n >= ApproxAutoMinN {
+			cfg.Neighbors = "approx"
+		}
 	case "exact", "approx":
 	default:
 		return fmt.Errorf("tsne: unknown neighbour search %q (want auto, exact or approx)", cfg.Neighbors)

@@ -109,10 +109,12 @@ type fftState struct {
 	// Per worker.
 	work []fftWorker
 	// Stored task functions (method values allocate when created).
-	fnBounds, fnPrep, fnSpread, fnRows, fnKCols, fnCols, fnInv, fnGather, fnFinish func(w, t int)
-	mins                                                                           []float64 // 4 per point task
-	zinv                                                                           float64
-	kloc                                                                           [81]float64 // kernel between the 9 nodes of one interval (a = 3·row + column)
+	fnBounds, fnPrep, fnSpread, fnKRows, fnRows, fnKCols, fnCols, fnInv, fnGather, fnFinish func(w, t int)
+	mins                                                                                    []float64 // 4 per point task
+	zinv                                                                                    float64
+	kloc                                                                                    [81]float64 // kernel between the 9 nodes of one interval (a = 3·row + column)
+	kh                                                                                      float64     // interval width of the kernel transform in khat
+	knb                                                                                     int         // interval count of khat (0: none)
 }
 
 type fftWorker struct {
@@ -129,6 +131,7 @@ func (s *fftState) init(threads int) {
 	s.fnPrep = s.taskPrep
 	s.fnSpread = s.taskSpread
 	s.fnRows = s.taskRows
+	s.fnKRows = s.taskKernelRows
 	s.fnKCols = s.taskKernelCols
 	s.fnCols = s.taskCols
 	s.fnInv = s.taskInvRows
@@ -216,14 +219,13 @@ func (g *FFT) Gradient(dst, y []float64, p *Sparse, exaggeration float64) ([]flo
 	if perUnit <= 0 {
 		perUnit = 1
 	}
-	nb := minB
-	if want := math.Ceil(side * perUnit); want > float64(nb) && want < 1e5 {
-		nb = int(want)
-	}
-	nb = fftSmooth(nb)
+	nb, h := fftIntervals(side, minB, perUnit)
 	s.setGrid(nb)
-	s.x0, s.y0, s.h = xmin, ymin, side/float64(nb)
-	s.setLocal()
+	s.x0, s.y0, s.h = xmin, ymin, h
+	kernelStale := h != s.kh || nb != s.knb
+	if kernelStale {
+		s.setLocal()
+	}
 
 	// Per-point interval and Lagrange weights; counting sort by interval.
 	s.box = fftGrowI(s.box, n)
@@ -252,8 +254,12 @@ func (g *FFT) Gradient(dst, y []float64, p *Sparse, exaggeration float64) ([]flo
 
 	// Spread, convolve, gather.
 	g.pool.run(nb, s.fnSpread)
-	g.pool.run(s.l+4*s.m, s.fnRows)
-	g.pool.run(s.hl, s.fnKCols)
+	if kernelStale {
+		g.pool.run(s.l, s.fnKRows)
+		g.pool.run(s.hl, s.fnKCols)
+		s.kh, s.knb = h, nb
+	}
+	g.pool.run(4*s.m, s.fnRows)
 	g.pool.run(4*s.hl, s.fnCols)
 	g.pool.run(4*s.m, s.fnInv)
 	g.pool.run(ntask, s.fnGather)
@@ -270,12 +276,43 @@ func (g *FFT) Gradient(dst, y []float64, p *Sparse, exaggeration float64) ([]flo
 	return dst, z
 }
 
+// fftMaxIntervals caps the grid (6·600 = 3600 points per side, about 0.5 GB
+// of spectra); beyond it the intervals widen with the layout.
+const fftMaxIntervals = 600
+
+// fftIntervals returns the number of intervals per dimension and their
+// width for a layout whose bounding square has the given side. Once the
+// layout spans more than minB intervals of the nominal width 1/perUnit,
+// the count follows the extent, ⌈side·perUnit⌉ rounded up to a 5-smooth
+// number (at most fftMaxIntervals), and the width is side/count ≤
+// 1/perUnit. Below, minB (rounded up likewise) intervals are used and the
+// width is the smallest rung of the ladder 2^(j/16)/perUnit that covers
+// the layout (at most 4.4% wider than needed), which keeps the width, and
+// so the kernel's transform, unchanged over many iterations of the early,
+// compact phase.
+func fftIntervals(side float64, minB int, perUnit float64) (int, float64) {
+	unit := 1 / perUnit
+	if side*perUnit > float64(minB) {
+		nb := fftSmooth(min(int(math.Ceil(side*perUnit)), fftMaxIntervals))
+		return nb, side / float64(nb)
+	}
+	nb := fftSmooth(minB)
+	j := math.Ceil(16 * math.Log2(side/(float64(nb)*unit)))
+	h := unit * math.Exp2(j/16)
+	for h*float64(nb) < side {
+		j++
+		h = unit * math.Exp2(j/16)
+	}
+	return nb, h
+}
+
 // setGrid sizes the grid workspaces for nb intervals per dimension.
 func (s *fftState) setGrid(nb int) {
 	if nb == s.nb {
 		return
 	}
 	s.nb = nb
+	s.knb = 0 // kernel transform must be redone
 	s.m = fftNodes * nb
 	s.l = 2 * s.m
 	s.hl = s.l/2 + 1
@@ -402,47 +439,49 @@ func (s *fftState) taskSpread(_, t int) {
 	}
 }
 
-// taskRows does the forward real FFT of one row: tasks [0, l) are rows of
-// the sampled kernel, the rest are rows of the four charge grids.
+// taskKernelRows does the forward real FFT of row t of the kernel sampled
+// on the grid, in circulant (wrap-around) order.
+func (s *fftState) taskKernelRows(w, t int) {
+	wk := &s.work[w]
+	l, m := s.l, s.m
+	buf := wk.real
+	dr := t
+	if dr > m {
+		dr = l - dr
+	}
+	h := s.h / fftNodes
+	ry := float64(dr) * h
+	for c := 0; c < l; c++ {
+		dc := c
+		if dc > m {
+			dc = l - dc
+		}
+		rx := float64(dc) * h
+		d := 1 + rx*rx + ry*ry
+		buf[c] = 1 / (d * d)
+	}
+	if dr == m {
+		clear(buf) // unused wrap-around row (offset m is never needed)
+	}
+	buf[m] = 0
+	wk.rfft.Coefficients(wk.half, buf)
+	for kx, v := range wk.half {
+		s.khat[kx*l+t] = v
+	}
+}
+
+// taskRows does the forward real FFT of row t%m of charge grid t/m.
 func (s *fftState) taskRows(w, t int) {
 	wk := &s.work[w]
 	l, m := s.l, s.m
 	buf := wk.real
-	var dst []complex128
-	var row int
-	if t < l {
-		row = t
-		dr := row
-		if dr > m {
-			dr = l - dr
-		}
-		h := s.h / fftNodes
-		ry := float64(dr) * h
-		for c := 0; c < l; c++ {
-			dc := c
-			if dc > m {
-				dc = l - dc
-			}
-			rx := float64(dc) * h
-			d := 1 + rx*rx + ry*ry
-			buf[c] = 1 / (d * d)
-		}
-		if dr == m {
-			clear(buf) // unused wrap-around row (distance m·h is never needed)
-		}
-		buf[m] = 0
-		dst = s.khat
-	} else {
-		t -= l
-		ch, r := t/m, t%m
-		row = r
-		copy(buf[:m], s.charge[ch][r*m:(r+1)*m])
-		clear(buf[m:])
-		dst = s.spec[ch]
-	}
+	ch, r := t/m, t%m
+	copy(buf[:m], s.charge[ch][r*m:(r+1)*m])
+	clear(buf[m:])
 	wk.rfft.Coefficients(wk.half, buf)
+	dst := s.spec[ch]
 	for kx, v := range wk.half {
-		dst[kx*l+row] = v
+		dst[kx*l+r] = v
 	}
 }
 

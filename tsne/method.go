@@ -27,11 +27,23 @@ const (
 // Beyond it the gap grows about linearly with N (3.7× at 10,000).
 const ExactMaxN = 1000
 
+// FFTMinN is the smallest number of points for which AutoMethod picks the
+// FFT-interpolation gradient. The FFT's cost is dominated by a grid whose
+// size follows the layout's extent, not N (about 10–20 ms per evaluation
+// on 2 cores for converged maps of ±30–40), while Barnes-Hut grows as
+// N log N; on clustered layouts of extent ±40 BenchmarkGradient-style
+// measurements (fft_test.go) put the crossover near N = 10,000.
+const FFTMinN = 10000
+
 // AutoMethod returns the gradient method used when Config.Method is "" or
-// MethodAuto: MethodExact for n ≤ ExactMaxN and MethodBarnesHut beyond.
+// MethodAuto: MethodExact for n ≤ ExactMaxN, MethodFFT for n ≥ FFTMinN,
+// and MethodBarnesHut in between.
 func AutoMethod(n int) Method {
-	if n <= ExactMaxN {
+	switch {
+	case n <= ExactMaxN:
 		return MethodExact
+	case n >= FFTMinN:
+		return MethodFFT
 	}
 	return MethodBarnesHut
 }
@@ -67,7 +79,7 @@ func newGradient(m Method, theta float64, threads int) (Gradient, error) {
 	case MethodBarnesHut:
 		return NewBarnesHut(theta, threads), nil
 	case MethodFFT:
-		return nil, fmt.Errorf("tsne: gradient method %q is not available yet", m)
+		return NewFFT(threads), nil
 	}
 	return nil, fmt.Errorf("tsne: unknown gradient method %q (want auto, exact, barnes-hut or fft)", m)
 }
