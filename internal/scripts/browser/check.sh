@@ -27,11 +27,15 @@ report="${1:-}"
 out="${2:-$work/shots}"
 if [ -z "$report" ]; then
 	(cd "$root" && go build -o "$work/plumb" ./cmd/plumb)
-	"$work/plumb" demo --out "$work/demo" >/dev/null
+	"$work/plumb" demo --quiet --out "$work/demo" >/dev/null
 	report="$work/demo/study/report"
 fi
 # Self-test: a page with a deliberate error must be caught.
 printf '<!DOCTYPE html><html><head><link rel="icon" href="data:,"></head><body><script>console.error("deliberate");</script></body></html>' >"$work/bad.html"
-node --experimental-websocket "$here/check.mjs" "$work/bad.html" "$work/selftest" --expect-errors >/dev/null
+if ! node --experimental-websocket "$here/check.mjs" "$work/bad.html" "$work/selftest" --expect-errors >"$work/selftest.log" 2>&1; then
+	cat "$work/selftest.log" >&2
+	echo "check.sh: self-test failed: the check did not catch a deliberate console error" >&2
+	exit 1
+fi
 node --experimental-websocket "$here/check.mjs" "$report/index.html" "$out"
 echo "screenshots: $out/report-top.png $out/report-full.png"
