@@ -254,7 +254,7 @@ func TestBadInputs(t *testing.T) {
 		{name: "unknown gradient", input: rbIris, extra: []string{"--gradient", "fast"}, want: []string{`--gradient "fast": want one of`}},
 		{name: "duplicate perplexity", input: rbIris, extra: []string{"--perplexity", "5,5"}, want: []string{"--perplexity", "duplicate value 5"}},
 		{name: "plan file value out of range", input: rbIris, extra: []string{"--plan", w("plan.json", `{"learning_rate": ["auto", -1]}`)},
-			want: []string{"plan.json: learning_rate", "must be positive or auto"},
+			want:  []string{"plan.json: learning_rate", "must be positive or auto"},
 			bug:   "sweep/plan.go Spec.Plan: a bad value from --plan FILE is reported as the flag (--learning-rate \"-1\"), not as FILE: learning_rate (PlanError.File is never set)",
 			bugIf: func(s string) bool { return !strings.Contains(s, "plan.json") }},
 		{name: "plan file not JSON", input: rbIris, extra: []string{"--plan", w("plan2.json", "perplexity = 5\n")},
