@@ -13,6 +13,7 @@ import (
 // num marshals NaN and ±Inf as JSON null.
 type num float64
 
+// MarshalJSON writes the number, or null when it is not finite.
 func (n num) MarshalJSON() ([]byte, error) {
 	if !finite(float64(n)) {
 		return []byte("null"), nil

@@ -88,9 +88,6 @@ func (c *canvas) text(x, y float64, s string, size float64, anchor string, col r
 func (c *canvas) bold(x, y float64, s string, size float64, anchor string) {
 	c.shapes = append(c.shapes, textShape{x, y, s, size, anchor, black, true, 0})
 }
-func (c *canvas) vtext(x, y float64, s string, size float64) {
-	c.shapes = append(c.shapes, textShape{x, y, s, size, "middle", black, false, -90})
-}
 
 func esc(s string) string {
 	var b strings.Builder

@@ -13,6 +13,7 @@ import (
 // NotScoredError reports a study whose score tables are missing.
 type NotScoredError struct{ Dir string }
 
+// Error says which study lacks its scores.
 func (e *NotScoredError) Error() string { return e.Dir + " has no score tables" }
 
 // Hint suggests the command that makes them.
