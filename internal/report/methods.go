@@ -22,6 +22,10 @@ func paramWords(name string) string {
 		return "iterations (in all)"
 	case "init":
 		return "initialisation"
+	case "gradient":
+		return "gradient method as planned"
+	case "theta":
+		return "Barnes-Hut θ"
 	}
 	return strings.ReplaceAll(name, "_", " ")
 }
