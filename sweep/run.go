@@ -50,7 +50,13 @@ const (
 	EventRunDone
 	// EventRunFailed: a run failed (Err says why) and was recorded.
 	EventRunFailed
+	// EventRunProgress: a run in flight reached iteration Iter of Iters
+	// (sent every ProgressEvery iterations).
+	EventRunProgress
 )
+
+// ProgressEvery is the iteration interval of EventRunProgress.
+const ProgressEvery = 50
 
 // Event is a report from a running sweep.
 type Event struct {
@@ -63,6 +69,8 @@ type Event struct {
 	// started.
 	Done, Failed, Todo int
 	Elapsed            time.Duration
+	// Iter and Iters: the iteration reached by Run (EventRunProgress).
+	Iter, Iters int
 }
 
 // Stats counts the work a sweep did; tests use it to prove the sharing.
@@ -436,7 +444,12 @@ func (sh *shared) runOne(ctx context.Context, opt Options, info *Info, r *Run, t
 		init = tsne.RandomInit(sh.ds.N, r.Seed)
 	}
 	cfg := runConfig(s, threads, sh.plan.KLEvery)
-	cfg.Progress = func(tsne.Progress) bool { return ctx.Err() == nil }
+	cfg.Progress = func(pr tsne.Progress) bool {
+		if sh.event != nil && pr.Iter%ProgressEvery == 0 && pr.Iter < pr.Iters {
+			sh.event(Event{Kind: EventRunProgress, Run: r, Iter: pr.Iter, Iters: pr.Iters})
+		}
+		return ctx.Err() == nil
+	}
 	rec = &Record{RunID: r.ID, SettingID: s.ID, Seed: r.Seed, PlanHash: info.PlanHash,
 		InputFingerprint: info.Input.Fingerprint,
 		LearningRate:     cfg.LearningRate, Gradient: string(resolveGradient(s.Gradient, sh.ds.N))}

@@ -222,3 +222,27 @@ func TestRefusesOtherData(t *testing.T) {
 		t.Fatalf("force: got %+v, %v", sum, err)
 	}
 }
+
+// Same plan ⇒ identical layout bits for any jobs × threads, for each
+// gradient method (the engine's determinism promise, STYLE.md; checked
+// here end to end through the study files).
+func TestDeterministicAcrossParallelism(t *testing.T) {
+	ds := iris(t)
+	p, err := Spec{Perplexity: "10", Gradient: "exact,barnes-hut,fft", Seeds: "2", Iters: "20", ExaggerationIters: "5", Init: "random"}.Plan()
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref map[string]*pq.Table
+	for _, par := range [][2]int{{1, 1}, {1, 2}, {3, 1}} {
+		dir := t.TempDir()
+		runSweep(t, ds, p, dir, func(o *Options) { o.Jobs, o.Threads = par[0], par[1] })
+		got := decoded(t, dir)
+		if ref == nil {
+			ref = got
+			continue
+		}
+		if !reflect.DeepEqual(ref, got) {
+			t.Errorf("jobs=%d threads=%d: study differs from jobs=1 threads=1", par[0], par[1])
+		}
+	}
+}

@@ -256,6 +256,7 @@ type progress struct {
 	todo     int
 	elapsed  time.Duration
 	interval time.Duration
+	iter     string
 }
 
 func newProgress(w io.Writer) *progress {
@@ -282,10 +283,20 @@ func (p *progress) event(e sweep.Event) {
 		p.clear()
 		fmt.Fprintf(p.w, "plumb: %s\n", e.Message)
 		return
+	case sweep.EventRunProgress:
+		// Only the terminal bar shows the iteration of a run in flight
+		// (useful for large n, where one run takes minutes).
+		if p.tty && time.Since(p.last) >= p.interval {
+			p.iter = fmt.Sprintf(", run %s at iteration %d/%d", e.Run.ID, e.Iter, e.Iters)
+			p.last = time.Now()
+			p.draw()
+		}
+		return
 	case sweep.EventRunFailed:
 		p.clear()
 		fmt.Fprintf(p.w, "plumb: run %s failed: %v\n", e.Run.ID, e.Err)
 	}
+	p.iter = ""
 	p.done, p.failed, p.todo, p.elapsed = e.Done, e.Failed, e.Todo, e.Elapsed
 	finished := p.done+p.failed == p.todo
 	if !finished && time.Since(p.last) < p.interval {
@@ -319,7 +330,7 @@ func (p *progress) draw() {
 	n := p.done + p.failed
 	fill := width * n / p.todo
 	bar := strings.Repeat("#", fill) + strings.Repeat(".", width-fill)
-	fmt.Fprintf(p.w, "\r\x1b[K[%s] %s", bar, p.line())
+	fmt.Fprintf(p.w, "\r\x1b[K[%s] %s%s", bar, p.line(), p.iter)
 	p.drawn = true
 }
 
