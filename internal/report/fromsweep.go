@@ -174,11 +174,13 @@ func FromSweep(s *sweep.Study) (*Study, error) {
 		nan := Summary{math.NaN(), math.NaN()}
 		set.Disparity, set.Jaccard, set.Trust, set.Continuity = nan, nan, nan, nan
 		set.KNNRecall, set.Spearman, set.LabelAccuracy, set.KL = nan, nan, nan, nan
+		set.PairSpearman, set.LabelPurity = nan, nan
 		if sc := scores[ps.ID]; sc != nil {
 			set.RunsDone = sc.RunsDone
 			set.Disparity, set.Jaccard = sum(sc.Disparity), sum(sc.Jaccard)
 			set.Trust, set.Continuity, set.KNNRecall = sum(sc.Trustworthiness), sum(sc.Continuity), sum(sc.KNNRecall)
 			set.Spearman, set.LabelAccuracy, set.KL = sum(sc.DistSpearman), sum(sc.LabelAccuracy), sum(sc.KL)
+			set.PairSpearman, set.LabelPurity = sum(sc.PairSpearman), sum(sc.LabelPurity)
 			set.UnstableShare = sc.UnstableShare
 		}
 		index[ps.ID] = len(st.Settings)

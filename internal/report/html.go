@@ -133,7 +133,7 @@ func page(st *Study, rec *Recommendation, recErr error, figs []*Figure, methods 
 		w("<figcaption>%s Files: <a href=\"figures/%s.svg\">SVG</a>, <a href=\"figures/%s.png\">PNG</a>.</figcaption>\n</figure>\n", h(f.Caption), h(f.Name), h(f.Name))
 	}
 
-	w("<h2 id=\"settings\">Settings</h2>\n<p>Click a column heading to sort. Scores are medians across seeds (or pairs of seeds) with the interquartile range in brackets.</p>\n")
+	w("<h2 id=\"settings\">Settings</h2>\n<p>Click a column heading to sort. Scores are medians across seeds (or pairs of seeds) with the interquartile range in brackets. Faithfulness to the input: trustworthiness, continuity, kNN recall, distance Spearman (input vs map distances), label accuracy and purity (with labels). Agreement between seeds: disparity (lower is better), kNN Jaccard and seed distance Spearman (higher is better).</p>\n")
 	settingsTable(&b, st, rec)
 
 	if failed > 0 {
@@ -179,8 +179,10 @@ func settingsTable(b *bytes.Buffer, st *Study, rec *Recommendation) {
 		{"kNN recall", func(s *Setting) Summary { return s.KNNRecall }},
 		{"distance Spearman", func(s *Setting) Summary { return s.Spearman }},
 		{"label accuracy", func(s *Setting) Summary { return s.LabelAccuracy }},
+		{"label purity", func(s *Setting) Summary { return s.LabelPurity }},
 		{"disparity", func(s *Setting) Summary { return s.Disparity }},
 		{"kNN Jaccard", func(s *Setting) Summary { return s.Jaccard }},
+		{"seed distance Spearman", func(s *Setting) Summary { return s.PairSpearman }},
 		{"final KL", func(s *Setting) Summary { return s.KL }},
 	}
 	// Leave out score columns with no value anywhere (e.g. label accuracy

@@ -79,8 +79,12 @@ type Setting struct {
 	// stable) and Jaccard the seed-to-seed kNN Jaccard overlap (higher is
 	// more stable), both over pairs of runs.
 	Disparity, Jaccard Summary
-	// Faithfulness to the input, across runs (higher is better).
-	Trust, Continuity, KNNRecall, Spearman, LabelAccuracy Summary
+	// PairSpearman is the seed-to-seed Spearman correlation of pairwise
+	// map distances (higher is more stable).
+	PairSpearman Summary
+	// Faithfulness to the input, across runs (higher is better); the label
+	// scores are NaN without labels.
+	Trust, Continuity, KNNRecall, Spearman, LabelAccuracy, LabelPurity Summary
 	// KL is the final KL divergence across runs (lower is better).
 	KL Summary
 	// UnstableShare is the share of points flagged unstable.

@@ -62,6 +62,8 @@ func syntheticStudy() *Study {
 			s.KNNRecall = Summary{0.4, 0.02}
 			s.Spearman = Summary{0.6, 0.03}
 			s.LabelAccuracy = Summary{0.95, 0.01}
+			s.LabelPurity = Summary{0.9, 0.01}
+			s.PairSpearman = Summary{0.7, 0.05}
 			s.Disparity = Summary{0.05 * noise, 0.01 * noise}
 			s.Jaccard = Summary{0.8 - 0.1*noise, 0.02}
 			s.KL = Summary{1.2 - 0.1*float64(pi) + 0.01*float64(li), 0.02}
