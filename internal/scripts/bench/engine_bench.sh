@@ -2,7 +2,7 @@
 # engine_bench.sh — one t-SNE run, plumb vs scikit-learn 1.2.1, back to back on the same data.
 #
 #   internal/scripts/bench/engine_bench.sh [--rows digits,20k,100k] [--with-1m]
-#                                          [--sklearn-max N] [--threads N] [--out DIR]
+#                                          [--sklearn-max N] [--recall-max N] [--threads N] [--out DIR]
 #
 # Settings on both sides: perplexity 30, PCA init, early exaggeration 12 for 250 iterations,
 # 1000 iterations, learning rate auto = max(N/(4·12), 50) (constant 4 in the gradient on both
@@ -21,6 +21,7 @@ PY=/usr/bin/python3
 rows="digits,20k,100k"
 with1m=0
 skmax=20000
+recallmax=200000
 threads=$(nproc)
 OUT=""
 while [ $# -gt 0 ]; do
@@ -29,6 +30,7 @@ while [ $# -gt 0 ]; do
 	--with-1m) with1m=1; shift ;;
 	--sklearn-max) skmax="$2"; shift 2 ;;
 	--threads) threads="$2"; shift 2 ;;
+	--recall-max) recallmax="$2"; shift 2 ;;
 	--out) OUT="$2"; shift 2 ;;
 	-h|--help) sed -n '2,17p' "$0"; exit 0 ;;
 	*) echo "engine_bench.sh: unknown option $1" >&2; exit 2 ;;
@@ -81,7 +83,9 @@ for row in "${list[@]}"; do
 	pt=${tw[0]}
 	[ ${#tw[@]} -gt 1 ] && st=${tw[1]}
 	rec="exact"
-	if [ "$n" -ge "${APPROX_AUTO_MIN_N:-50000}" ]; then
+	if [ "$n" -ge "${APPROX_AUTO_MIN_N:-50000}" ] && [ "$n" -gt "$recallmax" ]; then
+		rec="not measured"
+	elif [ "$n" -ge "${APPROX_AUTO_MIN_N:-50000}" ]; then
 		echo "engine_bench: $row (n=$n): neighbour recall" >&2
 		rec=$("$OUT/recall" -input "$data" -label-column "$label" -k 90 -queries 1000 \
 			-threads "$threads" | awk '{print $2}')
