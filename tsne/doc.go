@@ -47,9 +47,17 @@
 //
 // Exact sums over all pairs, O(N²). BarnesHut approximates the repulsion with
 // a quadtree (θ = 0.5 by default) including a quadrupole correction, and
-// sums the attraction exactly over the stored entries of P. AutoMethod picks
-// exact for N ≤ ExactMaxN (1,000) and Barnes-Hut beyond. The FFT method
-// (Linderman et al. 2019) plugs into the same Gradient interface.
+// sums the attraction exactly over the stored entries of P. FFT (Linderman
+// et al. 2019) interpolates the repulsion onto an equispaced grid and
+// convolves by FFT. AutoMethod picks exact for N ≤ ExactMaxN (1,000), FFT
+// for N ≥ FFTMinN (50,000) and Barnes-Hut in between.
+//
+// # Approximate neighbours
+//
+// ApproxNeighbors runs NN-descent (Dong, Charikar & Li 2011) from a forest
+// of random-projection trees (Dasgupta & Freund 2008) on a float32 copy of
+// the data, and reports exact float64 distances; Embed uses it from
+// ApproxAutoMinN (50,000) points when EmbedConfig.Neighbors is "auto".
 //
 // # Determinism and threads
 //
@@ -77,6 +85,10 @@
 //   - G. C. Linderman, M. Rachh, J. G. Hoskins, S. Steinerberger & Y. Kluger,
 //     "Fast interpolation-based t-SNE for improved visualization of
 //     single-cell RNA-seq data", Nature Methods 16, 243–245, 2019.
+//   - W. Dong, M. Charikar & K. Li, "Efficient k-nearest neighbor graph
+//     construction for generic similarity measures", WWW 2011.
+//   - S. Dasgupta & Y. Freund, "Random projection trees and low dimensional
+//     manifolds", STOC 2008.
 //   - P. N. Yianilos, "Data structures and algorithms for nearest neighbor
 //     search in general metric spaces", SODA 1993.
 //   - F. Pedregosa et al., "Scikit-learn: Machine Learning in Python", JMLR
