@@ -11,8 +11,8 @@ const css = `body{font-family:sans-serif;color:#222;max-width:1100px;margin:1.5e
 h1{font-size:1.6em;margin-bottom:.2em}h2{margin-top:1.6em;border-bottom:1px solid #ccc;padding-bottom:.2em}
 .meta{color:#555}.pick{background:#f3f6fb;border-left:4px solid #1b4f9c;padding:.6em 1em}
 .cautions{background:#fff8e6;border-left:4px solid #e69500;padding:.4em 1em}
-.wide{overflow-x:auto}table{border-collapse:collapse;font-size:.8em;margin:.6em 0}td{white-space:nowrap}th,td{border:1px solid #ccc;padding:.25em .5em;text-align:right}
-th{background:#eee;cursor:pointer;white-space:nowrap}td.l,th.l{text-align:left}tr.chosen td{background:#e8eef8;font-weight:bold}
+.wide{overflow-x:auto}table{border-collapse:collapse;font-size:.8em;margin:.6em 0}td{white-space:nowrap}th,td{border:1px solid #ccc;padding:.25em .4em;text-align:right}
+th{background:#eee;cursor:pointer;vertical-align:bottom;max-width:7em}td.l,th.l{text-align:left}tr.chosen td{background:#e8eef8;font-weight:bold}
 figure{margin:1.2em 0}figure svg{max-width:100%;height:auto}figcaption{color:#444;font-size:.9em;max-width:900px}
 .methods{background:#f7f7f7;padding:.6em 1em;border:1px solid #ddd}code{font-size:.9em}`
 
