@@ -5,6 +5,7 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"math"
 	"os"
@@ -28,6 +29,10 @@ type Spec struct {
 	Seeds             string `json:"seeds,omitempty"`              // default "1" (one run per setting, seed 1)
 	Neighbors         string `json:"neighbors,omitempty"`          // default "auto"
 	KLEvery           string `json:"kl_every,omitempty"`           // default "50"
+
+	// from names the plan file each field came from (ParseSpec), so that
+	// errors point at the file rather than at a flag.
+	from map[string]string
 }
 
 // Merge returns s with every non-empty field of over replacing s's.
@@ -39,7 +44,17 @@ func (s Spec) Merge(over Spec) Spec {
 		}
 		return a
 	}
+	from := map[string]string{}
+	for k, v := range s.from {
+		if over.field(k) == "" {
+			from[k] = v
+		}
+	}
+	for k, v := range over.from {
+		from[k] = v
+	}
 	return Spec{
+		from:              from,
 		Perplexity:        pick(s.Perplexity, over.Perplexity),
 		LearningRate:      pick(s.LearningRate, over.LearningRate),
 		Exaggeration:      pick(s.Exaggeration, over.Exaggeration),
@@ -52,6 +67,35 @@ func (s Spec) Merge(over Spec) Spec {
 		Neighbors:         pick(s.Neighbors, over.Neighbors),
 		KLEvery:           pick(s.KLEvery, over.KLEvery),
 	}
+}
+
+// field returns the value of the field with the given plan-file name.
+func (s Spec) field(name string) string {
+	switch name {
+	case "perplexity":
+		return s.Perplexity
+	case "learning_rate":
+		return s.LearningRate
+	case "exaggeration":
+		return s.Exaggeration
+	case "exaggeration_iters":
+		return s.ExaggerationIters
+	case "iters":
+		return s.Iters
+	case "init":
+		return s.Init
+	case "gradient":
+		return s.Gradient
+	case "theta":
+		return s.Theta
+	case "seeds":
+		return s.Seeds
+	case "neighbors":
+		return s.Neighbors
+	case "kl_every":
+		return s.KLEvery
+	}
+	return ""
 }
 
 // PlanError reports an invalid plan value.
@@ -95,7 +139,7 @@ func ParseSpec(name string, data []byte) (Spec, error) {
 	if dec.More() {
 		return Spec{}, fmt.Errorf("%s: trailing data after the JSON object", name)
 	}
-	var s Spec
+	s := Spec{from: map[string]string{}}
 	fields := map[string]*string{
 		"perplexity": &s.Perplexity, "learning_rate": &s.LearningRate, "exaggeration": &s.Exaggeration,
 		"exaggeration_iters": &s.ExaggerationIters, "iters": &s.Iters, "init": &s.Init,
@@ -121,6 +165,7 @@ func ParseSpec(name string, data []byte) (Spec, error) {
 			v = v + "-" + v
 		}
 		*dst = v
+		s.from[k] = name
 	}
 	return s, nil
 }
@@ -190,8 +235,18 @@ var (
 )
 
 // Plan parses and validates s, filling defaults. Every value is checked
-// before any work starts; the error names the field and the value.
+// before any work starts; the error (a *PlanError) names the field and the
+// value, and the plan file when the value came from one.
 func (s Spec) Plan() (*Plan, error) {
+	p, err := s.plan()
+	var pe *PlanError
+	if errors.As(err, &pe) && pe.File == "" {
+		pe.File = s.from[pe.Field]
+	}
+	return p, err
+}
+
+func (s Spec) plan() (*Plan, error) {
 	def := func(v, d string) string {
 		if strings.TrimSpace(v) == "" {
 			return d
