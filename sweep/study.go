@@ -180,6 +180,7 @@ func prepare(dir string, info *Info, runs []*Run, force bool) error {
 			return fmt.Errorf("create %s: %w", sub, err)
 		}
 	}
+	cleanStaleTemps(dir)
 	if force {
 		inPlan := map[string]bool{}
 		for _, r := range runs {
@@ -242,6 +243,26 @@ func recordPath(dir, id string) string { return filepath.Join(dir, RecordsDir, i
 func baseMeta(info *Info, table string) map[string]string {
 	return map[string]string{MetaVersion: info.Version, MetaPlanHash: info.PlanHash,
 		MetaFingerprint: info.Input.Fingerprint, MetaTable: table}
+}
+
+// staleAge is how old a temporary file of a shared table (study.json,
+// runs.parquet, scores/) must be before a starting sweep removes it as left
+// by a killed process; younger ones may belong to another shard writing
+// right now.
+const staleAge = 5 * time.Minute
+
+// cleanStaleTemps removes old temporary files of the study's shared files.
+func cleanStaleTemps(dir string) {
+	pats := []string{pq.TempPattern(filepath.Join(dir, StudyFile)), pq.TempPattern(filepath.Join(dir, RunsFile)),
+		filepath.Join(dir, ScoresDir, ".*.tmp-*")}
+	for _, pat := range pats {
+		m, _ := filepath.Glob(pat)
+		for _, f := range m {
+			if fi, err := os.Stat(f); err == nil && time.Since(fi.ModTime()) > staleAge {
+				os.Remove(f)
+			}
+		}
+	}
 }
 
 // cleanTemps removes temporary files a killed process may have left for

@@ -7,6 +7,7 @@ import (
 	"reflect"
 	"sort"
 	"testing"
+	"time"
 
 	"plumb/internal/dataset"
 	"plumb/internal/pq"
@@ -243,6 +244,32 @@ func TestDeterministicAcrossParallelism(t *testing.T) {
 		}
 		if !reflect.DeepEqual(ref, got) {
 			t.Errorf("jobs=%d threads=%d: study differs from jobs=1 threads=1", par[0], par[1])
+		}
+	}
+}
+
+// Temporary files left by a killed process: a run's own are removed when
+// the run is redone; old ones of shared tables when a sweep starts.
+func TestStaleTemporaryFilesRemoved(t *testing.T) {
+	ds := iris(t)
+	p := smallPlan(t)
+	dir := t.TempDir()
+	runSweep(t, ds, p, dir, nil)
+	runs, _ := p.Runs()
+	os.Remove(filepath.Join(dir, LayoutsDir, runs[1].ID+".parquet"))
+	runTemp := filepath.Join(dir, LayoutsDir, "."+runs[1].ID+".parquet.tmp-123")
+	oldShared := filepath.Join(dir, "."+RunsFile+".tmp-456")
+	newShared := filepath.Join(dir, "."+StudyFile+".tmp-789")
+	for _, f := range []string{runTemp, oldShared, newShared} {
+		os.WriteFile(f, []byte("partial"), 0o644)
+	}
+	old := time.Now().Add(-time.Hour)
+	os.Chtimes(oldShared, old, old)
+	runSweep(t, ds, p, dir, nil)
+	for f, gone := range map[string]bool{runTemp: true, oldShared: true, newShared: false} {
+		_, err := os.Stat(f)
+		if gone != os.IsNotExist(err) {
+			t.Errorf("%s: removed=%v, want %v", filepath.Base(f), os.IsNotExist(err), gone)
 		}
 	}
 }
