@@ -139,6 +139,25 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 	return nil
 }
 
+// ScoredK returns the k the study's score tables were computed with, or
+// false when the study has not been scored (or the tables do not match its
+// plan and input).
+func ScoredK(dir string) (int, bool) {
+	info, err := ReadInfo(dir)
+	if err != nil {
+		return 0, false
+	}
+	for _, name := range []string{ScoreRunsFile, ScoreSettingsFile, ScorePointsFile, ScorePairsFile} {
+		m, _, err := pq.ReadMeta(scoresPath(dir, name))
+		if err != nil || m[MetaPlanHash] != info.PlanHash || m[MetaFingerprint] != info.Input.Fingerprint {
+			return 0, false
+		}
+	}
+	m, _, _ := pq.ReadMeta(scoresPath(dir, ScoreSettingsFile))
+	k, err := strconv.Atoi(m[MetaK])
+	return k, err == nil
+}
+
 // readScores loads the score tables if scores/settings.parquet exists.
 func (s *Study) readScores() error {
 	if _, err := os.Stat(scoresPath(s.Dir, ScoreSettingsFile)); err != nil {

@@ -153,6 +153,12 @@ func sweepAction(c *cli.Context) error {
 	if c.Bool("no-score") {
 		return nil
 	}
+	if k, ok := sweep.ScoredK(opt.Dir); ok && k == c.Int("k") && st.Done+st.Failed == 0 {
+		if !c.Bool("quiet") {
+			fmt.Fprintf(stderr, "plumb: nothing new to score (scores at k=%d are up to date); see `plumb show %s`\n", k, opt.Dir)
+		}
+		return nil
+	}
 	if !c.Bool("quiet") {
 		fmt.Fprintf(stderr, "plumb: scoring (k=%d)\n", c.Int("k"))
 	}

@@ -84,6 +84,10 @@ func TestSweepCommand(t *testing.T) {
 	if code != 0 || !strings.Contains(stderr, "0 runs done, 0 failed, 8 already finished") {
 		t.Errorf("resume: exit %d\n%s", code, stderr)
 	}
+	_, stderr, code = plumb(t, irisArgs(dir)...)
+	if code != 0 || !strings.Contains(stderr, "nothing new to score") {
+		t.Errorf("resume with scoring: exit %d\n%s", code, stderr)
+	}
 	// Rescore with another k.
 	_, stderr, code = plumb(t, "score", dir, "--k", "7")
 	if code != 0 {
