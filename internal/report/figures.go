@@ -66,10 +66,17 @@ func drawIndex(n int) []int {
 	return idx
 }
 
-// labelColours assigns palette colours to labels by decreasing frequency
-// (ties alphabetical), so the largest groups get the most distinct colours;
-// labels past the palette share otherColor.
-func labelColours(labels []string) (order []string, col map[string]rgb) {
+// marker is how the points of one label are drawn.
+type marker struct {
+	col    rgb
+	hollow bool
+}
+
+// labelColours assigns markers to labels by decreasing frequency (ties
+// alphabetical), so the largest groups get the most distinct ones: first
+// the seven palette colours filled, then the same colours as rings; labels
+// past those fourteen share a grey filled marker ("other").
+func labelColours(labels []string) (order []string, mk map[string]marker) {
 	count := map[string]int{}
 	for _, l := range labels {
 		if count[l] == 0 {
@@ -83,15 +90,30 @@ func labelColours(labels []string) (order []string, col map[string]rgb) {
 		}
 		return order[i] < order[j]
 	})
-	col = map[string]rgb{}
+	mk = map[string]marker{}
+	n := len(categorical)
 	for i, l := range order {
-		if i < len(categorical) {
-			col[l] = categorical[i]
-		} else {
-			col[l] = otherColor
+		switch {
+		case i < n:
+			mk[l] = marker{categorical[i], false}
+		case i < 2*n:
+			mk[l] = marker{categorical[i-n], true}
+		default:
+			mk[l] = marker{otherColor, false}
 		}
 	}
-	return order, col
+	return order, mk
+}
+
+// maxMarkers is the number of labels with a marker of their own.
+var maxMarkers = 2 * len(categorical)
+
+func (c *canvas) mark(x, y, r float64, m marker, alpha float64) {
+	if m.hollow {
+		c.ring(x, y, r, m.col)
+		return
+	}
+	c.circle(x, y, r, m.col, alpha)
 }
 
 type bounds struct{ x0, x1, y0, y1 float64 }
@@ -137,12 +159,16 @@ func (m mapper) at(x, y float64) (float64, float64) {
 	return m.ox + dx, m.oy - dy
 }
 
-// alignedConsensus rotates every setting's consensus onto the reference
-// setting's with ordinary Procrustes (scaling included) and returns them by
-// setting index (nil where a setting has no consensus).
+// alignedConsensus rotates (and reflects) every setting's consensus onto
+// the reference setting's with ordinary Procrustes without scaling, then
+// scales it about its centroid to the reference's RMS radius. (Fitting the
+// scale by least squares would shrink maps that disagree with the
+// reference, s = tr Σ / ‖B‖², and make them look small.) It returns the
+// layouts by setting index (nil where a setting has no consensus).
 func alignedConsensus(st *Study, ref int) ([][]float64, error) {
 	out := make([][]float64, len(st.Settings))
 	base := st.Settings[ref].Consensus
+	rb := rmsRadius(base)
 	for i := range st.Settings {
 		c := st.Settings[i].Consensus
 		if len(c) == 0 {
@@ -152,13 +178,44 @@ func alignedConsensus(st *Study, ref int) ([][]float64, error) {
 			out[i] = c
 			continue
 		}
-		a, _, err := align.Procrustes(base, c, true)
+		a, _, err := align.Procrustes(base, c, false)
 		if err != nil {
 			return nil, fmt.Errorf("report: aligning setting %s onto %s: %w", st.Settings[i].ID, st.Settings[ref].ID, err)
+		}
+		if ra := rmsRadius(a); ra > 0 && rb > 0 {
+			cx, cy := centroid(a)
+			f := rb / ra
+			for p := 0; p+1 < len(a); p += 2 {
+				a[p] = cx + f*(a[p]-cx)
+				a[p+1] = cy + f*(a[p+1]-cy)
+			}
 		}
 		out[i] = a
 	}
 	return out, nil
+}
+
+func centroid(y []float64) (cx, cy float64) {
+	n := len(y) / 2
+	for p := 0; p < n; p++ {
+		cx += y[2*p]
+		cy += y[2*p+1]
+	}
+	return cx / float64(n), cy / float64(n)
+}
+
+// rmsRadius is the root-mean-square distance of the points from their
+// centroid.
+func rmsRadius(y []float64) float64 {
+	if len(y) < 2 {
+		return 0
+	}
+	cx, cy := centroid(y)
+	var ss float64
+	for p := 0; p+1 < len(y); p += 2 {
+		ss += (y[p]-cx)*(y[p]-cx) + (y[p+1]-cy)*(y[p+1]-cy)
+	}
+	return math.Sqrt(ss / float64(len(y)/2))
 }
 
 func gridDims(n int) (cols, rows int) {
@@ -181,10 +238,10 @@ func layoutsFigure(st *Study, ref int, chosen string) (*Figure, error) {
 	head := 34.0
 	legendH := 0.0
 	var order []string
-	var cols2 map[string]rgb
+	var cols2 map[string]marker
 	if st.HasLabels() {
 		order, cols2 = labelColours(st.Labels)
-		legendH = 22 * math.Ceil(float64(min(len(order), len(categorical)+1))/4)
+		legendH = 22 * math.Ceil(float64(min(len(order), maxMarkers+1))/4)
 	} else {
 		legendH = 30
 	}
@@ -224,28 +281,26 @@ func layoutsFigure(st *Study, ref int, chosen string) (*Figure, error) {
 		m := newMapper(b, px, top, panel)
 		for _, p := range idx {
 			x0, y0 := m.at(y[2*p], y[2*p+1])
-			var col rgb
+			mk := marker{col: categorical[0]}
 			if cols2 != nil {
-				col = cols2[st.Labels[p]]
+				mk = cols2[st.Labels[p]]
 			} else if len(s.Spread) > p && spreadMax > 0 {
-				col = ramp(s.Spread[p] / spreadMax)
-			} else {
-				col = categorical[0]
+				mk.col = ramp(s.Spread[p] / spreadMax)
 			}
-			c.circle(x0, y0, 2.2, col, 0.85)
+			c.mark(x0, y0, 2.3, mk, 0.85)
 		}
 	}
 	ly := 30 + float64(rows)*(panel+head+8) + 6
 	if cols2 != nil {
 		shown := order
 		other := false
-		if len(order) > len(categorical) {
-			shown, other = order[:len(categorical)], true
+		if len(order) > maxMarkers {
+			shown, other = order[:maxMarkers], true
 		}
 		for k, l := range shown {
 			x := 14 + float64(k%4)*160
 			yy := ly + float64(k/4)*22
-			c.circle(x, yy+6, 5, cols2[l], 1)
+			c.mark(x, yy+6, 5, cols2[l], 1)
 			c.text(x+10, yy+10, l, 11, "start", black)
 		}
 		if other {
@@ -258,7 +313,7 @@ func layoutsFigure(st *Study, ref int, chosen string) (*Figure, error) {
 	} else {
 		colourBar(c, 14, ly, 200, "per-point spread (0 to 95th percentile)")
 	}
-	cap := "One panel per setting: the consensus of its seeds, rotated, reflected and scaled by ordinary Procrustes onto the reference setting so that panels are comparable; the few points beyond the 0.5th–99.5th percentile box are drawn on the frame. Where seeds disagree (high disparity) the consensus is an average of different maps and can place points between their positions in any single run. "
+	cap := "One panel per setting: the consensus of its seeds, rotated and reflected by ordinary Procrustes onto the reference setting and scaled to its size so that panels are comparable; the few points beyond the 0.5th–99.5th percentile box are drawn on the frame. Where seeds disagree (high disparity) the consensus is an average of different maps and can place points between their positions in any single run. "
 	if cols2 != nil {
 		cap += "Colour shows the label (" + st.Input.LabelColumn + "). "
 	} else {

@@ -3,6 +3,7 @@ package report
 import (
 	"bytes"
 	"encoding/xml"
+	"fmt"
 	"image/png"
 	"io"
 	"os"
@@ -209,7 +210,18 @@ func TestLabelColoursByFrequency(t *testing.T) {
 	if strings.Join(order, ",") != "c,b,a" {
 		t.Errorf("order: got %v want c,b,a (by count, ties by name)", order)
 	}
-	if col["c"] != categorical[0] || col["a"] != categorical[2] {
-		t.Errorf("colours: got %v", col)
+	if col["c"] != (marker{categorical[0], false}) || col["a"] != (marker{categorical[2], false}) {
+		t.Errorf("markers: got %v", col)
+	}
+	// Past the seven colours come the same colours as rings, then grey.
+	var many []string
+	for i := 0; i < 16; i++ {
+		for k := 0; k <= 16-i; k++ {
+			many = append(many, fmt.Sprintf("l%02d", i))
+		}
+	}
+	order, col = labelColours(many)
+	if col[order[7]] != (marker{categorical[0], true}) || col[order[13]] != (marker{categorical[6], true}) || col[order[14]] != (marker{otherColor, false}) {
+		t.Errorf("markers past the palette: got %v %v %v", col[order[7]], col[order[13]], col[order[14]])
 	}
 }
