@@ -77,3 +77,34 @@ func BenchmarkReadCSV(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkPCA projects seeded Gaussian data with 50 features onto 10
+// components. Set PLUMB_LONG=1 to include 1M rows.
+func BenchmarkPCA(b *testing.B) {
+	sizes := []int{10_000, 100_000}
+	if os.Getenv("PLUMB_LONG") != "" {
+		sizes = append(sizes, 1_000_000)
+	}
+	const d, k = 50, 10
+	for _, n := range sizes {
+		rng := rand.New(rand.NewPCG(3, 4))
+		x := make([]float64, n*d)
+		for i := range x {
+			x[i] = rng.NormFloat64() * float64(1+i%d)
+		}
+		b.Run(fmt.Sprintf("n=%d,d=%d,k=%d", n, d, k), func(b *testing.B) {
+			b.ReportAllocs()
+			var sink []float64
+			for b.Loop() {
+				s, _, err := PCA(x, n, d, k)
+				if err != nil {
+					b.Fatal(err)
+				}
+				sink = s
+			}
+			if len(sink) != n*k {
+				b.Fatal("wrong size")
+			}
+		})
+	}
+}

@@ -8,6 +8,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 )
@@ -66,6 +67,32 @@ func (b *builder) addLabel(s string) {
 	b.label = append(b.label, l)
 }
 
+// reserve grows the row storage to the number of rows a file of size
+// bytes is expected to hold, given that the rows so far took used bytes
+// (plus 5%), so that appending does not copy the features repeatedly.
+func (b *builder) reserve(size, used int64) {
+	if used <= 0 || size <= used {
+		return
+	}
+	est := int(float64(b.n)*float64(size)/float64(used)*1.05) + 1
+	d := len(b.plan.features)
+	if est > 1<<31/max(d, 1) {
+		return // implausible; let append decide
+	}
+	b.x = slices.Grow(b.x, est*d-len(b.x))
+	if b.plan.id >= 0 {
+		b.ids = slices.Grow(b.ids, est-len(b.ids))
+		m := make(map[string]int, est)
+		for k, v := range b.idRow {
+			m[k] = v
+		}
+		b.idRow = m
+	}
+	if b.plan.label >= 0 {
+		b.label = slices.Grow(b.label, est-len(b.label))
+	}
+}
+
 // dataset returns the rows read so far as a Dataset.
 func (b *builder) dataset() *Dataset {
 	p := b.plan
@@ -112,8 +139,10 @@ func parseCell(s string) (float64, string) {
 var bom = []byte{0xEF, 0xBB, 0xBF}
 
 // readDelimited reads CSV (format "csv"), TSV ("tsv") or either ("txt":
-// tab-separated when the first line holds a tab) from r.
-func readDelimited(r io.Reader, file, format string, opt Options) (*Dataset, error) {
+// tab-separated when the first line holds a tab) from r. size, if
+// positive, is the number of bytes r will deliver; it is used to reserve
+// memory for all rows once the first rows show their typical length.
+func readDelimited(r io.Reader, file, format string, opt Options, size int64) (*Dataset, error) {
 	br := bufio.NewReaderSize(r, 1<<16)
 	if head, _ := br.Peek(3); bytes.Equal(head, bom) {
 		br.Discard(3)
@@ -201,6 +230,9 @@ func readDelimited(r io.Reader, file, format string, opt Options) (*Dataset, err
 			b.addLabel(rec[p.label])
 		}
 		b.n++
+		if b.n == 256 && size > 0 {
+			b.reserve(size, cr.InputOffset())
+		}
 	}
 	if b.n == 0 {
 		return nil, &InputError{File: file, Msg: "no data rows after the header"}

@@ -173,7 +173,11 @@ func readText(f *os.File, h hash.Hash, path, format string, gz bool, opt Options
 		defer zr.Close()
 		r = zr
 	}
-	ds, err := readDelimited(r, path, format, opt)
+	var size int64
+	if st, err := f.Stat(); err == nil && !gz {
+		size = st.Size()
+	}
+	ds, err := readDelimited(r, path, format, opt, size)
 	if err != nil {
 		return nil, err
 	}
