@@ -2,6 +2,7 @@ package dataset
 
 import (
 	"bytes"
+	"encoding/binary"
 	"flag"
 	"os"
 	"testing"
@@ -223,6 +224,33 @@ func TestWriteColumnarFixtures(t *testing.T) {
 		t.Fatal(err)
 	}
 	writeFixture(t, "truncated.arrow", ar[:len(ar)*2/3])
+	writeFixture(t, "huge_field_count.arrow", hugeFieldCount(t, ar))
+}
+
+// hugeFieldCount returns a copy of the Arrow IPC file data whose footer
+// schema claims 2³¹−1 fields: arrow-go would allocate that many fields
+// before noticing (a fatal out-of-memory, not a panic), which
+// checkArrowSchema must refuse first.
+func hugeFieldCount(t *testing.T, data []byte) []byte {
+	t.Helper()
+	out := bytes.Clone(data)
+	n := int(binary.LittleEndian.Uint32(out[len(out)-10:]))
+	start := len(out) - 10 - n
+	b := fbuf(out[start : len(out)-10])
+	footer, err := rootTable(b)
+	if err != nil {
+		t.Fatal(err)
+	}
+	schema, ok, err := footer.subtable(1)
+	if err != nil || !ok {
+		t.Fatal("no schema in footer", err)
+	}
+	q, ok, err := schema.ref(1) // fields vector
+	if err != nil || !ok {
+		t.Fatal("no fields vector", err)
+	}
+	binary.LittleEndian.PutUint32(out[start+q:], 1<<31-1)
+	return out
 }
 
 func nan() float64 { var z float64; return z / z }
