@@ -151,7 +151,11 @@ func prepare(dir string, info *Info, runs []*Run, force bool) error {
 			return mm
 		}
 		if mm == nil {
-			info.Created = old.Created
+			// The study as first written stays (its created time, the
+			// input path as the first process saw it).
+			v := info.Version
+			*info = *old
+			info.Version = v
 		}
 	case errors.Is(err, os.ErrNotExist):
 		ents, rerr := os.ReadDir(dir)
@@ -168,12 +172,14 @@ func prepare(dir string, info *Info, runs []*Run, force bool) error {
 			return fmt.Errorf("%w (pass --force to overwrite it)", err)
 		}
 	}
-	b, err := json.MarshalIndent(info, "", "  ")
-	if err != nil {
-		return err
-	}
-	if err := pq.WriteFile(filepath.Join(dir, StudyFile), append(b, '\n')); err != nil {
-		return fmt.Errorf("write %s: %w", StudyFile, err)
+	if err != nil || force {
+		b, err := json.MarshalIndent(info, "", "  ")
+		if err != nil {
+			return err
+		}
+		if err := pq.WriteFile(filepath.Join(dir, StudyFile), append(b, '\n')); err != nil {
+			return fmt.Errorf("write %s: %w", StudyFile, err)
+		}
 	}
 	for _, sub := range []string{LayoutsDir, TracesDir, RecordsDir} {
 		if err := os.MkdirAll(filepath.Join(dir, sub), 0o755); err != nil {
