@@ -305,6 +305,10 @@ func drawText(t textShape, blend func(x, y int, col rgb, a float64)) {
 	k := 0
 	for _, r := range t.s {
 		rows := glyph(r)
+		drop := 0
+		if descenders[r] {
+			drop = 2
+		}
 		for gy, row := range rows {
 			for gx := 0; gx < 5; gx++ {
 				if row[gx] != '#' {
@@ -313,7 +317,7 @@ func drawText(t textShape, blend func(x, y int, col rgb, a float64)) {
 				// Cell position along the text (u) and from its top (v),
 				// relative to the anchor on the baseline.
 				u := off + (6*k+gx)*sc
-				v := (gy - 7) * sc
+				v := (gy + drop - 7) * sc
 				reps := 1
 				if t.bold {
 					reps = 2

@@ -4,8 +4,9 @@ import "strings"
 
 // glyphs is a 5×7 bitmap font of our own drawing for the PNG figures (the
 // SVG figures use real text). Each glyph is seven rows of five cells,
-// '#' set; lower-case letters have no descenders. Characters without a
-// glyph are drawn as '?'.
+// '#' set. The letters in descenders are drawn two rows lower, so their
+// seven rows run from the x-height to two rows below the baseline.
+// Characters without a glyph are drawn as '?'.
 var glyphs = map[rune]string{
 	' ':  "..... ..... ..... ..... ..... ..... .....",
 	'0':  ".###. #...# #..## #.#.# ##..# #...# .###.",
@@ -50,7 +51,7 @@ var glyphs = map[rune]string{
 	'd':  "....# ....# .##.# #..## #...# #...# .####",
 	'e':  "..... ..... .###. #...# ##### #.... .###.",
 	'f':  "..##. .#..# .#... ###.. .#... .#... .#...",
-	'g':  "..... .#### #...# #...# .#### ....# .###.",
+	'g':  ".#### #...# #...# .#### ....# ....# .###.",
 	'h':  "#.... #.... #.##. ##..# #...# #...# #...#",
 	'i':  "..#.. ..... .##.. ..#.. ..#.. ..#.. .###.",
 	'j':  "...#. ..... ..##. ...#. ...#. #..#. .##..",
@@ -59,8 +60,8 @@ var glyphs = map[rune]string{
 	'm':  "..... ..... ##.#. #.#.# #.#.# #...# #...#",
 	'n':  "..... ..... #.##. ##..# #...# #...# #...#",
 	'o':  "..... ..... .###. #...# #...# #...# .###.",
-	'p':  "..... ..... ####. #...# ####. #.... #....",
-	'q':  "..... ..... .##.# #..## .#### ....# ....#",
+	'p':  "#.##. ##..# #...# ####. #.... #.... #....",
+	'q':  ".#### #...# #...# .#### ....# ....# ....#",
 	'r':  "..... ..... #.##. ##..# #.... #.... #....",
 	's':  "..... ..... .###. #.... .###. ....# ####.",
 	't':  ".#... .#... ###.. .#... .#... .#..# ..##.",
@@ -68,7 +69,7 @@ var glyphs = map[rune]string{
 	'v':  "..... ..... #...# #...# #...# .#.#. ..#..",
 	'w':  "..... ..... #...# #...# #.#.# #.#.# .#.#.",
 	'x':  "..... ..... #...# .#.#. ..#.. .#.#. #...#",
-	'y':  "..... ..... #...# #...# .#### ....# .###.",
+	'y':  "#...# #...# #...# .#### ....# ....# .###.",
 	'z':  "..... ..... ##### ...#. ..#.. .#... #####",
 	'.':  "..... ..... ..... ..... ..... .##.. .##..",
 	',':  "..... ..... ..... ..... .##.. ..#.. .#...",
@@ -122,6 +123,9 @@ func init() {
 		}
 	}
 }
+
+// descenders are drawn two rows below the others.
+var descenders = map[rune]bool{'g': true, 'p': true, 'q': true, 'y': true}
 
 // glyph returns the rows of r's bitmap.
 func glyph(r rune) []string {

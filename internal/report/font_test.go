@@ -29,7 +29,7 @@ func TestPNGText(t *testing.T) {
 			r, _, _, _ := img.At(x, y).RGBA()
 			if r < 0x8000 {
 				dark++
-				if y > 15*pngScale || y < 15*pngScale-7*glyphScale(11) {
+				if y >= 15*pngScale+2*glyphScale(11) || y < 15*pngScale-7*glyphScale(11) { // two rows of descender
 					t.Fatalf("ink at (%d, %d), outside the text line", x, y)
 				}
 			}
