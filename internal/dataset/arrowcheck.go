@@ -323,12 +323,18 @@ func (a *cappedAllocator) check(n int) {
 	}
 }
 
+// allocFloor is the smallest per-buffer cap of allocatorFor (a variable
+// so that tests of damaged files can run with less memory).
+var allocFloor int64 = 256 << 20
+
 // allocatorFor returns the allocator used to read a file of size bytes:
-// single buffers are capped at max(1 GiB, 256 × size), generous for any
-// honest compression ratio of numeric columns.
+// single buffers are capped at max(256 MiB, 1024 × size), generous for an
+// honest compression ratio of numeric columns (a constant column
+// compresses about 1000-fold) while refusing the gigabyte requests of
+// damaged page headers.
 func allocatorFor(size int64) memory.Allocator {
-	max := int64(1 << 30)
-	if s := 256 * size; s > max {
+	max := allocFloor
+	if s := 1024 * size; s > max {
 		max = s
 	}
 	if max > int64(^uint(0)>>1) {

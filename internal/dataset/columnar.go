@@ -177,7 +177,9 @@ func readArrow(f source, path string, size int64, opt Options, mem memory.Alloca
 		}
 		return b.dataset(), nil
 	}
-	r, err := ipc.NewReader(f, limits...)
+	// ipc.NewReader does not pass the size limits on to its message
+	// reader (arrow-go v18.8.0), so build the message reader ourselves.
+	r, err := ipc.NewReaderFromMessageReader(ipc.NewMessageReader(f, limits...), limits...)
 	if err != nil {
 		return nil, corrupt(path, kind, err)
 	}

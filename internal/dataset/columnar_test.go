@@ -2,6 +2,8 @@ package dataset
 
 import (
 	"bytes"
+	"encoding/binary"
+	"fmt"
 	"errors"
 	"math"
 	"os"
@@ -135,6 +137,10 @@ func TestReadBadColumnar(t *testing.T) {
 // and a byte flipped at every position, gives an error or a well-formed
 // data set — never a panic (common practice: robustness of binary readers).
 func TestColumnarDamage(t *testing.T) {
+	// Damaged sizes ask for up to the allocation cap per buffer; a lower
+	// cap keeps this test's memory small (the logic is the same).
+	defer func(f int64) { allocFloor = f }(allocFloor)
+	allocFloor = 8 << 20
 	dir := t.TempDir()
 	for _, name := range []string{"good.parquet", "good.arrow", "good.arrows"} {
 		data, err := os.ReadFile(in(name))
@@ -168,6 +174,15 @@ func TestColumnarDamage(t *testing.T) {
 			b := append([]byte(nil), data...)
 			b[i] ^= 0xff
 			try(b, "flipped")
+		}
+		// Large counts and lengths written over every 4-byte window (the
+		// way damaged metadata asks for huge allocations).
+		for _, v := range []uint32{1<<31 - 1, 1 << 28, 0xfffffff0} {
+			for i := 0; i+4 <= len(data); i += step {
+				b := append([]byte(nil), data...)
+				binary.LittleEndian.PutUint32(b[i:], v)
+				try(b, fmt.Sprintf("with %#x at byte %d", v, i))
+			}
 		}
 	}
 }
