@@ -3,8 +3,8 @@ package dataset
 import (
 	"bytes"
 	"encoding/binary"
-	"fmt"
 	"errors"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
