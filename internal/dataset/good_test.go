@@ -219,3 +219,16 @@ func TestSingleFeature(t *testing.T) {
 	}
 	checkConsistent(t, ds)
 }
+
+// TestTSVBareQuote: TSV has no quoting convention of its own (IANA
+// text/tab-separated-values), so a bare quote inside a field is kept
+// rather than refused as it is in CSV (RFC 4180).
+func TestTSVBareQuote(t *testing.T) {
+	ds, err := Read(in("bare_quote.tsv"), goodOpt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := []string{`5" screw`, "x"}; !reflect.DeepEqual(ds.Labels, want) {
+		t.Errorf("labels %q, want %q", ds.Labels, want)
+	}
+}
