@@ -550,7 +550,7 @@ func TestCheckNoCommonPoints(t *testing.T) {
 	_, stderr, code := plumb(t, "check", "--baseline", base, cur)
 	rbOneError(t, code, stderr, 2, "cannot compare")
 	_, stderr, code = plumb(t, "check", "--allow-other-data", "--baseline", base, cur)
-	rbOneError(t, code, stderr, 2, "cannot compare", "point")
+	rbOneError(t, code, stderr, 2, "cannot compare: no point id in common")
 	// A baseline that is no study at all.
 	_, stderr, code = plumb(t, "check", "--baseline", filepath.Join(tmp, "nothing"), cur)
 	rbOneError(t, code, stderr, 2, "baseline")
