@@ -46,7 +46,8 @@ type RunScore struct {
 	KL                                                   float64
 }
 
-// Summary statistics of one score over the runs (or pairs) of a setting.
+// Spread holds the median and interquartile range (Q3 − Q1, quantiles as
+// stability.Quantile) of one score over the runs or pairs of a setting.
 type Spread struct {
 	Median, IQR float64
 }

@@ -46,7 +46,7 @@ type SharedAffinity struct {
 	K, Runs    int
 }
 
-// Plan outlines what Execute(ctx, ds, plan, opt) would do. It reads the
+// PlanOutline outlines what Execute(ctx, ds, plan, opt) would do. It reads the
 // study directory if it exists but writes nothing.
 func PlanOutline(ds *dataset.Dataset, plan *Plan, opt Options) (*Outline, error) {
 	if err := Validate(plan, ds); err != nil {
