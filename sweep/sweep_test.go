@@ -11,6 +11,7 @@ import (
 
 	"plumb/internal/dataset"
 	"plumb/internal/pq"
+	"plumb/tsne"
 )
 
 // iris is testdata/iris.csv (Fisher's iris, converted from scikit-learn's
@@ -271,5 +272,40 @@ func TestStaleTemporaryFilesRemoved(t *testing.T) {
 		if gone != os.IsNotExist(err) {
 			t.Errorf("%s: removed=%v, want %v", filepath.Base(f), os.IsNotExist(err), gone)
 		}
+	}
+}
+
+// The sharing changes nothing: a sweep run whose P came from neighbour
+// lists truncated from the largest perplexity's equals, bit for bit, the
+// one-call tsne.Embed of the same setting (which searches k = ⌊3·perplexity⌋
+// neighbours itself). Exact k-NN lists nest, so the truncation is exact.
+func TestSharedEqualsEmbed(t *testing.T) {
+	ds := iris(t)
+	p, err := Spec{Perplexity: "5,20", Seeds: "3-3", Iters: "80", ExaggerationIters: "30", Init: "random", Gradient: "exact"}.Plan()
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	runSweep(t, ds, p, dir, nil)
+	st, err := Open(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	runs, _ := p.Runs()
+	l, err := st.Layout(runs[0].ID) // perplexity 5, seed 3
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := tsne.Embed(ds.X, ds.N, ds.D, tsne.EmbedConfig{
+		Config:     tsne.Config{Iters: 80, ExaggerationIters: 30, Method: tsne.MethodExact, KLEvery: p.KLEvery},
+		Perplexity: 5, Init: tsne.InitRandom, Seed: 3, Neighbors: "exact"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(l.Y, res.Y) {
+		t.Errorf("sweep layout differs from tsne.Embed (first point %v vs %v)", l.Y[:2], res.Y[:2])
+	}
+	if st.Rows[0].KL != res.KL {
+		t.Errorf("KL: sweep %v, Embed %v", st.Rows[0].KL, res.KL)
 	}
 }
