@@ -104,6 +104,10 @@ func TestReadBadColumnar(t *testing.T) {
 		// Regression: found by TestColumnarDamage, arrow-go allocated from
 		// this count and the process died of out-of-memory.
 		{"field count beyond the file", "huge_field_count.arrow", Options{}, "corrupt or truncated Arrow IPC file: metadata out of bounds", false},
+		// Regression: found by TestColumnarDamage, the stream reader
+		// allocated 2 GiB for the claimed metadata length.
+		{"message length beyond the file", "huge_message_length.arrows", goodOpt,
+			"corrupt or truncated Arrow IPC file: arrow/ipc: message metadata length 2147483647 exceeds limit 16777216", false},
 		{"truncated arrow", "truncated.arrow", goodOpt, "corrupt or truncated Arrow IPC file: ", true},
 		{"CSV read as Parquet", "good.csv", Options{Format: "parquet"}, "corrupt or truncated Parquet file: ", true},
 		{"parquet without rows", "zero_rows.parquet", Options{}, "no data rows", false},

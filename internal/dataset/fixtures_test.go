@@ -225,6 +225,28 @@ func TestWriteColumnarFixtures(t *testing.T) {
 	}
 	writeFixture(t, "truncated.arrow", ar[:len(ar)*2/3])
 	writeFixture(t, "huge_field_count.arrow", hugeFieldCount(t, ar))
+	st, err := os.ReadFile(in("good.arrows"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	writeFixture(t, "huge_message_length.arrows", hugeMessageLength(t, st))
+}
+
+// hugeMessageLength returns a copy of the Arrow IPC stream data whose
+// second message (the first record batch) claims 2³¹−1 bytes of metadata:
+// ipc.NewReader does not apply its size limits and allocates that much.
+func hugeMessageLength(t *testing.T, data []byte) []byte {
+	t.Helper()
+	out := bytes.Clone(data)
+	if binary.LittleEndian.Uint32(out) != 0xFFFFFFFF {
+		t.Fatal("stream does not start with a continuation marker")
+	}
+	next := 8 + int(binary.LittleEndian.Uint32(out[4:])) // the schema message has no body
+	if binary.LittleEndian.Uint32(out[next:]) != 0xFFFFFFFF {
+		t.Fatal("second message does not start with a continuation marker")
+	}
+	binary.LittleEndian.PutUint32(out[next+4:], 1<<31-1)
+	return out
 }
 
 // hugeFieldCount returns a copy of the Arrow IPC file data whose footer
