@@ -7,8 +7,8 @@
 # init random, 1000 iterations (250 exaggerated), Barnes-Hut θ = 0.5 everywhere.
 # The data: a seeded mixture of 10 Gaussian clusters in 50 dimensions (numpy, seed 20261202).
 #
-# Long: scikit-learn needs minutes per run here. SKLEARN_RUNS=K (default 60) runs only the
-# first K of the 60 settings×seeds and extrapolates linearly to 60 (printed as such);
+# Long: scikit-learn needs about a minute per run here. SKLEARN_RUNS=K (default 60) runs only K
+# of the 60 settings×seeds, spread evenly over the grid, and extrapolates linearly to 60 (printed as such);
 # EMBED_RUNS=K does the same for the separate plumb embed runs. SKIP_SCORE=1 passes --no-score.
 # Output: a Markdown table on stdout; logs in $OUT (default a temporary directory).
 set -euo pipefail
@@ -42,6 +42,7 @@ perps="10 30 50"; lrs="auto 1000"; exags="4 12"; seeds="1 2 3 4 5"
 now() { date +%s.%N; }
 elapsed() { "$PY" -c "print(f'{$2 - $1:.1f}')"; }
 
+load_start=$(cut -d' ' -f1-3 /proc/loadavg)
 # 1. plumb sweep
 rm -rf "$OUT/study"
 score_flag=""; [ "${SKIP_SCORE:-}" = 1 ] && score_flag="--no-score"
@@ -51,14 +52,20 @@ t0=$(now)
   --gradient barnes-hut $score_flag 2> "$OUT/sweep.log"
 t1=$(now)
 sweep_s=$(elapsed "$t0" "$t1")
-runs_s=$(grep -o 'runs done, 0 failed, 0 already finished, in [0-9.]*[a-zµ]*' "$OUT/sweep.log" | awk '{print $NF}')
+runs_dur=$(grep -o 'already finished, in [0-9hmsµ.]*' "$OUT/sweep.log" | awk '{print $NF}')
+runs_s=$("$PY" -c "
+import re,sys
+d=sys.argv[1]; t=0.0
+for v,u in re.findall(r'([0-9.]+)(h|ms|µs|m|s)', d): t+=float(v)*{'h':3600,'m':60,'s':1,'ms':1e-3,'µs':1e-6}[u]
+print(f'{t:.1f}')" "$runs_dur")
 "$P" show "$OUT/study" --json > "$OUT/show.json"
 kl_sweep=$("$PY" -c "import json;d=json.load(open('$OUT/show.json'));import statistics as s;print(f\"{s.median([x['kl_median'] for x in d['settings']]):.4f}\")")
 
 # 2. separate plumb embed runs
 i=0; t0=$(now)
 for p in $perps; do for lr in $lrs; do for ex in $exags; do for s in $seeds; do
-  if [ $i -lt "$EMBED_RUNS" ]; then
+  # K of the 60 runs, spread evenly over the grid (every 60/K-th), so the sample is not all one perplexity.
+  if [ $(( (i * EMBED_RUNS) % 60 )) -lt "$EMBED_RUNS" ]; then
     "$P" embed --input "$OUT/data.csv" --id-column id --label-column label --perplexity $p --learning-rate $lr \
       --exaggeration $ex --seed $s --init random --gradient barnes-hut --quiet --out "$OUT/embed_$i.parquet"
   fi
@@ -74,7 +81,8 @@ import sys, time, itertools, numpy as np, sklearn
 from sklearn.manifold import TSNE
 x = np.loadtxt(sys.argv[1], delimiter=",", skiprows=1, usecols=range(2, 52))
 k = int(sys.argv[2])
-grid = list(itertools.product([10, 30, 50], ["auto", 1000.0], [4.0, 12.0], [1, 2, 3, 4, 5]))[:k]
+grid = list(itertools.product([10, 30, 50], ["auto", 1000.0], [4.0, 12.0], [1, 2, 3, 4, 5]))
+grid = [g for i, g in enumerate(grid) if (i * k) % 60 < k]  # k runs spread evenly over the grid
 t0 = time.time(); kls = []
 for perp, lr, ex, seed in grid:
     # scikit-learn 1.2.1 keeps the factor 4 in the gradient (_t_sne.py: grad *= c, c = 4), as plumb
@@ -90,13 +98,13 @@ sk_60=$("$PY" -c "print(f'{$sk_s * 60 / $SKLEARN_RUNS:.1f}')")
 
 ratio() { "$PY" -c "print(f'{$1 / $2:.1f}')"; }
 cat <<MD
-60-run sweep, n=$N × 50 features, Barnes-Hut θ=0.5, 1000 iterations, $cores cores ($(date -u +%Y-%m-%d))
+60-run sweep, n=$N × 50 features, Barnes-Hut θ=0.5, 1000 iterations, $cores cores ($(date -u +%Y-%m-%d)); load average at start $load_start, at end $(cut -d' ' -f1-3 /proc/loadavg)
 
 | way | runs measured | wall time (s) | time for 60 runs (s) | vs plumb sweep | median KL |
 | --- | --- | --- | --- | --- | --- |
 | plumb sweep (incl. scoring${score_flag:+: skipped}) | 60 | $sweep_s | $sweep_s | 1.0× | $kl_sweep |
 | plumb sweep, runs only | 60 | $runs_s | $runs_s | | |
-| plumb embed × 60 | $EMBED_RUNS | $embed_s | $embed_60$([ "$EMBED_RUNS" != 60 ] && echo " (extrapolated)") | $(ratio "$embed_60" "$sweep_s")× | |
+| plumb embed × 60 (each: neighbours + P + run, all cores) | $EMBED_RUNS | $embed_s | $embed_60$([ "$EMBED_RUNS" != 60 ] && echo " (extrapolated)") | $(ratio "$embed_60" "$sweep_s")× | |
 | scikit-learn $sk_ver TSNE × 60 | $SKLEARN_RUNS | $sk_s | $sk_60$([ "$SKLEARN_RUNS" != 60 ] && echo " (extrapolated)") | $(ratio "$sk_60" "$sweep_s")× | $sk_kl |
 MD
 echo "logs: $OUT" >&2
