@@ -352,7 +352,8 @@ func TestKillResume(t *testing.T) {
 	}
 }
 
-// TestInterruptResume: SIGINT stops the sweep cleanly — exit 130, one error
+// TestInterruptResume: SIGINT (Ctrl-C) and SIGTERM (what schedulers such
+// as Slurm and Kubernetes send first) stop the sweep cleanly — exit 130, one error
 // line saying what was kept, a hint, no panic — keeps the finished runs and
 // a resume completes the same study as an uninterrupted sweep.
 func TestInterruptResume(t *testing.T) {
@@ -365,18 +366,28 @@ func TestInterruptResume(t *testing.T) {
 	if out, err := exec.Command(bin, krArgs(ref, "--no-score")...).CombinedOutput(); err != nil {
 		t.Fatalf("reference sweep: %v\n%s", err, out)
 	}
-	dir := filepath.Join(tmp, "int")
+	want := krStudy(t, ref)
+	for _, sig := range []os.Signal{os.Interrupt, syscall.SIGTERM} {
+		t.Run(sig.String(), func(t *testing.T) {
+			krInterrupt(t, bin, filepath.Join(tmp, "int-"+strings.ReplaceAll(sig.String(), " ", "-")), sig, want)
+		})
+	}
+}
+
+// krInterrupt stops a sweep into dir with sig after two runs were written,
+// checks the clean stop, resumes and compares the study with want.
+func krInterrupt(t *testing.T, bin, dir string, sig os.Signal, want map[string]map[string]any) {
 	cmd, lines, all := krStart(t, bin, krArgs(dir, "--no-score"))
 	hit := krUntil(lines, all, func(string) bool { return krLayouts(dir) >= 2 })
 	if !hit {
 		t.Fatalf("the sweep ended before 2 runs were written:\n%s", all)
 	}
-	cmd.Process.Signal(os.Interrupt)
+	cmd.Process.Signal(sig)
 	err := krDrain(cmd, lines, all)
 	stderr := all.String()
 	code := cmd.ProcessState.ExitCode()
 	if err == nil || code != 130 {
-		t.Errorf("SIGINT: exit %d (%v), want 130\n%s", code, err, stderr)
+		t.Errorf("%v: exit %d (%v), want 130\n%s", sig, code, err, stderr)
 	}
 	if strings.Contains(stderr, "panic") || strings.Contains(stderr, "goroutine ") {
 		t.Errorf("panic trace:\n%s", stderr)
@@ -413,7 +424,7 @@ func TestInterruptResume(t *testing.T) {
 			t.Errorf("resume rewrote kept layout %s", f)
 		}
 	}
-	krCompare(t, krStudy(t, ref), krStudy(t, dir))
+	krCompare(t, want, krStudy(t, dir))
 }
 
 // TestResumeCleansStudyTemps plants the temporary files a kill during a
