@@ -394,11 +394,11 @@ func krInterrupt(t *testing.T, bin, dir string, sig os.Signal, want map[string]m
 	}
 	if strings.Count(stderr, "plumb: error: ") != 1 || !strings.Contains(stderr, "plumb: error: interrupted: ") ||
 		!strings.Contains(stderr, "plumb: hint: run the same command again to resume") {
-		t.Errorf("SIGINT message:\n%s", stderr)
+		t.Errorf("%v message:\n%s", sig, stderr)
 	}
 	kept := krFinished(t, dir)
 	if len(kept) < 2 || len(kept) == krRuns {
-		t.Errorf("SIGINT kept %d layouts, want 2..%d", len(kept), krRuns-1)
+		t.Errorf("%v kept %d layouts, want 2..%d", sig, len(kept), krRuns-1)
 	}
 	krCheckFiles(t, dir)
 	if left := krTemps(dir); len(left) > 0 {
@@ -408,9 +408,9 @@ func krInterrupt(t *testing.T, bin, dir string, sig os.Signal, want map[string]m
 	// lists exactly them.
 	tb, err := pq.Read(filepath.Join(dir, "runs.parquet"))
 	if err != nil {
-		t.Errorf("runs.parquet after SIGINT: %v", err)
+		t.Errorf("runs.parquet after %v: %v", sig, err)
 	} else if tb.Rows() != len(kept) {
-		t.Errorf("runs.parquet after SIGINT: %d rows, %d layouts", tb.Rows(), len(kept))
+		t.Errorf("runs.parquet after %v: %d rows, %d layouts", sig, tb.Rows(), len(kept))
 	}
 	out, err := exec.Command(bin, krArgs(dir, "--no-score")...).CombinedOutput()
 	if err != nil {
