@@ -155,8 +155,9 @@ func embedAction(c *cli.Context) error {
 
 // checkEmbedFlags validates the numeric flags before any data is read.
 func checkEmbedFlags(c *cli.Context, lrSpec string) error {
-	if p := c.Float64("perplexity"); !(p > 0) {
-		return fmt.Errorf("--perplexity %g: must be positive", p)
+	if p := c.Float64("perplexity"); !(p >= 1) || p > 1e9 {
+		// The entropy of p_j|i is at least 0 nats, so perplexity = exp(entropy) ≥ 1.
+		return fmt.Errorf("--perplexity %g: must be at least 1", p)
 	}
 	if lrSpec != "auto" {
 		lr, err := strconv.ParseFloat(lrSpec, 64)

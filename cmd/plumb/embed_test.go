@@ -112,6 +112,8 @@ func TestEmbedErrors(t *testing.T) {
 		{"missing file", []string{"--input", filepath.Join(dir, "nope.csv")}, "nope.csv"},
 		{"perplexity too large", []string{"--input", iris, "--perplexity", "60"}, "perplexity"},
 		{"zero perplexity", []string{"--input", iris, "--perplexity", "0"}, "--perplexity 0"},
+		// Perplexity is exp(entropy) and entropy ≥ 0 (definition; common practice).
+		{"perplexity below 1", []string{"--input", iris, "--perplexity", "0.5"}, "at least 1"},
 		{"bad learning rate", []string{"--input", iris, "--learning-rate", "fast"}, "--learning-rate"},
 		{"exaggeration below 1", []string{"--input", iris, "--exaggeration", "0.5"}, "--exaggeration"},
 		{"iters below exaggeration iters", []string{"--input", iris, "--iters", "100"}, "--exaggeration-iters 250"},

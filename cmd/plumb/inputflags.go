@@ -20,6 +20,7 @@ func inputFlags() []cli.Flag {
 		&cli.StringFlag{Name: "columns", Usage: "comma list of feature columns (default: every column except id and label)"},
 		&cli.BoolFlag{Name: "standardize", Usage: "scale each feature to mean 0 and standard deviation 1 before anything else"},
 		&cli.IntFlag{Name: "pca", Usage: "project the features onto their first `K` principal components (0: off)"},
+		&cli.StringFlag{Name: "format", Usage: "input format when the extension does not tell: csv, tsv, parquet or arrow"},
 	}
 }
 
@@ -30,6 +31,7 @@ func inputOptions(c *cli.Context) (string, dataset.Options, error) {
 		LabelColumn: c.String("label-column"),
 		Standardize: c.Bool("standardize"),
 		PCA:         c.Int("pca"),
+		Format:      c.String("format"),
 	}
 	if s := strings.TrimSpace(c.String("columns")); s != "" {
 		for _, f := range strings.Split(s, ",") {
