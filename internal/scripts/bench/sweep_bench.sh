@@ -61,11 +61,14 @@ print(f'{t:.1f}')" "$runs_dur")
 "$P" show "$OUT/study" --json > "$OUT/show.json"
 kl_sweep=$("$PY" -c "import json;d=json.load(open('$OUT/show.json'));import statistics as s;print(f\"{s.median([x['kl_median'] for x in d['settings']]):.4f}\")")
 
+sampled() { local j; for ((j = 0; j < $2; j++)); do [ $(( (11 * j) % 60 )) -eq "$1" ] && return 0; done; return 1; }
+
 # 2. separate plumb embed runs
 i=0; t0=$(now)
 for p in $perps; do for lr in $lrs; do for ex in $exags; do for s in $seeds; do
-  # K of the 60 runs, spread evenly over the grid (every 60/K-th), so the sample is not all one perplexity.
-  if [ $(( (i * EMBED_RUNS) % 60 )) -lt "$EMBED_RUNS" ]; then
+  # K of the 60 runs: indices 11·j mod 60 (11 is coprime with the grid's strides 20, 10, 5), so the
+  # sample mixes perplexities, learning rates, exaggerations and seeds.
+  if sampled "$i" "$EMBED_RUNS"; then
     "$P" embed --input "$OUT/data.csv" --id-column id --label-column label --perplexity $p --learning-rate $lr \
       --exaggeration $ex --seed $s --init random --gradient barnes-hut --quiet --out "$OUT/embed_$i.parquet"
   fi
@@ -82,7 +85,7 @@ from sklearn.manifold import TSNE
 x = np.loadtxt(sys.argv[1], delimiter=",", skiprows=1, usecols=range(2, 52))
 k = int(sys.argv[2])
 grid = list(itertools.product([10, 30, 50], ["auto", 1000.0], [4.0, 12.0], [1, 2, 3, 4, 5]))
-grid = [g for i, g in enumerate(grid) if (i * k) % 60 < k]  # k runs spread evenly over the grid
+grid = [grid[(11 * j) % 60] for j in range(k)]  # as for plumb embed: mixes every parameter
 t0 = time.time(); kls = []
 for perp, lr, ex, seed in grid:
     # scikit-learn 1.2.1 keeps the factor 4 in the gradient (_t_sne.py: grad *= c, c = 4), as plumb
