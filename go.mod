@@ -2,7 +2,12 @@ module plumb
 
 go 1.26
 
-require github.com/apache/arrow-go/v18 v18.8.0
+require (
+	github.com/apache/arrow-go/v18 v18.8.0
+	github.com/urfave/cli/v2 v2.27.7
+	golang.org/x/net v0.58.0
+	gonum.org/v1/gonum v0.17.0
+)
 
 require (
 	github.com/andybalholm/brotli v1.2.3 // indirect
@@ -16,15 +21,12 @@ require (
 	github.com/klauspost/cpuid/v2 v2.4.0 // indirect
 	github.com/pierrec/lz4/v4 v4.1.29 // indirect
 	github.com/russross/blackfriday/v2 v2.1.0 // indirect
-	github.com/urfave/cli/v2 v2.27.7 // indirect
 	github.com/xrash/smetrics v0.0.0-20240521201337-686a1a2994c1 // indirect
 	github.com/zeebo/xxh3 v1.1.0 // indirect
 	golang.org/x/exp v0.0.0-20260112195511-716be5621a96 // indirect
-	golang.org/x/net v0.58.0 // indirect
 	golang.org/x/sync v0.22.0 // indirect
 	golang.org/x/sys v0.47.0 // indirect
 	golang.org/x/text v0.41.0 // indirect
-	gonum.org/v1/gonum v0.17.0 // indirect
 	google.golang.org/genproto/googleapis/rpc v0.0.0-20260526163538-3dc84a4a5aaa // indirect
 	google.golang.org/grpc v1.83.2 // indirect
 	google.golang.org/protobuf v1.36.12 // indirect
