@@ -363,7 +363,12 @@ func TestConstantColumn(t *testing.T) {
 		t.Fatalf("sweep: exit %d\n%s", code, stderr)
 	}
 	if !strings.Contains(stderr, want) {
-		t.Skip("bug: plumb sweep does not print the dataset's warnings (constant column) — cmd/plumb/sweep.go sweepAction never prints ds.Warnings")
+		t.Errorf("sweep: stderr lacks %q:\n%s", want, stderr)
+	}
+	// --quiet silences the warning as it does the progress display.
+	_, stderr, code = plumb(t, rbSweep(in, filepath.Join(tmp, "study2"), "--no-score", "--quiet")...)
+	if code != 0 || strings.Contains(stderr, "warning") {
+		t.Errorf("sweep --quiet: exit %d, stderr %q, want exit 0 and no warning", code, stderr)
 	}
 }
 

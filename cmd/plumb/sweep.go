@@ -104,6 +104,11 @@ func sweepAction(c *cli.Context) error {
 	if err != nil {
 		return err
 	}
+	if !c.Bool("quiet") {
+		for _, w := range ds.Warnings {
+			fmt.Fprintf(stderr, "plumb: warning: %s\n", w)
+		}
+	}
 	opt := sweep.Options{
 		Dir: c.String("out"), Input: sweep.NewInput(path, dopt, ds), Version: version, Shard: shard,
 		Jobs: c.Int("jobs"), Threads: c.Int("threads"), Force: c.Bool("force"), RetryFailed: c.Bool("retry-failed"),
