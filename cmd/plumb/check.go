@@ -2,13 +2,12 @@ package main
 
 import (
 	"fmt"
-	"os"
-	"path/filepath"
 	"strings"
 
 	"github.com/urfave/cli/v2"
 
 	"plumb/internal/gate"
+	"plumb/internal/pq"
 	"plumb/internal/report"
 )
 
@@ -103,7 +102,7 @@ func checkAction(c *cli.Context) error {
 	if f := c.String("junit"); f != "" {
 		b, err := res.JUnit()
 		if err == nil {
-			err = checkWriteAtomic(f, b)
+			err = pq.WriteFile(f, b)
 		}
 		if err != nil {
 			return &exitError{code: 2, err: fmt.Errorf("--junit %s: %w", f, err)}
@@ -116,28 +115,4 @@ func checkAction(c *cli.Context) error {
 		return &exitError{code: 1, err: fmt.Errorf("regression: %s", res.Reason)}
 	}
 	return nil
-}
-
-// checkWriteAtomic writes data to path through a temporary file in the same
-// directory and a rename.
-func checkWriteAtomic(path string, data []byte) error {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	_, err = f.Write(data)
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Chmod(tmp, 0o644)
-	}
-	if err == nil {
-		err = os.Rename(tmp, path)
-	}
-	if err != nil {
-		os.Remove(tmp)
-	}
-	return err
 }

@@ -9,6 +9,8 @@ import (
 	"os"
 	"path/filepath"
 	"strconv"
+
+	"plumb/internal/pq"
 )
 
 // Channel is one numeric column of the demo data with the affine map from
@@ -180,30 +182,8 @@ func WriteCSV(dir string, d *Data) (string, error) {
 		return "", fmt.Errorf("demo: %w", err)
 	}
 	path := filepath.Join(dir, FileName)
-	if err := writeAtomic(path, d.CSV()); err != nil {
+	if err := pq.WriteFile(path, d.CSV()); err != nil {
 		return "", fmt.Errorf("demo: %w", err)
 	}
 	return path, nil
-}
-
-func writeAtomic(path string, data []byte) error {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	if _, err := f.Write(data); err != nil {
-		f.Close()
-		os.Remove(tmp)
-		return err
-	}
-	if err := f.Close(); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	if err := os.Rename(tmp, path); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	return nil
 }

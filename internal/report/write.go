@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+
+	"plumb/internal/pq"
 )
 
 // Options configures Write.
@@ -117,7 +119,7 @@ func Write(st *Study, dir string, opt Options) (*Output, error) {
 		return nil, fmt.Errorf("report: %w", err)
 	}
 	put := func(path string, data []byte) error {
-		if err := writeAtomic(path, data); err != nil {
+		if err := pq.WriteFile(path, data); err != nil {
 			return fmt.Errorf("report: %w", err)
 		}
 		out.Files = append(out.Files, path)
@@ -138,32 +140,4 @@ func Write(st *Study, dir string, opt Options) (*Output, error) {
 		return nil, err
 	}
 	return out, nil
-}
-
-// writeAtomic writes data to path through a temporary file in the same
-// directory and a rename.
-func writeAtomic(path string, data []byte) error {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	if _, err := f.Write(data); err != nil {
-		f.Close()
-		os.Remove(tmp)
-		return err
-	}
-	if err := f.Close(); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	if err := os.Chmod(tmp, 0o644); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	if err := os.Rename(tmp, path); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	return nil
 }
