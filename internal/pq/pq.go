@@ -267,9 +267,8 @@ func WriteAtomic(path string, fill func(f *os.File) error) (err error) {
 	if err = fill(f); err != nil {
 		return err
 	}
-	// os.CreateTemp makes the file 0600; give it the mode os.Create
-	// would (0666 less the umask is not readable here, so use the common
-	// 0644) so that a study on a shared file system is readable by others.
+	// os.CreateTemp makes the file 0600; give it 0644, the mode files
+	// usually get, so a study on a shared file system is readable by others.
 	if err = f.Chmod(0o644); err != nil {
 		return err
 	}
