@@ -259,6 +259,11 @@ func (s Spec) plan() (*Plan, error) {
 		if v <= 0 {
 			return "must be positive"
 		}
+		if v < 1 {
+			// Perplexity is 2^H (or e^H) of a distribution, at least 1
+			// (van der Maaten & Hinton 2008, eq. 3 ff.).
+			return "must be at least 1 (perplexity is the exponential of an entropy)"
+		}
 		return ""
 	}); err != nil {
 		return nil, err

@@ -241,11 +241,8 @@ func TestBadInputs(t *testing.T) {
 		{name: "perplexity 0", input: rbIris, extra: []string{"--perplexity", "0"}, want: []string{`--perplexity "0": must be positive`}},
 		{name: "perplexity negative", input: rbIris, extra: []string{"--perplexity", "5,-2"}, want: []string{`--perplexity "-2": must be positive`}},
 		{name: "perplexity NaN", input: rbIris, extra: []string{"--perplexity", "NaN"}, want: []string{`--perplexity "NaN": not a finite number`}},
-		{name: "perplexity below 1", input: rbIris, extra: []string{"--perplexity", "0.5"}, want: []string{`--perplexity "0.5"`},
-			bug: "sweep/plan.go Spec.Plan accepts 0 < perplexity < 1; the sweep then creates the study directory and fails in the shared work " +
-				"(affinities: tsne: perplexity 0.5, want a finite value of at least 1; for 1e-300: neighbours (k=0)), leaving an empty study; " +
-				"want the flag refused before any work",
-			bugIf: func(s string) bool { return !strings.Contains(s, "--perplexity") }},
+		{name: "perplexity below 1", input: rbIris, extra: []string{"--perplexity", "0.5"}, want: []string{`--perplexity "0.5": must be at least 1`}},
+		{name: "perplexity tiny", input: rbIris, extra: []string{"--perplexity", "5,1e-300"}, want: []string{`--perplexity "1e-300": must be at least 1`}},
 		{name: "learning rate 0", input: rbIris, extra: []string{"--learning-rate", "0"}, want: []string{`--learning-rate "0": must be positive or auto`}},
 		{name: "learning rate negative", input: rbIris, extra: []string{"--learning-rate", "auto,-200"}, want: []string{`--learning-rate "-200"`}},
 		{name: "exaggeration below 1", input: rbIris, extra: []string{"--exaggeration", "0.5"}, want: []string{`--exaggeration "0.5": must be at least 1`}},

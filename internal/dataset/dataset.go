@@ -233,11 +233,16 @@ func detectFormat(path, format string) (string, bool, error) {
 //
 // that is, perplexity ≤ (n − 1)/3: every point needs ⌊3·perplexity⌋ other
 // points as neighbours (van der Maaten 2014 uses k = ⌊3u⌋ neighbours for
-// perplexity u). Perplexity must also be positive and finite. The message
-// names n and the largest perplexity allowed, rounded down to 2 decimals.
+// perplexity u). Perplexity must also be finite and at least 1: it is the
+// exponential of the entropy of a conditional distribution P(·|i), which is
+// ≥ 0 (van der Maaten & Hinton 2008, section 2). The message names n and
+// the largest perplexity allowed, rounded down to 2 decimals.
 func (d *Dataset) CheckPerplexity(perplexity float64) error {
 	if !(perplexity > 0) || perplexity > 1e300 {
 		return &InputError{File: d.Source, Msg: fmt.Sprintf("perplexity must be a positive number, got %g", perplexity)}
+	}
+	if perplexity < 1 {
+		return &InputError{File: d.Source, Msg: fmt.Sprintf("perplexity must be at least 1 (it is the exponential of an entropy), got %g", perplexity)}
 	}
 	if d.N < 2 {
 		return &InputError{File: d.Source, Msg: fmt.Sprintf("%d point(s) is too few for t-SNE: at least 2 are needed, and n − 1 ≥ 3·perplexity", d.N)}
