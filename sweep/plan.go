@@ -436,10 +436,17 @@ func wordList(field, s string, allowed []string) ([]string, error) {
 // maxSeeds bounds the number of seeds one plan may list.
 const maxSeeds = 100000
 
+// MaxSeed is the largest seed a plan may list, 2^63 − 1: the study tables
+// store seeds in a signed 64-bit column (runs.parquet and the score tables
+// "seed"), which every Parquet reader handles, so larger seeds would be
+// written as negative numbers.
+const MaxSeed = math.MaxInt64
+
 // ParseSeeds parses a seed specification: a single whole number N is a
 // count and means the seeds 1..N; anything else is a comma list of seeds
 // and inclusive ranges, e.g. "1-5,9" (use "7-7" for the single seed 7).
 // Seeds are returned sorted, without duplicates (a duplicate is an error).
+// Every seed is at most MaxSeed.
 func ParseSeeds(s string) ([]uint64, error) {
 	s = strings.TrimSpace(s)
 	if s == "" {
@@ -475,6 +482,9 @@ func ParseSeeds(s string) ([]uint64, error) {
 		}
 		if b < a {
 			return nil, &PlanError{Field: "seeds", Value: t, Msg: "range ends before it starts"}
+		}
+		if b > MaxSeed {
+			return nil, &PlanError{Field: "seeds", Value: t, Msg: fmt.Sprintf("a seed must be at most %d (2^63−1, the largest the study tables store)", uint64(MaxSeed))}
 		}
 		if b-a >= maxSeeds || len(out)+int(b-a+1) > maxSeeds {
 			return nil, &PlanError{Field: "seeds", Value: s, Msg: fmt.Sprintf("more than %d seeds", maxSeeds)}
@@ -597,8 +607,14 @@ func (p *Plan) Settings() []*Setting {
 
 // Runs returns every run of the plan: settings in canonical order, seeds
 // ascending within each setting. It returns an error in the (astronomically
-// unlikely) case of two settings sharing an id.
+// unlikely) case of two settings sharing an id, or of a seed above MaxSeed
+// (possible only in a Plan built by hand, not by Spec.Plan).
 func (p *Plan) Runs() ([]*Run, error) {
+	for _, seed := range p.Seeds {
+		if seed > MaxSeed {
+			return nil, fmt.Errorf("sweep: seed %d is above the largest seed the study tables store, %d", seed, uint64(MaxSeed))
+		}
+	}
 	settings := p.Settings()
 	seen := make(map[string]*Setting, len(settings))
 	for _, s := range settings {

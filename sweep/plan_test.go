@@ -108,6 +108,7 @@ func TestPlanValidation(t *testing.T) {
 		{"perplexity NaN", Spec{Perplexity: "NaN"}, "perplexity"},
 		{"perplexity text", Spec{Perplexity: "thirty"}, "perplexity"},
 		{"perplexity duplicate", Spec{Perplexity: "5,5.0"}, "perplexity"},
+		{"perplexity below 1", Spec{Perplexity: "5,0.5"}, "perplexity"}, // perplexity = exp(entropy) ≥ 1 (van der Maaten & Hinton 2008)
 		{"learning rate zero", Spec{LearningRate: "0"}, "learning_rate"},
 		{"learning rate negative", Spec{LearningRate: "auto,-5"}, "learning_rate"},
 		{"exaggeration below 1", Spec{Exaggeration: "0.5"}, "exaggeration"},
@@ -115,6 +116,7 @@ func TestPlanValidation(t *testing.T) {
 		{"iters zero", Spec{Iters: "0"}, "iters"},
 		{"iters fraction", Spec{Iters: "1.5"}, "iters"},
 		{"seeds zero", Spec{Seeds: "0"}, "seeds"},
+		{"seed above 2^63-1", Spec{Seeds: "1,9223372036854775808"}, "seeds"}, // the int64 seed column's limit
 		{"init unknown", Spec{Init: "spectral"}, "init"},
 		{"gradient unknown", Spec{Gradient: "magic"}, "gradient"},
 		{"theta zero", Spec{Theta: "0"}, "theta"},
