@@ -205,7 +205,7 @@ func Compare(base, cur *report.Study, opt Options) (*Result, error) {
 	res := &Result{Baseline: base.Dir, Current: cur.Dir, Thresholds: th, Settings: []SettingResult{}}
 	if !opt.AllowOtherData && base.Input.Fingerprint != cur.Input.Fingerprint {
 		res.Outcome = Incomparable
-		res.Reason = fmt.Sprintf("the input data differ: baseline fingerprint %s, current %s (allow it to compare anyway; points are then matched by id)",
+		res.Reason = fmt.Sprintf("the input data differ: baseline fingerprint %s, current %s (to compare anyway, pass --allow-other-data, Options.AllowOtherData in Go; points are then matched by id)",
 			short(base.Input.Fingerprint), short(cur.Input.Fingerprint))
 		return res, nil
 	}
