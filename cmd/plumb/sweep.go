@@ -33,7 +33,7 @@ func init() {
 		&cli.StringFlag{Name: "neighbors", Usage: "neighbour search: auto, exact, approx (default auto)"},
 		&cli.StringFlag{Name: "kl-every", Usage: "record the KL divergence every N iterations (default 50)"},
 		&cli.BoolFlag{Name: "dry-run", Usage: "print the plan, the shared work and an estimate; run nothing"},
-		&cli.IntFlag{Name: "jobs", Aliases: []string{"j"}, Usage: "runs optimised at once (0: automatic, see --help of the README)"},
+		&cli.IntFlag{Name: "jobs", Aliases: []string{"j"}, Usage: fmt.Sprintf("runs optimised at once (0: automatic — one single-threaded run per core up to %d points, one run on every core above; with --threads T, cores ÷ T)", sweep.SmallN)},
 		threadsFlag,
 		&cli.StringFlag{Name: "shard", Usage: "run only shard `I/N` of the runs (0-based); Slurm array variables are read when absent"},
 		&cli.IntFlag{Name: "shards", Usage: "number of shards for a Kubernetes Indexed Job (with JOB_COMPLETION_INDEX)"},
