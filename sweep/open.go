@@ -101,6 +101,11 @@ type Study struct {
 	Points        []PointScore
 	Pairs         []PairScore
 	ScoresK       int
+	// ScoresProblem is set, and the score tables above left nil, when
+	// scores/ holds tables that do not form one scoring of this study (a
+	// table missing or of another plan or input, or tables of different k
+	// left by an interrupted Score); the study needs scoring again.
+	ScoresProblem string
 }
 
 // Open reads a study: study.json, the runs table and, if present, the

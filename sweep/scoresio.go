@@ -1,10 +1,12 @@
 package sweep
 
 import (
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
 	"strconv"
+	"strings"
 
 	"plumb/internal/pq"
 )
@@ -139,37 +141,82 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 	return nil
 }
 
+// scoreTables are the score tables, in the order Score writes them.
+var scoreTables = []string{ScoreRunsFile, ScoreSettingsFile, ScorePointsFile, ScorePairsFile}
+
+// checkScoreTables reads the metadata of the four score tables and returns
+// the k they share. present is false when scores/settings.parquet does not
+// exist (the study has not been scored). Otherwise problem, if not empty,
+// says why the tables do not form one scoring of this study: a table is
+// missing or unreadable, belongs to another plan or input, or the tables
+// hold different k (Score writes them one after another, each atomically,
+// so a kill between two renames leaves a mix of two scorings).
+func checkScoreTables(dir string, info *Info) (k int, present bool, problem string) {
+	if _, err := os.Stat(scoresPath(dir, ScoreSettingsFile)); err != nil {
+		return 0, false, ""
+	}
+	var ks []string
+	byK := map[string][]string{}
+	for _, name := range scoreTables {
+		m, _, err := pq.ReadMeta(scoresPath(dir, name))
+		switch {
+		case err != nil:
+			return 0, true, fmt.Sprintf("%s/%s is missing or unreadable", ScoresDir, name)
+		case m[MetaPlanHash] != info.PlanHash || m[MetaFingerprint] != info.Input.Fingerprint:
+			return 0, true, fmt.Sprintf("%s/%s belongs to another plan or input", ScoresDir, name)
+		}
+		if _, ok := byK[m[MetaK]]; !ok {
+			ks = append(ks, m[MetaK])
+		}
+		byK[m[MetaK]] = append(byK[m[MetaK]], name)
+	}
+	if len(ks) > 1 {
+		parts := make([]string, len(ks))
+		for i, v := range ks {
+			parts[i] = fmt.Sprintf("k=%s in %s", v, strings.Join(byK[v], ", "))
+		}
+		return 0, true, "the score tables mix two scorings (" + strings.Join(parts, "; ") + "), as an interrupted score leaves them"
+	}
+	k, err := strconv.Atoi(ks[0])
+	if err != nil || k < 1 {
+		return 0, true, fmt.Sprintf("the score tables record no valid k (%q)", ks[0])
+	}
+	return k, true, ""
+}
+
 // ScoredK returns the k the study's score tables were computed with, or
-// false when the study has not been scored (or the tables do not match its
-// plan and input).
+// false when the study has not been scored, or its four tables do not form
+// one scoring of its plan and input at a single k (see Study.ScoresProblem);
+// such a study needs scoring again.
 func ScoredK(dir string) (int, bool) {
 	info, err := ReadInfo(dir)
 	if err != nil {
 		return 0, false
 	}
-	for _, name := range []string{ScoreRunsFile, ScoreSettingsFile, ScorePointsFile, ScorePairsFile} {
-		m, _, err := pq.ReadMeta(scoresPath(dir, name))
-		if err != nil || m[MetaPlanHash] != info.PlanHash || m[MetaFingerprint] != info.Input.Fingerprint {
-			return 0, false
-		}
+	k, present, problem := checkScoreTables(dir, info)
+	if !present || problem != "" {
+		return 0, false
 	}
-	m, _, _ := pq.ReadMeta(scoresPath(dir, ScoreSettingsFile))
-	k, err := strconv.Atoi(m[MetaK])
-	return k, err == nil
+	return k, true
 }
 
-// readScores loads the score tables if scores/settings.parquet exists.
+// readScores loads the score tables if scores/settings.parquet exists and
+// the four tables form one scoring (checkScoreTables); if they do not, it
+// loads none and sets s.ScoresProblem.
 func (s *Study) readScores() error {
-	if _, err := os.Stat(scoresPath(s.Dir, ScoreSettingsFile)); err != nil {
+	k, present, problem := checkScoreTables(s.Dir, s.Info)
+	if !present {
 		return nil
 	}
+	if problem != "" {
+		s.ScoresProblem = problem
+		return nil
+	}
+	s.ScoresK = k
 	// runs
 	c, err := readTable(scoresPath(s.Dir, ScoreRunsFile))
 	if err != nil {
 		return err
-	}
-	if k, err := strconv.Atoi(c.t.Meta[MetaK]); err == nil {
-		s.ScoresK = k
 	}
 	{
 		id, sid := c.str("run_id"), c.str("setting_id")

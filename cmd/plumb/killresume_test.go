@@ -495,15 +495,39 @@ func TestScoreKilledBetweenTables(t *testing.T) {
 		t.Logf("scores/%s: plumb.k = %s", f, m["plumb.k"])
 	}
 	stdout, stderr, code := plumb(t, "show", dir, "--json")
+	if code != 0 {
+		t.Fatalf("show --json: exit %d %s", code, stderr)
+	}
 	var so showOut
-	if code == 0 {
-		if err := json.Unmarshal([]byte(stdout), &so); err != nil {
-			t.Fatalf("show --json: %v", err)
+	if err := json.Unmarshal([]byte(stdout), &so); err != nil {
+		t.Fatalf("show --json: %v", err)
+	}
+	var extra struct {
+		Problem string `json:"scores_problem"`
+	}
+	json.Unmarshal([]byte(stdout), &extra)
+	if so.Scored || !strings.Contains(extra.Problem, "k=7") || !strings.Contains(extra.Problem, "k=15") {
+		t.Errorf("show --json: scored=%v k=%d scores_problem=%q, want not scored and a problem naming k=7 and k=15", so.Scored, so.K, extra.Problem)
+	}
+	stdout, _, code = plumb(t, "show", dir)
+	if code != 0 || !strings.Contains(stdout, "not scored: the score tables mix two scorings") {
+		t.Errorf("show: exit %d, first line does not say the tables mix two scorings:\n%s", code, stdout)
+	}
+	// A sweep of the same plan (all runs finished) must rescore it rather
+	// than say the scores are up to date; afterwards all four agree.
+	_, stderr, code = plumb(t, append(rbSweep(rbIris, dir, "--seeds", "3"), "--k", "7")...)
+	if code != 0 {
+		t.Fatalf("sweep again: %d %s", code, stderr)
+	}
+	for _, f := range []string{"runs.parquet", "settings.parquet", "points.parquet", "pairs.parquet"} {
+		m, _, err := pq.ReadMeta(filepath.Join(dir, "scores", f))
+		if err != nil || m["plumb.k"] != "7" {
+			t.Errorf("after the sweep, scores/%s: plumb.k = %q (err %v), want 7", f, m["plumb.k"], err)
 		}
 	}
-	if code == 0 && so.Scored {
-		t.Skipf("bug: a study whose score tables mix k=7 and k=15 (kill during `plumb score`) is shown as scored with k=%d; "+
-			"sweep/scoresio.go ScoredK checks plan hash and fingerprint of the four tables but not that their plumb.k agree "+
-			"(stderr %q)", so.K, stderr)
+	stdout, _, _ = plumb(t, "show", dir, "--json")
+	so = showOut{}
+	if err := json.Unmarshal([]byte(stdout), &so); err != nil || !so.Scored || so.K != 7 {
+		t.Errorf("after rescoring: scored=%v k=%d (err %v), want scored at k=7", so.Scored, so.K, err)
 	}
 }

@@ -207,8 +207,9 @@ func showJSON(w io.Writer, st *sweep.Study, rows []*settingRow) error {
 		Failed   int           `json:"runs_failed"`
 		Scored   bool          `json:"scored"`
 		K        int           `json:"k,omitempty"`
+		Problem  string        `json:"scores_problem,omitempty"`
 		Settings []*settingRow `json:"settings"`
-	}{st.Dir, st.Info.PlanHash, st.Info.Input, len(st.Planned), done, failed, st.SettingScores != nil, st.ScoresK, rows}
+	}{st.Dir, st.Info.PlanHash, st.Info.Input, len(st.Planned), done, failed, st.SettingScores != nil, st.ScoresK, st.ScoresProblem, rows}
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
 	return enc.Encode(out)
@@ -226,6 +227,8 @@ func showTable(w io.Writer, st *sweep.Study, rows []*settingRow) {
 	fmt.Fprintf(w, "study %s: plan %s, %d points, %d of %d runs done, %d failed", st.Dir, st.Info.PlanHash, st.Info.Input.N, done, len(st.Planned), failed)
 	if st.SettingScores != nil {
 		fmt.Fprintf(w, ", scored at k=%d\n", st.ScoresK)
+	} else if st.ScoresProblem != "" {
+		fmt.Fprintf(w, ", not scored: %s (run plumb score %s)\n", st.ScoresProblem, st.Dir)
 	} else {
 		fmt.Fprintf(w, ", not scored (run plumb score %s)\n", st.Dir)
 	}
