@@ -287,7 +287,11 @@ func Execute(ctx context.Context, ds *dataset.Dataset, plan *Plan, opt Options) 
 	if info.Input.Fingerprint != ds.Fingerprint || info.Input.N != ds.N {
 		return nil, fmt.Errorf("sweep: Options.Input does not describe the dataset")
 	}
-	if err := prepare(opt.Dir, info, runs, opt.Force); err != nil {
+	tempAge := staleAge
+	if opt.Shard.Whole() {
+		tempAge = 0 // the only writer of the study: every temp file is a kill's leftover
+	}
+	if err := prepare(opt.Dir, info, runs, opt.Force, tempAge); err != nil {
 		return nil, err
 	}
 	mine := opt.Shard.Select(runs)

@@ -79,6 +79,9 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 	if err != nil {
 		return nil, err
 	}
+	// Another process may be scoring this study at the same moment (two
+	// shards finishing together): remove only stale temporary files.
+	cleanStudyTemps(dir, staleAge)
 	if _, err := writeRunsTable(dir, info, runs); err != nil {
 		return nil, err
 	}

@@ -129,8 +129,9 @@ var known = map[string]bool{StudyFile: true, RunsFile: true, LayoutsDir: true, T
 // existing study.json against the plan hash and input fingerprint (a
 // mismatch is a *MismatchError unless force), writes study.json, and
 // creates the subdirectories. With force, files of runs outside the plan and
-// the derived tables are removed.
-func prepare(dir string, info *Info, runs []*Run, force bool) error {
+// the derived tables are removed. Temporary files of the shared files at
+// least tempAge old are removed (see cleanStudyTemps).
+func prepare(dir string, info *Info, runs []*Run, force bool, tempAge time.Duration) error {
 	if st, err := os.Stat(dir); err == nil && !st.IsDir() {
 		return fmt.Errorf("%s exists and is not a directory", dir)
 	}
@@ -186,7 +187,7 @@ func prepare(dir string, info *Info, runs []*Run, force bool) error {
 			return fmt.Errorf("create %s: %w", sub, err)
 		}
 	}
-	cleanStaleTemps(dir)
+	cleanStudyTemps(dir, tempAge)
 	if force {
 		inPlan := map[string]bool{}
 		for _, r := range runs {
@@ -252,19 +253,29 @@ func baseMeta(info *Info, table string) map[string]string {
 }
 
 // staleAge is how old a temporary file of a shared table (study.json,
-// runs.parquet, scores/) must be before a starting sweep removes it as left
-// by a killed process; younger ones may belong to another shard writing
-// right now.
+// runs.parquet, scores/) must be before a process that is not the study's
+// only writer removes it as left by a killed process; younger ones may
+// belong to another shard (or a concurrent Score) writing right now, and
+// removing one would make that process's rename fail.
 const staleAge = 5 * time.Minute
 
-// cleanStaleTemps removes old temporary files of the study's shared files.
-func cleanStaleTemps(dir string) {
+// cleanStudyTemps removes the temporary files of the study's shared files
+// (study.json, runs.parquet and scores/*.parquet, which pq.WriteAtomic
+// names ".NAME.tmp-*") that are at least minAge old. The rule its callers
+// follow:
+//
+//   - Execute without sharding (Shard.Whole) is the study's only writer, so
+//     it removes them all (minAge 0): they can only be left by a kill.
+//   - Execute of one shard of several, and Score (which shards that finish
+//     at the same moment may run at once), remove only those older than
+//     staleAge.
+func cleanStudyTemps(dir string, minAge time.Duration) {
 	pats := []string{pq.TempPattern(filepath.Join(dir, StudyFile)), pq.TempPattern(filepath.Join(dir, RunsFile)),
 		filepath.Join(dir, ScoresDir, ".*.tmp-*")}
 	for _, pat := range pats {
 		m, _ := filepath.Glob(pat)
 		for _, f := range m {
-			if fi, err := os.Stat(f); err == nil && time.Since(fi.ModTime()) > staleAge {
+			if fi, err := os.Lstat(f); err == nil && fi.Mode().IsRegular() && time.Since(fi.ModTime()) >= minAge {
 				os.Remove(f)
 			}
 		}

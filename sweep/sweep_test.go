@@ -250,27 +250,43 @@ func TestDeterministicAcrossParallelism(t *testing.T) {
 }
 
 // Temporary files left by a killed process: a run's own are removed when
-// the run is redone; old ones of shared tables when a sweep starts.
+// the run is redone; those of shared tables by a shard when older than
+// staleAge (a younger one may be another shard's write in progress), and by
+// an unsharded sweep, the study's only writer, whatever their age (the rule
+// of cleanStudyTemps).
 func TestStaleTemporaryFilesRemoved(t *testing.T) {
 	ds := iris(t)
 	p := smallPlan(t)
 	dir := t.TempDir()
 	runSweep(t, ds, p, dir, nil)
 	runs, _ := p.Runs()
-	os.Remove(filepath.Join(dir, LayoutsDir, runs[1].ID+".parquet"))
-	runTemp := filepath.Join(dir, LayoutsDir, "."+runs[1].ID+".parquet.tmp-123")
+	sh := Shard{Index: 1, Count: 2}
+	var redo *Run // a run of shard 1/2
+	for _, r := range sh.Select(runs) {
+		redo = r
+	}
+	os.Remove(filepath.Join(dir, LayoutsDir, redo.ID+".parquet"))
+	runTemp := filepath.Join(dir, LayoutsDir, "."+redo.ID+".parquet.tmp-123")
 	oldShared := filepath.Join(dir, "."+RunsFile+".tmp-456")
 	newShared := filepath.Join(dir, "."+StudyFile+".tmp-789")
-	for _, f := range []string{runTemp, oldShared, newShared} {
+	newScores := filepath.Join(dir, ScoresDir, ".settings.parquet.tmp-1")
+	os.MkdirAll(filepath.Join(dir, ScoresDir), 0o755)
+	for _, f := range []string{runTemp, oldShared, newShared, newScores} {
 		os.WriteFile(f, []byte("partial"), 0o644)
 	}
 	old := time.Now().Add(-time.Hour)
 	os.Chtimes(oldShared, old, old)
-	runSweep(t, ds, p, dir, nil)
-	for f, gone := range map[string]bool{runTemp: true, oldShared: true, newShared: false} {
+	runSweep(t, ds, p, dir, func(o *Options) { o.Shard = sh })
+	for f, gone := range map[string]bool{runTemp: true, oldShared: true, newShared: false, newScores: false} {
 		_, err := os.Stat(f)
 		if gone != os.IsNotExist(err) {
-			t.Errorf("%s: removed=%v, want %v", filepath.Base(f), os.IsNotExist(err), gone)
+			t.Errorf("shard 1/2: %s: removed=%v, want %v", filepath.Base(f), os.IsNotExist(err), gone)
+		}
+	}
+	runSweep(t, ds, p, dir, nil)
+	for _, f := range []string{newShared, newScores} {
+		if _, err := os.Stat(f); !os.IsNotExist(err) {
+			t.Errorf("unsharded: %s: not removed", filepath.Base(f))
 		}
 	}
 }

@@ -347,8 +347,9 @@ func TestKillResume(t *testing.T) {
 		if len(perRun) > 0 {
 			t.Errorf("per-run temporary files left after the resume: %v", perRun)
 		}
-		t.Skipf("bug: temporary files of study-level writes left by a kill are never cleaned by resume or rescore "+
-			"(sweep/study.go cleanTemps covers only per-run files): %v", left)
+		// The final resume is unsharded, the study's only writer, so it
+		// removes study-level temporary files of any age too.
+		t.Errorf("temporary files left after the final (unsharded) resume: %v", left)
 	}
 }
 
@@ -429,9 +430,14 @@ func krInterrupt(t *testing.T, bin, dir string, sig os.Signal, want map[string]m
 
 // TestResumeCleansStudyTemps plants the temporary files a kill during a
 // study-level write leaves (pq writes ".NAME.tmp-RANDOM" beside NAME, see
-// internal/pq/doc.go) and checks that readers ignore them and that a resume
-// with scoring removes them. TestKillResume hits these only when the kill
-// lands inside such a write; this makes the case deterministic.
+// internal/pq/doc.go) and checks that readers ignore them and who removes
+// them (the rule of sweep/study.go cleanStudyTemps): an unsharded resume,
+// the study's only writer, removes them whatever their age; a shard of a
+// sharded sweep and `plumb score` (which two shards finishing together may
+// run at once) remove only those older than 5 minutes, since a younger one
+// may be another process's write in progress. TestKillResume hits these
+// only when the kill lands inside such a write; this makes the case
+// deterministic.
 func TestResumeCleansStudyTemps(t *testing.T) {
 	dir := filepath.Join(t.TempDir(), "study")
 	args := rbSweep(rbIris, dir, "--seeds", "2")
@@ -439,24 +445,55 @@ func TestResumeCleansStudyTemps(t *testing.T) {
 		t.Fatalf("sweep: %d %s", code, stderr)
 	}
 	planted := []string{".runs.parquet.tmp-1", ".study.json.tmp-2", "scores/.settings.parquet.tmp-3", "scores/.pairs.parquet.tmp-4"}
-	for _, f := range planted {
-		if err := os.WriteFile(filepath.Join(dir, f), []byte("PAR1 partial"), 0o644); err != nil {
-			t.Fatal(err)
+	plant := func(age time.Duration) {
+		t.Helper()
+		for _, f := range planted {
+			p := filepath.Join(dir, f)
+			if err := os.WriteFile(p, []byte("PAR1 partial"), 0o644); err != nil {
+				t.Fatal(err)
+			}
+			old := time.Now().Add(-age)
+			if err := os.Chtimes(p, old, old); err != nil {
+				t.Fatal(err)
+			}
 		}
 	}
+	plant(0)
 	if _, stderr, code := plumb(t, "show", dir); code != 0 {
 		t.Errorf("show with temporary files present: exit %d %s", code, stderr)
 	}
-	if _, stderr, code := plumb(t, args...); code != 0 {
-		t.Fatalf("resume: %d %s", code, stderr)
+	// Young temporary files: a shard and `plumb score` leave them alone.
+	if _, stderr, code := plumb(t, append(args, "--shard", "1/2")...); code != 0 {
+		t.Fatalf("resume of shard 1/2: %d %s", code, stderr)
 	}
 	if _, stderr, code := plumb(t, "score", dir); code != 0 {
 		t.Fatalf("score: %d %s", code, stderr)
 	}
+	if left := krTemps(dir); len(left) != len(planted) {
+		t.Errorf("a shard and score removed young temporary files (another process's writes in progress): left %v", left)
+	}
+	// Old ones (a kill's leftovers): removed by score, and by a shard.
+	plant(10 * time.Minute)
+	if _, stderr, code := plumb(t, "score", dir); code != 0 {
+		t.Fatalf("score: %d %s", code, stderr)
+	}
 	if left := krTemps(dir); len(left) > 0 {
-		t.Skipf("bug: resume and `plumb score` leave temporary files of study-level writes a kill left behind: %v "+
-			"(sweep/study.go cleanTemps only cleans per-run files; Execute/Score should remove stale .NAME.tmp-* of "+
-			"study.json, runs.parquet and scores/*.parquet — in a sharded study only the process that writes them)", left)
+		t.Errorf("score left temporary files older than 5 minutes: %v", left)
+	}
+	plant(10 * time.Minute)
+	if _, stderr, code := plumb(t, append(args, "--shard", "0/2")...); code != 0 {
+		t.Fatalf("resume of shard 0/2: %d %s", code, stderr)
+	}
+	if left := krTemps(dir); len(left) > 0 {
+		t.Errorf("a shard left temporary files older than 5 minutes: %v", left)
+	}
+	// Young ones again: the unsharded resume removes them.
+	plant(0)
+	if _, stderr, code := plumb(t, args...); code != 0 {
+		t.Fatalf("resume: %d %s", code, stderr)
+	}
+	if left := krTemps(dir); len(left) > 0 {
+		t.Errorf("the unsharded resume left temporary files: %v", left)
 	}
 }
 
