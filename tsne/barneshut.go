@@ -21,7 +21,7 @@ import "math"
 // quadrupole term removes that bias and cuts the gradient error at θ = 0.5
 // by roughly a factor of 7 on a random layout for a few extra flops per cell.
 //
-// Other cells are opened; leaves hold up to 8 points and sum exactly.
+// Other cells are opened; leaves hold up to 16 points and sum exactly.
 // θ = 0 opens every cell (exact sums through the tree); larger θ is faster
 // and coarser. The tree is built sequentially by recursive splitting into
 // quadrants (O(N log N)); the per-point traversals run in parallel over fixed
@@ -59,14 +59,15 @@ var _ Gradient = (*BarnesHut)(nil)
 type bhNode struct {
 	cx, cy        float64 // centre of mass
 	mass          float64 // number of points
-	width         float64 // side of the square cell
+	crit          float64 // width²/θ²: the cell is summarised when crit < d²
 	mxx, mxy, myy float64 // second moments about the centre of mass
 	lo, hi        int32   // points perm[lo:hi]
-	child         int32   // first of four children, −1 for a leaf
+	child         int32   // first child, −1 for a leaf
+	nchild        int32   // number of (non-empty) children, stored consecutively
 }
 
 const (
-	bhLeafSize = 8
+	bhLeafSize = 16
 	bhMaxDepth = 48
 )
 
@@ -144,9 +145,11 @@ func (g *BarnesHut) build(y []float64) {
 	}
 }
 
-// split fills node idx for points perm[lo:hi] in the square cell with
-// lower-left corner (x0, y0) and the given side, recursing into quadrants.
+// split fills node idx for points perm[lo:hi] (never empty) in the square
+// cell with lower-left corner (x0, y0) and the given side, recursing into
+// the non-empty quadrants; empty quadrants get no node.
 func (g *BarnesHut) split(idx int, y []float64, lo, hi int32, x0, y0, side float64, depth int) {
+	crit := side * side / (g.theta * g.theta)
 	if hi-lo <= bhLeafSize || depth >= bhMaxDepth {
 		var sx, sy float64
 		for k := lo; k < hi; k++ {
@@ -155,10 +158,8 @@ func (g *BarnesHut) split(idx int, y []float64, lo, hi int32, x0, y0, side float
 			sy += y[2*i+1]
 		}
 		m := float64(hi - lo)
-		nd := bhNode{mass: m, width: side, lo: lo, hi: hi, child: -1}
-		if m > 0 {
-			nd.cx, nd.cy = sx/m, sy/m
-		}
+		nd := bhNode{mass: m, crit: crit, lo: lo, hi: hi, child: -1}
+		nd.cx, nd.cy = sx/m, sy/m
 		if m > 1 {
 			for k := lo; k < hi; k++ {
 				i := g.perm[k]
@@ -176,25 +177,35 @@ func (g *BarnesHut) split(idx int, y []float64, lo, hi int32, x0, y0, side float
 	m1 := g.partition(y, lo, hi, 1, my)
 	m0 := g.partition(y, lo, m1, 0, mx)
 	m2 := g.partition(y, m1, hi, 0, mx)
+	bounds := [5]int32{lo, m0, m1, m2, hi}
+	corners := [4][2]float64{{x0, y0}, {mx, y0}, {x0, my}, {mx, my}}
+	nc := 0
+	for q := 0; q < 4; q++ {
+		if bounds[q] < bounds[q+1] {
+			nc++
+		}
+	}
 	child := len(g.nodes)
-	g.nodes = append(g.nodes, bhNode{}, bhNode{}, bhNode{}, bhNode{})
-	g.split(child, y, lo, m0, x0, y0, h, depth+1)
-	g.split(child+1, y, m0, m1, mx, y0, h, depth+1)
-	g.split(child+2, y, m1, m2, x0, my, h, depth+1)
-	g.split(child+3, y, m2, hi, mx, my, h, depth+1)
+	for q := 0; q < nc; q++ {
+		g.nodes = append(g.nodes, bhNode{})
+	}
+	c := child
+	for q := 0; q < 4; q++ {
+		if bounds[q] < bounds[q+1] {
+			g.split(c, y, bounds[q], bounds[q+1], corners[q][0], corners[q][1], h, depth+1)
+			c++
+		}
+	}
 	var sx, sy, m float64
-	for c := child; c < child+4; c++ {
+	for c := child; c < child+nc; c++ {
 		nd := &g.nodes[c]
 		sx += nd.mass * nd.cx
 		sy += nd.mass * nd.cy
 		m += nd.mass
 	}
-	nd := bhNode{cx: sx / m, cy: sy / m, mass: m, width: side, lo: lo, hi: hi, child: int32(child)}
-	for c := child; c < child+4; c++ {
+	nd := bhNode{cx: sx / m, cy: sy / m, mass: m, crit: crit, lo: lo, hi: hi, child: int32(child), nchild: int32(nc)}
+	for c := child; c < child+nc; c++ {
 		ch := &g.nodes[c]
-		if ch.mass == 0 {
-			continue
-		}
 		dx, dy := ch.cx-nd.cx, ch.cy-nd.cy
 		nd.mxx += ch.mxx + ch.mass*dx*dx
 		nd.mxy += ch.mxy + ch.mass*dx*dy
@@ -223,58 +234,87 @@ func (g *BarnesHut) partition(y []float64, lo, hi int32, axis int, cut float64) 
 func (g *BarnesHut) rows(chunk int) {
 	n := len(g.perm)
 	lo, hi := chunk*chunkRows, min((chunk+1)*chunkRows, n)
-	theta2 := g.theta * g.theta
+	nodes, ys := g.nodes, g.ys
 	var stack [4*bhMaxDepth + 8]int32
 	for k := lo; k < hi; k++ {
 		i := int(g.perm[k])
-		xi, yi := g.ys[2*k], g.ys[2*k+1]
+		xi, yi := ys[2*k], ys[2*k+1]
 		pk := int32(k)
 		var zi, rx, ry float64
 		sp := 1
 		stack[0] = 0
 		for sp > 0 {
 			sp--
-			nd := &g.nodes[stack[sp]]
-			if nd.mass == 0 {
-				continue
-			}
+			nd := &nodes[stack[sp]]
 			inside := nd.lo <= pk && pk < nd.hi
 			if !inside {
 				dx, dy := xi-nd.cx, yi-nd.cy
 				d2 := dx*dx + dy*dy
-				if nd.width*nd.width < theta2*d2 {
+				if nd.crit < d2 {
 					// Monopole plus quadrupole terms of the expansion
-					// about the centre of mass (the dipole term vanishes).
+					// about the centre of mass (the dipole term vanishes):
+					// with q = 4ΔᵀMΔ/u³, Z_i gains m/u − tr(M)/u² + q and
+					// the force is (m/u² − 2tr(M)/u³ + 3q/u)Δ − 4MΔ/u³.
 					w := 1 / (1 + d2)
 					w2 := w * w
+					w3 := w2 * w
 					tr := nd.mxx + nd.myy
-					dmd := dx*dx*nd.mxx + 2*dx*dy*nd.mxy + dy*dy*nd.myy
-					zi += nd.mass*w - tr*w2 + 4*dmd*w2*w
 					mdx := nd.mxx*dx + nd.mxy*dy
 					mdy := nd.mxy*dx + nd.myy*dy
-					s := nd.mass*w2 - 2*tr*w2*w + 12*dmd*w2*w2
-					rx += s*dx - 4*mdx*w2*w
-					ry += s*dy - 4*mdy*w2*w
+					q := 4 * (dx*mdx + dy*mdy) * w3
+					zi += nd.mass*w - tr*w2 + q
+					s := w2*(nd.mass-2*tr*w) + 3*q*w
+					f := 4 * w3
+					rx += s*dx - f*mdx
+					ry += s*dy - f*mdy
 					continue
 				}
 			}
 			if nd.child < 0 {
-				for q := nd.lo; q < nd.hi; q++ {
-					if q == pk {
-						continue
+				// Exact sums over the leaf's points except the point
+				// itself, two points per division: with a, b the values
+				// 1 + d², 1/a = b/(ab) and 1/b = a/(ab) (a, b ≥ 1).
+				s0, e0, s1, e1 := nd.lo, nd.hi, nd.hi, nd.hi
+				if inside {
+					e0, s1 = pk, pk+1
+				}
+				for seg := 0; seg < 2; seg++ {
+					q := s0
+					for ; q+2 <= e0; q += 2 {
+						dxa, dya := xi-ys[2*q], yi-ys[2*q+1]
+						dxb, dyb := xi-ys[2*q+2], yi-ys[2*q+3]
+						a := 1 + dxa*dxa + dya*dya
+						b := 1 + dxb*dxb + dyb*dyb
+						ab := a * b
+						var wa, wb float64
+						if ab < 1e300 {
+							r := 1 / ab
+							wa, wb = b*r, a*r
+						} else {
+							wa, wb = 1/a, 1/b
+						}
+						zi += wa + wb
+						wa *= wa
+						wb *= wb
+						rx += wa*dxa + wb*dxb
+						ry += wa*dya + wb*dyb
 					}
-					dx, dy := xi-g.ys[2*q], yi-g.ys[2*q+1]
-					w := 1 / (1 + dx*dx + dy*dy)
-					zi += w
-					w2 := w * w
-					rx += w2 * dx
-					ry += w2 * dy
+					if q < e0 {
+						dx, dy := xi-ys[2*q], yi-ys[2*q+1]
+						w := 1 / (1 + dx*dx + dy*dy)
+						zi += w
+						w *= w
+						rx += w * dx
+						ry += w * dy
+					}
+					s0, e0 = s1, e1
 				}
 				continue
 			}
-			c := nd.child
-			stack[sp], stack[sp+1], stack[sp+2], stack[sp+3] = c+3, c+2, c+1, c
-			sp += 4
+			for c := nd.child + nd.nchild - 1; c >= nd.child; c-- {
+				stack[sp] = c
+				sp++
+			}
 		}
 		g.zRow[i] = zi
 		g.rep[2*i], g.rep[2*i+1] = rx, ry
