@@ -7,6 +7,7 @@ import (
 	"math"
 	"os"
 	"runtime"
+	"slices"
 	"sync"
 	"time"
 
@@ -137,13 +138,61 @@ func parallelism(opt Options, n, pending int) (int, int) {
 	return jobs, threads
 }
 
-// Validate checks the plan against the data before any work: the largest
-// perplexity must suit n.
+// Validate checks the plan against the data before any work (Execute calls
+// it before it creates anything): the largest perplexity must suit n, the
+// data must have variance (NoVariance: points that are all identical have
+// no structure to show, every input distance is zero and the distance
+// scores are undefined), and a plan with PCA initialisation needs at least
+// 2 features. Errors are *dataset.InputError naming the input file.
 func Validate(p *Plan, ds *dataset.Dataset) error {
 	if err := ds.CheckPerplexity(p.MaxPerplexity()); err != nil {
 		return err
 	}
+	if NoVariance(ds.X, ds.N, ds.D) {
+		return &dataset.InputError{File: ds.Source, Msg: fmt.Sprintf(
+			"all %d points are identical (the features have no variance), so t-SNE has no structure to show", ds.N)}
+	}
+	if ds.D < 2 && slices.Contains(p.Init, "pca") {
+		return &dataset.InputError{File: ds.Source, Msg: fmt.Sprintf(
+			"PCA initialisation needs at least 2 feature columns, got %d (use random initialisation)", ds.D)}
+	}
 	return nil
+}
+
+// NoVariance reports whether the n×d row-major data x have no variance up
+// to rounding: total variance Σ_c var(x_·c) ≤ (1e-12 · max|x|)². Column
+// means are computed with one correction pass (m += Σ(x − m)/n, the
+// "corrected two-pass" algorithm of Chan, Golub & LeVeque 1983), so
+// identical rows give exactly zero; the relative tolerance absorbs the
+// rounding of values such as 5.1 that are not exact in binary (the same
+// rule as tsne.PCAInit).
+func NoVariance(x []float64, n, d int) bool {
+	if n < 1 || d < 1 || len(x) < n*d {
+		return true // no data (or fewer values than n×d): no variance to speak of
+	}
+	scale, total := 0.0, 0.0
+	for c := 0; c < d; c++ {
+		m := 0.0
+		for i := 0; i < n; i++ {
+			v := x[i*d+c]
+			m += v
+			scale = max(scale, math.Abs(v))
+		}
+		m /= float64(n)
+		corr := 0.0
+		for i := 0; i < n; i++ {
+			corr += x[i*d+c] - m
+		}
+		m += corr / float64(n)
+		ss := 0.0
+		for i := 0; i < n; i++ {
+			t := x[i*d+c] - m
+			ss += t * t
+		}
+		total += ss / float64(n)
+	}
+	tol := 1e-12 * scale
+	return total <= tol*tol
 }
 
 // shared holds the work every run of a sweep reuses.
@@ -234,7 +283,7 @@ func (sh *shared) pcaInit() ([]float64, error) {
 	sh.pcaOnce.Do(func() {
 		sh.pca, sh.pcaErr = tsne.PCAInit(sh.ds.X, sh.ds.N, sh.ds.D)
 		if sh.pcaErr != nil {
-			sh.pcaErr = fmt.Errorf("PCA initialisation: %w", sh.pcaErr)
+			sh.pcaErr = fmt.Errorf("%s: %w", sh.ds.Source, sh.pcaErr)
 			return
 		}
 		sh.mu.Lock()

@@ -63,7 +63,7 @@ type ScoreSummary struct {
 func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOptions) (*ScoreSummary, error) {
 	info, err := ReadInfo(dir)
 	if err != nil {
-		return nil, err
+		return nil, fmt.Errorf("score: %w", err)
 	}
 	if ds.Fingerprint != info.Input.Fingerprint {
 		return nil, &MismatchError{Dir: dir, What: "input", Have: "fingerprint " + short(info.Input.Fingerprint), Want: "fingerprint " + short(ds.Fingerprint)}
@@ -77,13 +77,13 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 	}
 	runs, err := info.Plan.Runs()
 	if err != nil {
-		return nil, err
+		return nil, fmt.Errorf("score: %w", err)
 	}
 	// Another process may be scoring this study at the same moment (two
 	// shards finishing together): remove only stale temporary files.
 	cleanStudyTemps(dir, staleAge)
 	if _, err := writeRunsTable(dir, info, runs); err != nil {
-		return nil, err
+		return nil, fmt.Errorf("score: %w", err)
 	}
 	threads := opt.Threads
 	// Exact input neighbours once, shared by the continuity and recall of
@@ -111,7 +111,7 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 		var scores []RunScore
 		for _, r := range bySetting[s.ID] {
 			if err := ctx.Err(); err != nil {
-				return nil, err
+				return nil, fmt.Errorf("score: %w", err)
 			}
 			rec, err := readRecord(dir, info, r)
 			if err != nil {
@@ -153,6 +153,20 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 		ss.LabelPurity = col(func(r RunScore) float64 { return r.LabelPurity })
 		ss.KL = col(func(r RunScore) float64 { return r.KL })
 		ss.Disparity, ss.Jaccard, ss.PairSpearman = nan2(), nan2(), nan2()
+		// A layout whose points all coincide (a collapsed run) cannot be
+		// aligned (Procrustes needs a non-zero layout) and has no distance
+		// ranks: it keeps its own run scores, but the seed-to-seed
+		// agreement and the point spreads use the other layouts only.
+		{
+			var keptL [][]float64
+			var keptR []*Run
+			for i, y := range layouts {
+				if !NoVariance(y, len(y)/2, 2) {
+					keptL, keptR = append(keptL, y), append(keptR, done[i])
+				}
+			}
+			layouts, done = keptL, keptR
+		}
 		if len(layouts) >= 2 {
 			ag, err := stability.SettingAgreement(layouts, k, threads)
 			if err != nil {
@@ -160,13 +174,15 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 			}
 			var sp []float64
 			for _, pa := range ag.Pairs {
-				dc, err := stability.DistanceCorrelation(layouts[pa.A], 2, layouts[pa.B], 2, 0, scoreSeed)
+				dc, err := distanceSpearman(layouts[pa.A], 2, layouts[pa.B])
 				if err != nil {
-					return nil, fmt.Errorf("score: setting %s: %w", s.ID, err)
+					return nil, fmt.Errorf("score: setting %s: runs %s and %s: %w", s.ID, done[pa.A].ID, done[pa.B].ID, err)
 				}
 				pairs = append(pairs, PairScore{SettingID: s.ID, RunA: done[pa.A].ID, RunB: done[pa.B].ID,
-					Disparity: pa.Disparity, Jaccard: pa.Jaccard, DistSpearman: dc.Value})
-				sp = append(sp, dc.Value)
+					Disparity: pa.Disparity, Jaccard: pa.Jaccard, DistSpearman: dc})
+				if !math.IsNaN(dc) {
+					sp = append(sp, dc)
+				}
 			}
 			ss.Disparity = Spread{Median: ag.Disparity.Median, IQR: ag.Disparity.IQR}
 			ss.Jaccard = Spread{Median: ag.Jaccard.Median, IQR: ag.Jaccard.IQR}
@@ -184,7 +200,7 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 		settings = append(settings, ss)
 	}
 	if err := writeScoreTables(dir, info, k, runScores, settings, points, pairs); err != nil {
-		return nil, err
+		return nil, fmt.Errorf("score: %w", err)
 	}
 	return &ScoreSummary{Runs: len(runScores), Settings: len(settings), Points: len(points), Pairs: len(pairs), K: k}, nil
 }
@@ -213,12 +229,12 @@ func scoreRun(ds *dataset.Dataset, y []float64, k, threads int, inNb *tsne.Neigh
 	if err != nil {
 		return RunScore{}, err
 	}
-	dc, err := stability.DistanceCorrelation(ds.X, ds.D, y, 2, 0, scoreSeed)
+	dc, err := distanceSpearman(ds.X, ds.D, y)
 	if err != nil {
 		return RunScore{}, err
 	}
 	rs := RunScore{Trustworthiness: f.Trustworthiness.Value, Continuity: f.Continuity.Value, KNNRecall: f.KNNRecall.Value,
-		DistSpearman: dc.Value, LabelAccuracy: math.NaN(), LabelPurity: math.NaN(), K: k, Sampled: f.Trustworthiness.Queries}
+		DistSpearman: dc, LabelAccuracy: math.NaN(), LabelPurity: math.NaN(), K: k, Sampled: f.Trustworthiness.Queries}
 	if ds.Labels != nil {
 		if rs.LabelAccuracy, err = stability.LabelAccuracyThreads(y, ds.Labels, k, threads); err != nil {
 			return RunScore{}, err
@@ -228,4 +244,21 @@ func scoreRun(ds *dataset.Dataset, y []float64, k, threads int, inNb *tsne.Neigh
 		}
 	}
 	return rs, nil
+}
+
+// distanceSpearman is stability.DistanceCorrelation of the n×da data a and
+// the layout b (n×2), or NaN when it is undefined: a Spearman correlation
+// needs both distance lists to vary, and if every point of a (or of b) is
+// the same all its distances are zero. A NaN is stored as null in the
+// score tables and left out of the medians, so one undefined score does
+// not fail the scoring of the whole study.
+func distanceSpearman(a []float64, da int, b []float64) (float64, error) {
+	if NoVariance(a, len(a)/da, da) || NoVariance(b, len(b)/2, 2) {
+		return math.NaN(), nil
+	}
+	dc, err := stability.DistanceCorrelation(a, da, b, 2, 0, scoreSeed)
+	if err != nil {
+		return 0, err
+	}
+	return dc.Value, nil
 }

@@ -170,3 +170,91 @@ func TestCancelThenResume(t *testing.T) {
 		t.Error("cancelled and resumed study differs from an uninterrupted one")
 	}
 }
+
+// An undefined score does not fail the scoring: a layout whose points all
+// coincide has no distance variation, so its Spearman correlations with the
+// input distances and with the other runs' layouts are undefined (a rank
+// correlation needs both lists to vary: Spearman 1904, common practice).
+// They are stored as null and left out of the setting medians.
+func TestScoreUndefinedIsNull(t *testing.T) {
+	ds := iris(t)
+	p := smallPlan(t)
+	dir := t.TempDir()
+	runSweep(t, ds, p, dir, nil)
+	runs, _ := p.Runs()
+	bad := runs[0]
+	path := layoutPath(dir, bad.ID)
+	tb, err := pq.Read(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range tb.Columns {
+		if n := tb.Columns[i].Name; n == "x" || n == "y" {
+			v := tb.Columns[i].Values.([]float64)
+			for j := range v {
+				v[j] = 1.5 // every point at (1.5, 1.5)
+			}
+		}
+	}
+	if err := pq.Write(path, tb); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := Score(context.Background(), dir, ds, ScoreOptions{K: 10}); err != nil {
+		t.Fatalf("Score with a collapsed layout: %v", err)
+	}
+	rt, err := pq.Read(filepath.Join(dir, ScoresDir, ScoreRunsFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	ids, _ := rt.String("run_id")
+	col := rt.Column("distance_spearman")
+	if col == nil || !col.Nullable {
+		t.Fatalf("runs table: distance_spearman column %+v, want nullable", col)
+	}
+	for i, id := range ids {
+		valid := col.Valid == nil || col.Valid[i]
+		if (id == bad.ID) == valid {
+			t.Errorf("run %s: distance_spearman valid=%v, want null only for the collapsed run %s", id, valid, bad.ID)
+		}
+	}
+	st, err := Open(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The collapsed layout cannot be aligned (Procrustes needs a layout
+	// of non-zero size): it is left out of the seed-to-seed agreement, so
+	// its setting (2 seeds) has no pair; the other setting keeps its one.
+	if len(st.Pairs) != 1 || st.Pairs[0].RunA == bad.ID || st.Pairs[0].RunB == bad.ID || math.IsNaN(st.Pairs[0].DistSpearman) {
+		t.Errorf("pairs %+v, want one, of the other setting, with a defined distance Spearman", st.Pairs)
+	}
+	for _, ss := range st.SettingScores {
+		if ss.ID == bad.Setting.ID {
+			// The setting's one other run still has a defined score; the
+			// agreement of fewer than 2 layouts is undefined.
+			if math.IsNaN(ss.DistSpearman.Median) || !math.IsNaN(ss.Disparity.Median) || ss.RunsDone != 2 {
+				t.Errorf("setting %s: distance Spearman %v, disparity %v, runs done %d; want a value, NaN, 2",
+					ss.ID, ss.DistSpearman.Median, ss.Disparity.Median, ss.RunsDone)
+			}
+		}
+	}
+}
+
+// NoVariance: identical rows of values not exact in binary (5.1, 0.2) are
+// recognised despite the rounding of their means; a spread of one part in
+// 10⁹ is real variance (common practice: relative tolerance 1e-12).
+func TestNoVariance(t *testing.T) {
+	x := make([]float64, 0, 4*1000)
+	for i := 0; i < 1000; i++ {
+		x = append(x, 5.1, 3.5, 1.4, 0.2)
+	}
+	if !NoVariance(x, 1000, 4) {
+		t.Error("identical rows: NoVariance = false")
+	}
+	x[4*500] *= 1 + 1e-9
+	if NoVariance(x, 1000, 4) {
+		t.Error("one value moved by 1e-9 relative: NoVariance = true")
+	}
+	if !NoVariance([]float64{0, 0, 0, 0}, 2, 2) {
+		t.Error("all zeros: NoVariance = false")
+	}
+}

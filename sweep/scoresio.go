@@ -64,7 +64,7 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 		t := &pq.Table{Meta: scoreMeta(info, "scores.runs", k), Columns: []pq.Column{
 			{Name: "run_id", Values: id}, {Name: "setting_id", Values: sid},
 			{Name: "trustworthiness", Values: tw}, {Name: "continuity", Values: co}, {Name: "knn_recall", Values: kr},
-			{Name: "distance_spearman", Values: ds}, nullable("label_accuracy", la), nullable("label_purity", lp),
+			nullable("distance_spearman", ds), nullable("label_accuracy", la), nullable("label_purity", lp),
 			{Name: "k", Values: kk}, {Name: "sampled", Values: sa}, {Name: "kl", Values: kl}}}
 		if err := pq.Write(scoresPath(dir, ScoreRunsFile), t); err != nil {
 			return err
@@ -133,7 +133,7 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 		}
 		t := &pq.Table{Meta: scoreMeta(info, "scores.pairs", k), Columns: []pq.Column{
 			{Name: "setting_id", Values: sid}, {Name: "run_a", Values: a}, {Name: "run_b", Values: b},
-			{Name: "disparity", Values: di}, {Name: "jaccard", Values: ja}, {Name: "distance_spearman", Values: ds}}}
+			{Name: "disparity", Values: di}, {Name: "jaccard", Values: ja}, nullable("distance_spearman", ds)}}
 		if err := pq.Write(scoresPath(dir, ScorePairsFile), t); err != nil {
 			return err
 		}

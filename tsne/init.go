@@ -61,7 +61,8 @@ func RandomInit(n int, seed uint64) []float64 {
 // (first such entry on ties) is positive.
 //
 // It fails if d < 2, n < 2, x has non-finite values, or the data have no
-// variance along the first component (all points identical).
+// variance: total variance at most (1e-12·max|x|)² (all points identical up
+// to rounding), or none along the first component.
 func PCAInit(x []float64, n, d int) ([]float64, error) {
 	switch {
 	case d < 2:
@@ -72,6 +73,7 @@ func PCAInit(x []float64, n, d int) ([]float64, error) {
 		return nil, fmt.Errorf("tsne: PCA initialisation: %d values for %d×%d data", len(x), n, d)
 	}
 	xc := make([]float64, n*d)
+	scale, total := 0.0, 0.0
 	for c := 0; c < d; c++ {
 		m := 0.0
 		for i := 0; i < n; i++ {
@@ -80,11 +82,21 @@ func PCAInit(x []float64, n, d int) ([]float64, error) {
 				return nil, fmt.Errorf("tsne: PCA initialisation: value at row %d, column %d is not finite", i, c)
 			}
 			m += v
+			scale = max(scale, math.Abs(v))
 		}
 		m /= float64(n)
 		for i := 0; i < n; i++ {
 			xc[i*d+c] = x[i*d+c] - m
+			total += xc[i*d+c] * xc[i*d+c]
 		}
+	}
+	// No variance up to rounding: a column mean of values such as 5.1 (not
+	// exact in binary) is rounded, so identical rows centre to noise of
+	// order 1e-16·|x| rather than to zero. Refuse total variance
+	// Σ_c var(x_·c) ≤ (1e-12·max|x|)² (common practice: a relative
+	// tolerance far above rounding, far below any real spread).
+	if tol := 1e-12 * scale; total/float64(n) <= tol*tol {
+		return nil, errors.New("tsne: PCA initialisation: the data have no variance (all points identical; use random initialisation)")
 	}
 	X := mat.NewDense(n, d, xc)
 	y := make([]float64, 2*n)

@@ -168,8 +168,9 @@ func sweepAction(c *cli.Context) error {
 		fmt.Fprintf(stderr, "plumb: scoring (k=%d)\n", c.Int("k"))
 	}
 	t0 := time.Now()
+	// sweep.Score's errors start with "score: " already.
 	if _, err := sweep.Score(ctx, opt.Dir, ds, sweep.ScoreOptions{K: c.Int("k"), Threads: sum.Jobs * sum.Threads}); err != nil {
-		return fmt.Errorf("score: %w", err)
+		return err
 	}
 	if !c.Bool("quiet") {
 		fmt.Fprintf(stderr, "plumb: scored in %s; see `plumb show %s`\n", time.Since(t0).Round(time.Millisecond), opt.Dir)
