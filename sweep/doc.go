@@ -27,9 +27,24 @@
 // tables under scores/. Every file is written atomically, so a run is
 // finished exactly when its files verify; a killed sweep resumes where it
 // stopped. Shards (Shard) deal the plan's runs round-robin and write only
-// their own runs' files.
+// their own runs' files. A kill during a write leaves a ".NAME.tmp-*" file
+// beside NAME: a run's own are removed when the run is redone; those of the
+// shared files (study.json, runs.parquet, scores/) by an unsharded Execute,
+// the study's only writer, whatever their age, and by a shard or Score only
+// after 5 minutes, since a younger one may be another process's write in
+// progress.
+//
+// Execute validates the data before it creates anything (Validate): data
+// without variance are refused. Score stores a score that is undefined for
+// a run (a Spearman correlation of distances that do not vary) as null;
+// score tables that do not form one scoring at a single k (a kill between
+// their renames) count as not scored (Study.ScoresProblem, ScoredK).
 //
 // References:
+//   - C. Spearman. The proof and measurement of association between two things.
+//     American Journal of Psychology 15, 1904.
+//   - T. F. Chan, G. H. Golub, R. J. LeVeque. Algorithms for computing the sample
+//     variance: analysis and recommendations. The American Statistician 37, 1983.
 //   - L. van der Maaten, G. Hinton. Visualizing Data using t-SNE. JMLR 9, 2008.
 //   - L. van der Maaten. Accelerating t-SNE using Tree-Based Algorithms. JMLR 15, 2014.
 //   - D. Kobak, P. Berens. The art of using t-SNE for single-cell transcriptomics.
