@@ -52,6 +52,7 @@ type BarnesHut struct {
 	zRow  []float64
 
 	rowsFn func(chunk int)
+	attrFn func(chunk int)
 }
 
 var _ Gradient = (*BarnesHut)(nil)
@@ -80,6 +81,7 @@ func NewBarnesHut(theta float64, threads int) *BarnesHut {
 	}
 	g := &BarnesHut{theta: theta, runner: newChunkRunner(threads)}
 	g.rowsFn = g.rows
+	g.attrFn = g.attr
 	return g
 }
 
@@ -115,6 +117,7 @@ func (g *BarnesHut) Gradient(dst, y []float64, p *Sparse, exaggeration float64) 
 	g.build(y)
 	g.y, g.p, g.alpha, g.dst = y, p, exaggeration, dst
 	g.runner.run(numChunks(n, chunkRows), g.rowsFn)
+	g.runner.run(numChunks(n, chunkRows), g.attrFn)
 	z := 0.0
 	for _, v := range g.zRow {
 		z += v
@@ -318,7 +321,17 @@ func (g *BarnesHut) rows(chunk int) {
 		}
 		g.zRow[i] = zi
 		g.rep[2*i], g.rep[2*i+1] = rx, ry
-		ax, ay := attraction(g.y, g.p, i, g.y[2*i], g.y[2*i+1])
+	}
+}
+
+// attr computes α times the attraction for one chunk of points (in index
+// order, a pass of its own so that the rows of P stream through the cache
+// without evicting the tree).
+func (g *BarnesHut) attr(chunk int) {
+	lo, hi := chunk*chunkRows, min((chunk+1)*chunkRows, len(g.perm))
+	y := g.y
+	for i := lo; i < hi; i++ {
+		ax, ay := attraction(y, g.p, i, y[2*i], y[2*i+1])
 		g.dst[2*i], g.dst[2*i+1] = g.alpha*ax, g.alpha*ay
 	}
 }
