@@ -12,6 +12,7 @@ import (
 	"github.com/urfave/cli/v2"
 
 	"plumb/internal/dataset"
+	"plumb/sweep"
 	"plumb/tsne"
 )
 
@@ -108,18 +109,24 @@ func embedAction(c *cli.Context) error {
 	if err != nil {
 		return err
 	}
-	if err := data.CheckPerplexity(cfg.Perplexity); err != nil {
-		return err
-	}
-	if cfg.Method == "" || cfg.Method == tsne.MethodAuto {
-		cfg.Method = tsne.AutoMethod(data.N)
-	}
 	quiet := c.Bool("quiet")
 	stderr := c.App.ErrWriter
 	if !quiet {
 		for _, w := range data.Warnings {
 			fmt.Fprintf(stderr, "plumb: warning: %s\n", w)
 		}
+	}
+	if err := data.CheckPerplexity(cfg.Perplexity); err != nil {
+		return err
+	}
+	if sweep.NoVariance(data.X, data.N, data.D) {
+		return &dataset.InputError{File: data.Source, Msg: fmt.Sprintf(
+			"all %d points are identical (the features have no variance), so t-SNE has no structure to show", data.N)}
+	}
+	if cfg.Method == "" || cfg.Method == tsne.MethodAuto {
+		cfg.Method = tsne.AutoMethod(data.N)
+	}
+	if !quiet {
 		fmt.Fprintf(stderr, "plumb: %d points × %d features, perplexity %g, gradient %s\n", data.N, data.D, cfg.Perplexity, cfg.Method)
 	}
 	if !quiet && isTerminal(stderr) {
