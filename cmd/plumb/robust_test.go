@@ -293,7 +293,7 @@ func TestBadInputs(t *testing.T) {
 			out := filepath.Join(t.TempDir(), "study")
 			_, stderr, code := plumb(t, append(rbSweep(c.input, out), c.extra...)...)
 			if c.bugIf != nil && c.bugIf(stderr) {
-				t.Skip("bug: " + c.bug + "; got " + strings.TrimSpace(stderr))
+				t.Fatalf("regression of a fixed bug: %s; got %s", c.bug, strings.TrimSpace(stderr))
 			}
 			rbOneError(t, code, stderr, 0, c.want...)
 			rbNothingIn(t, out)
