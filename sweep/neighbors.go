@@ -24,7 +24,7 @@ func neighborsMode(mode string, n int) string {
 
 // searchNeighbors builds the shared neighbour lists with the plan's search.
 // Both searches return rows sorted by distance, so the lists for a smaller
-// perplexity are a truncation (tsne.Neighbors.Truncate).
+// perplexity are the first columns of each row (tsne.Affinities reads only those).
 func searchNeighbors(mode string, x []float64, n, d, k, threads int) (*tsne.Neighbors, error) {
 	if mode == "approx" {
 		return tsne.ApproxNeighbors(x, n, d, k, neighborSeed, threads)

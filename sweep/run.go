@@ -251,9 +251,11 @@ func (sh *shared) affinities(perp float64) (*tsne.Sparse, error) {
 			e.err = err
 			return
 		}
-		k := tsne.NeighborCount(sh.ds.N, perp)
+		// Affinities reads the first NeighborCount(n, perp) neighbours of
+		// each row itself, so the lists of the largest perplexity serve
+		// every smaller one without a truncated copy.
 		t0 := time.Now()
-		e.p, e.err = tsne.Affinities(nb.Truncate(k), perp, sh.threads)
+		e.p, e.err = tsne.Affinities(nb, perp, sh.threads)
 		if e.err != nil {
 			e.err = fmt.Errorf("affinities (perplexity %s): %w", formatFloat(perp), e.err)
 			return
@@ -263,7 +265,7 @@ func (sh *shared) affinities(perp float64) (*tsne.Sparse, error) {
 		n := e.pending
 		sh.mu.Unlock()
 		sh.info(fmt.Sprintf("shared: affinities for perplexity %s (k=%d) built once in %s, used by %d runs",
-			formatFloat(perp), k, round(time.Since(t0)), n))
+			formatFloat(perp), tsne.NeighborCount(sh.ds.N, perp), round(time.Since(t0)), n))
 	})
 	return e.p, e.err
 }
