@@ -22,6 +22,12 @@ import "math"
 // by roughly a factor of 7 on a random layout for a few extra flops per cell.
 //
 // Other cells are opened; leaves hold up to 16 points and sum exactly.
+// The points of one leaf share a walk (the group walk of Barnes, J. Comp.
+// Phys. 87, 1990): the criterion is tested with d the distance from c to
+// the group's bounding box, a lower bound on every member's distance, so
+// each point sees the cells it would accept on its own or finer ones (the
+// gradient error at θ = 0.5 about halves) and the resulting interaction
+// lists are evaluated per point without tests.
 // θ = 0 opens every cell (exact sums through the tree); larger θ is faster
 // and coarser. The tree is built sequentially by recursive splitting into
 // quadrants (O(N log N)); the per-point traversals run in parallel over fixed
@@ -33,7 +39,8 @@ import "math"
 //
 // References: L. van der Maaten, "Accelerating t-SNE using Tree-Based
 // Algorithms", JMLR 15, 2014; J. Barnes & P. Hut, "A hierarchical O(N log N)
-// force-calculation algorithm", Nature 324, 1986.
+// force-calculation algorithm", Nature 324, 1986; J. E. Barnes, "A modified
+// tree code: don't laugh; it runs", J. Comp. Phys. 87, 1990.
 type BarnesHut struct {
 	theta  float64
 	runner *chunkRunner
@@ -51,8 +58,17 @@ type BarnesHut struct {
 	rep   []float64
 	zRow  []float64
 
+	leaves  []int32 // leaf nodes in tree order
+	scratch chan *bhScratch
+
 	rowsFn func(chunk int)
 	attrFn func(chunk int)
+}
+
+// bhScratch holds one worker's interaction lists for a group of points.
+type bhScratch struct {
+	cells  []int32 // nodes summarised by their expansion
+	direct []int32 // point ranges [lo, hi) summed exactly, as pairs
 }
 
 var _ Gradient = (*BarnesHut)(nil)
@@ -68,8 +84,9 @@ type bhNode struct {
 }
 
 const (
-	bhLeafSize = 16
-	bhMaxDepth = 48
+	bhLeafChunk = 4 // leaves (groups) per parallel chunk
+	bhLeafSize  = 16
+	bhMaxDepth  = 48
 )
 
 // NewBarnesHut returns a Barnes-Hut gradient with opening angle theta
@@ -80,6 +97,10 @@ func NewBarnesHut(theta float64, threads int) *BarnesHut {
 		panic("tsne: negative Barnes-Hut theta")
 	}
 	g := &BarnesHut{theta: theta, runner: newChunkRunner(threads)}
+	g.scratch = make(chan *bhScratch, g.runner.threads)
+	for t := 0; t < g.runner.threads; t++ {
+		g.scratch <- &bhScratch{}
+	}
 	g.rowsFn = g.rows
 	g.attrFn = g.attr
 	return g
@@ -104,6 +125,7 @@ func (g *BarnesHut) Reset(n int) {
 	g.pos = g.pos[:n]
 	g.ys = g.ys[:2*n]
 	g.nodes = g.nodes[:0]
+	g.leaves = g.leaves[:0]
 }
 
 // Gradient implements Gradient; the returned Z is the tree approximation.
@@ -116,7 +138,7 @@ func (g *BarnesHut) Gradient(dst, y []float64, p *Sparse, exaggeration float64) 
 	}
 	g.build(y)
 	g.y, g.p, g.alpha, g.dst = y, p, exaggeration, dst
-	g.runner.run(numChunks(n, chunkRows), g.rowsFn)
+	g.runner.run(numChunks(len(g.leaves), bhLeafChunk), g.rowsFn)
 	g.runner.run(numChunks(n, chunkRows), g.attrFn)
 	z := 0.0
 	for _, v := range g.zRow {
@@ -173,6 +195,7 @@ func (g *BarnesHut) split(idx int, y []float64, lo, hi int32, x0, y0, side float
 			}
 		}
 		g.nodes[idx] = nd
+		g.leaves = append(g.leaves, int32(idx))
 		return
 	}
 	h := side / 2
@@ -232,85 +255,54 @@ func (g *BarnesHut) partition(y []float64, lo, hi int32, axis int, cut float64) 
 	return i
 }
 
-// rows runs the traversal for one chunk of points (in tree order, for
-// locality; each point's sums are independent of the order).
+// rows runs the traversal for one chunk of leaves. The points of a leaf
+// form a group that shares one walk of the tree: a cell is summarised when
+// its width²/θ² is below the squared distance from its centre of mass to
+// the group's bounding box, which implies the per-point criterion for every
+// point of the group; the resulting lists of cells and of leaves to sum
+// exactly are then evaluated for each point of the group without further
+// tests. Each point's sums depend only on the tree, not on the chunking.
 func (g *BarnesHut) rows(chunk int) {
-	n := len(g.perm)
-	lo, hi := chunk*chunkRows, min((chunk+1)*chunkRows, n)
+	sc := <-g.scratch
+	defer func() { g.scratch <- sc }()
 	nodes, ys := g.nodes, g.ys
+	lo, hi := chunk*bhLeafChunk, min((chunk+1)*bhLeafChunk, len(g.leaves))
 	var stack [4*bhMaxDepth + 8]int32
-	for k := lo; k < hi; k++ {
-		i := int(g.perm[k])
-		xi, yi := ys[2*k], ys[2*k+1]
-		pk := int32(k)
-		var zi, rx, ry float64
+	for _, leaf := range g.leaves[lo:hi] {
+		gl, gh := nodes[leaf].lo, nodes[leaf].hi
+		bx0, by0 := math.Inf(1), math.Inf(1)
+		bx1, by1 := math.Inf(-1), math.Inf(-1)
+		for q := gl; q < gh; q++ {
+			x, v := ys[2*q], ys[2*q+1]
+			bx0, bx1 = min(bx0, x), max(bx1, x)
+			by0, by1 = min(by0, v), max(by1, v)
+		}
+		cells, direct := sc.cells[:0], sc.direct[:0]
 		sp := 1
 		stack[0] = 0
 		for sp > 0 {
 			sp--
-			nd := &nodes[stack[sp]]
-			inside := nd.lo <= pk && pk < nd.hi
-			if !inside {
-				dx, dy := xi-nd.cx, yi-nd.cy
-				d2 := dx*dx + dy*dy
-				if nd.crit < d2 {
-					// Monopole plus quadrupole terms of the expansion
-					// about the centre of mass (the dipole term vanishes):
-					// with q = 4ΔᵀMΔ/u³, Z_i gains m/u − tr(M)/u² + q and
-					// the force is (m/u² − 2tr(M)/u³ + 3q/u)Δ − 4MΔ/u³.
-					w := 1 / (1 + d2)
-					w2 := w * w
-					w3 := w2 * w
-					tr := nd.mxx + nd.myy
-					mdx := nd.mxx*dx + nd.mxy*dy
-					mdy := nd.mxy*dx + nd.myy*dy
-					q := 4 * (dx*mdx + dy*mdy) * w3
-					zi += nd.mass*w - tr*w2 + q
-					s := w2*(nd.mass-2*tr*w) + 3*q*w
-					f := 4 * w3
-					rx += s*dx - f*mdx
-					ry += s*dy - f*mdy
-					continue
+			idx := stack[sp]
+			nd := &nodes[idx]
+			if nd.lo <= gl && gh <= nd.hi {
+				// The group's own leaf or one of its ancestors.
+				for c := nd.child + nd.nchild - 1; c >= nd.child && nd.child >= 0; c-- {
+					stack[sp] = c
+					sp++
 				}
+				continue
+			}
+			ex := max(bx0-nd.cx, nd.cx-bx1, 0)
+			ey := max(by0-nd.cy, nd.cy-by1, 0)
+			if nd.crit < ex*ex+ey*ey {
+				cells = append(cells, idx)
+				continue
 			}
 			if nd.child < 0 {
-				// Exact sums over the leaf's points except the point
-				// itself, two points per division: with a, b the values
-				// 1 + d², 1/a = b/(ab) and 1/b = a/(ab) (a, b ≥ 1).
-				s0, e0, s1, e1 := nd.lo, nd.hi, nd.hi, nd.hi
-				if inside {
-					e0, s1 = pk, pk+1
-				}
-				for seg := 0; seg < 2; seg++ {
-					q := s0
-					for ; q+2 <= e0; q += 2 {
-						dxa, dya := xi-ys[2*q], yi-ys[2*q+1]
-						dxb, dyb := xi-ys[2*q+2], yi-ys[2*q+3]
-						a := 1 + dxa*dxa + dya*dya
-						b := 1 + dxb*dxb + dyb*dyb
-						ab := a * b
-						var wa, wb float64
-						if ab < 1e300 {
-							r := 1 / ab
-							wa, wb = b*r, a*r
-						} else {
-							wa, wb = 1/a, 1/b
-						}
-						zi += wa + wb
-						wa *= wa
-						wb *= wb
-						rx += wa*dxa + wb*dxb
-						ry += wa*dya + wb*dyb
-					}
-					if q < e0 {
-						dx, dy := xi-ys[2*q], yi-ys[2*q+1]
-						w := 1 / (1 + dx*dx + dy*dy)
-						zi += w
-						w *= w
-						rx += w * dx
-						ry += w * dy
-					}
-					s0, e0 = s1, e1
+				if m := len(direct); m > 0 && direct[m-1] == nd.lo {
+					direct[m-1] = nd.hi // adjacent in tree order: one range
+				} else {
+					direct = append(direct, nd.lo, nd.hi)
 				}
 				continue
 			}
@@ -319,9 +311,87 @@ func (g *BarnesHut) rows(chunk int) {
 				sp++
 			}
 		}
-		g.zRow[i] = zi
-		g.rep[2*i], g.rep[2*i+1] = rx, ry
+		sc.cells, sc.direct = cells, direct
+		for k := gl; k < gh; k++ {
+			xi, yi := ys[2*k], ys[2*k+1]
+			var zi, rx, ry float64
+			for _, c := range cells {
+				// Monopole plus quadrupole terms of the expansion about
+				// the centre of mass (the dipole term vanishes): with
+				// q = 4ΔᵀMΔ/u³, Z_i gains m/u − tr(M)/u² + q and the
+				// force is (m/u² − 2tr(M)/u³ + 3q/u)Δ − 4MΔ/u³.
+				nd := &nodes[c]
+				dx, dy := xi-nd.cx, yi-nd.cy
+				w := 1 / (1 + dx*dx + dy*dy)
+				w2 := w * w
+				w3 := w2 * w
+				tr := nd.mxx + nd.myy
+				mdx := nd.mxx*dx + nd.mxy*dy
+				mdy := nd.mxy*dx + nd.myy*dy
+				q := 4 * (dx*mdx + dy*mdy) * w3
+				zi += nd.mass*w - tr*w2 + q
+				s := w2*(nd.mass-2*tr*w) + 3*q*w
+				f := 4 * w3
+				rx += s*dx - f*mdx
+				ry += s*dy - f*mdy
+			}
+			for e := 0; e+1 < len(direct); e += 2 {
+				z, x, v := bhDirect(xi, yi, ys[2*direct[e]:2*direct[e+1]])
+				zi += z
+				rx += x
+				ry += v
+			}
+			// The group's own leaf, the point itself excluded.
+			z, x, v := bhDirect(xi, yi, ys[2*gl:2*k])
+			zi += z
+			rx += x
+			ry += v
+			z, x, v = bhDirect(xi, yi, ys[2*k+2:2*gh])
+			zi += z
+			rx += x
+			ry += v
+			i := g.perm[k]
+			g.zRow[i] = zi
+			g.rep[2*i], g.rep[2*i+1] = rx, ry
+		}
 	}
+}
+
+// bhDirect returns the exact sums Σ w, Σ w²Δx, Σ w²Δy over the points
+// (flat x, y pairs) in ys, w = 1/(1 + ‖y_i − y_j‖²), two points per
+// division: with a, b the values 1 + d², 1/a = b/(ab) and 1/b = a/(ab)
+// (a, b ≥ 1; separate divisions if ab passes 1e300).
+func bhDirect(xi, yi float64, ys []float64) (zi, rx, ry float64) {
+	q := 0
+	for ; q+4 <= len(ys); q += 4 {
+		p := ys[q : q+4 : q+4]
+		dxa, dya := xi-p[0], yi-p[1]
+		dxb, dyb := xi-p[2], yi-p[3]
+		a := 1 + dxa*dxa + dya*dya
+		b := 1 + dxb*dxb + dyb*dyb
+		ab := a * b
+		var wa, wb float64
+		if ab < 1e300 {
+			r := 1 / ab
+			wa, wb = b*r, a*r
+		} else {
+			wa, wb = 1/a, 1/b
+		}
+		zi += wa + wb
+		wa *= wa
+		wb *= wb
+		rx += wa*dxa + wb*dxb
+		ry += wa*dya + wb*dyb
+	}
+	if q+2 <= len(ys) {
+		dx, dy := xi-ys[q], yi-ys[q+1]
+		w := 1 / (1 + dx*dx + dy*dy)
+		zi += w
+		w *= w
+		rx += w * dx
+		ry += w * dy
+	}
+	return zi, rx, ry
 }
 
 // attr computes α times the attraction for one chunk of points (in index

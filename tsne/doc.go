@@ -77,6 +77,8 @@
 //     JMLR 15, 3221–3245, 2014.
 //   - J. Barnes & P. Hut, "A hierarchical O(N log N) force-calculation
 //     algorithm", Nature 324, 446–449, 1986.
+//   - J. E. Barnes, "A modified tree code: don't laugh; it runs", J. Comput.
+//     Phys. 87, 161–170, 1990 (the group walk of the Barnes-Hut gradient).
 //   - D. Kobak & P. Berens, "The art of using t-SNE for single-cell
 //     transcriptomics", Nature Communications 10, 5416, 2019.
 //   - A. C. Belkina et al., "Automated optimized parameters for
