@@ -358,32 +358,40 @@ func (g *BarnesHut) rows(chunk int) {
 }
 
 // bhDirect returns the exact sums Σ w, Σ w²Δx, Σ w²Δy over the points
-// (flat x, y pairs) in ys, w = 1/(1 + ‖y_i − y_j‖²), two points per
-// division: with a, b the values 1 + d², 1/a = b/(ab) and 1/b = a/(ab)
-// (a, b ≥ 1; separate divisions if ab passes 1e300).
+// (flat x, y pairs) in ys, w = 1/(1 + ‖y_i − y_j‖²), four points per
+// division as in attraction (a, b, c, d ≥ 1 the values 1 + d²; separate
+// divisions if the product passes 1e300).
 func bhDirect(xi, yi float64, ys []float64) (zi, rx, ry float64) {
 	q := 0
-	for ; q+4 <= len(ys); q += 4 {
-		p := ys[q : q+4 : q+4]
-		dxa, dya := xi-p[0], yi-p[1]
-		dxb, dyb := xi-p[2], yi-p[3]
-		a := 1 + dxa*dxa + dya*dya
-		b := 1 + dxb*dxb + dyb*dyb
-		ab := a * b
-		var wa, wb float64
-		if ab < 1e300 {
-			r := 1 / ab
-			wa, wb = b*r, a*r
+	for ; q+8 <= len(ys); q += 8 {
+		p := ys[q : q+8 : q+8]
+		dx0, dy0 := xi-p[0], yi-p[1]
+		dx1, dy1 := xi-p[2], yi-p[3]
+		dx2, dy2 := xi-p[4], yi-p[5]
+		dx3, dy3 := xi-p[6], yi-p[7]
+		a := 1 + dx0*dx0 + dy0*dy0
+		b := 1 + dx1*dx1 + dy1*dy1
+		c := 1 + dx2*dx2 + dy2*dy2
+		d := 1 + dx3*dx3 + dy3*dy3
+		ab, cd := a*b, c*d
+		abcd := ab * cd
+		var w0, w1, w2, w3 float64
+		if abcd < 1e300 {
+			r := 1 / abcd
+			rab, rcd := r*cd, r*ab
+			w0, w1, w2, w3 = rab*b, rab*a, rcd*d, rcd*c
 		} else {
-			wa, wb = 1/a, 1/b
+			w0, w1, w2, w3 = 1/a, 1/b, 1/c, 1/d
 		}
-		zi += wa + wb
-		wa *= wa
-		wb *= wb
-		rx += wa*dxa + wb*dxb
-		ry += wa*dya + wb*dyb
+		zi += (w0 + w1) + (w2 + w3)
+		w0 *= w0
+		w1 *= w1
+		w2 *= w2
+		w3 *= w3
+		rx += (w0*dx0 + w1*dx1) + (w2*dx2 + w3*dx3)
+		ry += (w0*dy0 + w1*dy1) + (w2*dy2 + w3*dy3)
 	}
-	if q+2 <= len(ys) {
+	for ; q+2 <= len(ys); q += 2 {
 		dx, dy := xi-ys[q], yi-ys[q+1]
 		w := 1 / (1 + dx*dx + dy*dy)
 		zi += w
