@@ -61,8 +61,8 @@ type BarnesHut struct {
 	leaves  []int32 // leaf nodes in tree order
 	scratch chan *bhScratch
 
-	rowsFn func(chunk int)
-	attrFn func(chunk int)
+	walkChunks int // chunks of leaves; attraction chunks follow them
+	rowsFn     func(chunk int)
 }
 
 // bhScratch holds one worker's interaction lists for a group of points.
@@ -99,10 +99,11 @@ func NewBarnesHut(theta float64, threads int) *BarnesHut {
 	g := &BarnesHut{theta: theta, runner: newChunkRunner(threads)}
 	g.scratch = make(chan *bhScratch, g.runner.threads)
 	for t := 0; t < g.runner.threads; t++ {
-		g.scratch <- &bhScratch{}
+		// Sized for typical lists so that steady-state calls do not
+		// allocate; append grows them if a group needs more.
+		g.scratch <- &bhScratch{cells: make([]int32, 0, 4096), direct: make([]int32, 0, 1024)}
 	}
-	g.rowsFn = g.rows
-	g.attrFn = g.attr
+	g.rowsFn = g.chunk
 	return g
 }
 
@@ -138,8 +139,10 @@ func (g *BarnesHut) Gradient(dst, y []float64, p *Sparse, exaggeration float64) 
 	}
 	g.build(y)
 	g.y, g.p, g.alpha, g.dst = y, p, exaggeration, dst
-	g.runner.run(numChunks(len(g.leaves), bhLeafChunk), g.rowsFn)
-	g.runner.run(numChunks(n, chunkRows), g.attrFn)
+	// One parallel pass: the tree-walk chunks, then the attraction chunks
+	// (disjoint outputs), so there is a single hand-off per evaluation.
+	g.walkChunks = numChunks(len(g.leaves), bhLeafChunk)
+	g.runner.run(g.walkChunks+numChunks(n, chunkRows), g.rowsFn)
 	z := 0.0
 	for _, v := range g.zRow {
 		z += v
@@ -400,6 +403,15 @@ func bhDirect(xi, yi float64, ys []float64) (zi, rx, ry float64) {
 		ry += w * dy
 	}
 	return zi, rx, ry
+}
+
+// chunk runs walk chunk c, or attraction chunk c − walkChunks.
+func (g *BarnesHut) chunk(c int) {
+	if c < g.walkChunks {
+		g.rows(c)
+		return
+	}
+	g.attr(c - g.walkChunks)
 }
 
 // attr computes α times the attraction for one chunk of points (in index
