@@ -24,7 +24,9 @@ const (
 // exact evaluation costs about the same as Barnes-Hut at N = 500 (0.47 vs
 // 0.44 ms) and 1.5 times as much at N = 1000 (1.7 vs 1.1 ms); up to 1000
 // points we pay that for a gradient and Z without approximation error.
-// Beyond it the gap grows about linearly with N (3.7× at 10,000).
+// Beyond it the gap grows about linearly with N (3.7× at 10,000). These
+// timings predate the leaf-group Barnes-Hut walk (0.62 ms at N = 1000 since),
+// so the threshold may deserve a new measurement.
 const ExactMaxN = 1000
 
 // FFTMinN is the smallest number of points for which AutoMethod picks the
@@ -37,7 +39,8 @@ const ExactMaxN = 1000
 // exact gradient; near convergence attraction and repulsion almost cancel,
 // so relative errors of the total are large). Barnes-Hut grows as
 // N log N while the FFT grid grows far more slowly than N, so the FFT
-// takes over for large N; 50,000 is set from those measurements.
+// takes over for large N; 50,000 is set from those measurements (taken
+// before the Barnes-Hut speed-ups of the leaf-group walk).
 const FFTMinN = 50000
 
 // AutoMethod returns the gradient method used when Config.Method is "" or
