@@ -116,12 +116,11 @@ func embedAction(c *cli.Context) error {
 			fmt.Fprintf(stderr, "plumb: warning: %s\n", w)
 		}
 	}
-	if err := data.CheckPerplexity(cfg.Perplexity); err != nil {
+	// The same data checks as a sweep: perplexity against n, variance, and
+	// enough features for PCA initialisation.
+	one := &sweep.Plan{Perplexity: []float64{cfg.Perplexity}, Init: []string{string(cfg.Init)}}
+	if err := sweep.Validate(one, data); err != nil {
 		return err
-	}
-	if sweep.NoVariance(data.X, data.N, data.D) {
-		return &dataset.InputError{File: data.Source, Msg: fmt.Sprintf(
-			"all %d points are identical (the features have no variance), so t-SNE has no structure to show", data.N)}
 	}
 	if cfg.Method == "" || cfg.Method == tsne.MethodAuto {
 		cfg.Method = tsne.AutoMethod(data.N)
