@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"slices"
 	"sort"
 
 	"github.com/apache/arrow-go/v18/arrow"
@@ -357,72 +358,49 @@ func Read(path string) (t *Table, err error) {
 func convert(col *arrow.Column, n int) (Column, error) {
 	c := Column{Name: col.Name(), Nullable: col.Field().Nullable}
 	valid := make([]bool, 0, n)
-	nulls := false
-	appendValid := func(a arrow.Array, j int) {
-		ok := a.IsValid(j)
-		if !ok {
-			nulls = true
-		}
-		valid = append(valid, ok)
-	}
+	var err error
 	switch col.DataType().ID() {
 	case arrow.INT32:
-		v := make([]int32, 0, n)
-		for _, ch := range col.Data().Chunks() {
-			a := ch.(*array.Int32)
-			for j := 0; j < a.Len(); j++ {
-				v = append(v, a.Value(j))
-				appendValid(a, j)
-			}
-		}
-		c.Values = v
+		c.Values, err = gather[int32, *array.Int32](col, n, &valid)
 	case arrow.INT64:
-		v := make([]int64, 0, n)
-		for _, ch := range col.Data().Chunks() {
-			a := ch.(*array.Int64)
-			for j := 0; j < a.Len(); j++ {
-				v = append(v, a.Value(j))
-				appendValid(a, j)
-			}
-		}
-		c.Values = v
+		c.Values, err = gather[int64, *array.Int64](col, n, &valid)
 	case arrow.FLOAT64:
-		v := make([]float64, 0, n)
-		for _, ch := range col.Data().Chunks() {
-			a := ch.(*array.Float64)
-			for j := 0; j < a.Len(); j++ {
-				v = append(v, a.Value(j))
-				appendValid(a, j)
-			}
-		}
-		c.Values = v
+		c.Values, err = gather[float64, *array.Float64](col, n, &valid)
 	case arrow.STRING:
-		v := make([]string, 0, n)
-		for _, ch := range col.Data().Chunks() {
-			a := ch.(*array.String)
-			for j := 0; j < a.Len(); j++ {
-				v = append(v, a.Value(j))
-				appendValid(a, j)
-			}
-		}
-		c.Values = v
+		c.Values, err = gather[string, *array.String](col, n, &valid)
 	case arrow.BOOL:
-		v := make([]bool, 0, n)
-		for _, ch := range col.Data().Chunks() {
-			a := ch.(*array.Boolean)
-			for j := 0; j < a.Len(); j++ {
-				v = append(v, a.Value(j))
-				appendValid(a, j)
-			}
-		}
-		c.Values = v
+		c.Values, err = gather[bool, *array.Boolean](col, n, &valid)
 	default:
 		return c, fmt.Errorf("%w: unsupported type %s", ErrCorrupt, col.DataType())
 	}
-	if nulls {
+	if err != nil {
+		return c, err
+	}
+	if slices.Contains(valid, false) {
 		c.Valid = valid
 	}
 	return c, nil
+}
+
+// gather copies the values of every chunk of col, which holds arrays of
+// type A, into one slice, appending each entry's validity to valid.
+func gather[T any, A interface {
+	Len() int
+	Value(int) T
+	IsValid(int) bool
+}](col *arrow.Column, n int, valid *[]bool) ([]T, error) {
+	v := make([]T, 0, n)
+	for _, ch := range col.Data().Chunks() {
+		a, ok := ch.(A)
+		if !ok {
+			return nil, fmt.Errorf("%w: column chunk of type %s", ErrCorrupt, ch.DataType())
+		}
+		for j := 0; j < a.Len(); j++ {
+			v = append(v, a.Value(j))
+			*valid = append(*valid, a.IsValid(j))
+		}
+	}
+	return v, nil
 }
 
 // ReadMeta returns a Parquet file's key-value metadata and row count
