@@ -73,78 +73,17 @@ func (g *Exact) rows(chunk int) {
 	lo, hi := chunk*chunkRows, min((chunk+1)*chunkRows, n)
 	for i := lo; i < hi; i++ {
 		xi, yi := y[2*i], y[2*i+1]
-		var zi, rx, ry float64
-		for j := 0; j < n; j++ {
-			if j == i {
-				continue
-			}
-			dx, dy := xi-y[2*j], yi-y[2*j+1]
-			w := 1 / (1 + dx*dx + dy*dy)
-			zi += w
-			w2 := w * w
-			rx += w2 * dx
-			ry += w2 * dy
-		}
+		// Every other point: those before i, then those after.
+		zi, rx, ry := sumDirect(xi, yi, y[:2*i])
+		z, x, v := sumDirect(xi, yi, y[2*i+2:])
+		zi += z
+		rx += x
+		ry += v
 		g.zRow[i] = zi
 		g.rep[2*i], g.rep[2*i+1] = rx, ry
 		ax, ay := attraction(y, g.p, i, xi, yi)
 		g.dst[2*i], g.dst[2*i+1] = g.alpha*ax, g.alpha*ay
 	}
-}
-
-// attraction returns Σ_j p_ij w_ij (y_i − y_j) over the stored entries of
-// row i of P.
-func attraction(y []float64, p *Sparse, i int, xi, yi float64) (ax, ay float64) {
-	e, end := p.RowPtr[i], p.RowPtr[i+1]
-	col, val := p.Col[e:end], p.Val[e:end]
-	// Four edges share one division: with a..d the values 1 + d², r =
-	// 1/(ab·cd) gives 1/(ab) = r·cd and 1/(cd) = r·ab, hence 1/a = b/(ab)
-	// and so on (a few ulp from four separate divisions; every a ≥ 1). A
-	// product beyond 1e300 (distances beyond about 1e37) falls back to
-	// separate divisions. Four pairs of accumulators (one per lane) break
-	// the dependency chain of the sums; they are combined in a fixed order.
-	var ax0, ay0, ax1, ay1, ax2, ay2, ax3, ay3 float64
-	k := 0
-	for ; k+4 <= len(col); k += 4 {
-		j0, j1, j2, j3 := int(col[k]), int(col[k+1]), int(col[k+2]), int(col[k+3])
-		dx0, dy0 := xi-y[2*j0], yi-y[2*j0+1]
-		dx1, dy1 := xi-y[2*j1], yi-y[2*j1+1]
-		dx2, dy2 := xi-y[2*j2], yi-y[2*j2+1]
-		dx3, dy3 := xi-y[2*j3], yi-y[2*j3+1]
-		a := 1 + dx0*dx0 + dy0*dy0
-		b := 1 + dx1*dx1 + dy1*dy1
-		c := 1 + dx2*dx2 + dy2*dy2
-		d := 1 + dx3*dx3 + dy3*dy3
-		ab, cd := a*b, c*d
-		abcd := ab * cd
-		v := val[k : k+4 : k+4]
-		var pw0, pw1, pw2, pw3 float64
-		if abcd < 1e300 {
-			r := 1 / abcd
-			rab, rcd := r*cd, r*ab
-			pw0, pw1 = v[0]*(rab*b), v[1]*(rab*a)
-			pw2, pw3 = v[2]*(rcd*d), v[3]*(rcd*c)
-		} else {
-			pw0, pw1, pw2, pw3 = v[0]/a, v[1]/b, v[2]/c, v[3]/d
-		}
-		ax0 += pw0 * dx0
-		ay0 += pw0 * dy0
-		ax1 += pw1 * dx1
-		ay1 += pw1 * dy1
-		ax2 += pw2 * dx2
-		ay2 += pw2 * dy2
-		ax3 += pw3 * dx3
-		ay3 += pw3 * dy3
-	}
-	ax, ay = (ax0+ax1)+(ax2+ax3), (ay0+ay1)+(ay2+ay3)
-	for ; k < len(col); k++ {
-		j := int(col[k])
-		dx, dy := xi-y[2*j], yi-y[2*j+1]
-		pw := val[k] / (1 + dx*dx + dy*dy)
-		ax += pw * dx
-		ay += pw * dy
-	}
-	return ax, ay
 }
 
 // combineGradient turns dst (holding α·attraction) and rep into the

@@ -1,0 +1,203 @@
+package tsne
+
+// The three inner loops that dominate a Barnes-Hut (and exact) gradient
+// evaluation — direct sums over runs of points, attraction over a row of P,
+// and the expansions of summarised cells — live here. Each processes its
+// input in blocks of four lanes: the generic Go code below spells the lanes
+// out, and on amd64 CPUs with AVX2 an assembly version (kernels_amd64.s)
+// does the same operations four at a time. Both perform the same IEEE
+// operations in the same order (no fused multiply-add; true divisions), so
+// their results are bit-identical and a layout does not depend on which one
+// ran; TestKernelsMatchGeneric checks this. Build with the purego tag to
+// leave the assembly out.
+//
+// Lane sums are combined as (l0 + l2) + (l1 + l3), the order of the
+// assembly's horizontal reduction.
+
+// sumDirect returns the exact sums
+//
+//	z = Σ_j w_j,   rx = Σ_j w_j² (xi − x_j),   ry = Σ_j w_j² (yi − y_j),   w_j = 1/(1 + (xi − x_j)² + (yi − y_j)²)
+//
+// over the points (flat x, y pairs) in ys.
+func sumDirect(xi, yi float64, ys []float64) (z, rx, ry float64) {
+	m := len(ys) &^ 7
+	if m > 0 {
+		if useAVX2 {
+			z, rx, ry = direct4AVX2(xi, yi, ys[:m])
+		} else {
+			z, rx, ry = direct4Generic(xi, yi, ys[:m])
+		}
+	}
+	for q := m; q+2 <= len(ys); q += 2 {
+		dx, dy := xi-ys[q], yi-ys[q+1]
+		w := 1 / (1 + dx*dx + dy*dy)
+		z += w
+		w *= w
+		rx += w * dx
+		ry += w * dy
+	}
+	return z, rx, ry
+}
+
+// direct4Generic is sumDirect over whole blocks of four points (len(ys) a
+// multiple of 8). The assembly's lanes hold the points of a block in the
+// order 0, 2, 1, 3, so its reduction (l0 + l2) + (l1 + l3) adds the sums of
+// block positions as (s0 + s1) + (s2 + s3).
+func direct4Generic(xi, yi float64, ys []float64) (z, rx, ry float64) {
+	var z0, z1, z2, z3, x0, x1, x2, x3, y0, y1, y2, y3 float64
+	for q := 0; q+8 <= len(ys); q += 8 {
+		p := ys[q : q+8 : q+8]
+		dx0, dy0 := xi-p[0], yi-p[1]
+		dx1, dy1 := xi-p[2], yi-p[3]
+		dx2, dy2 := xi-p[4], yi-p[5]
+		dx3, dy3 := xi-p[6], yi-p[7]
+		w0 := 1 / (1 + dx0*dx0 + dy0*dy0)
+		w1 := 1 / (1 + dx1*dx1 + dy1*dy1)
+		w2 := 1 / (1 + dx2*dx2 + dy2*dy2)
+		w3 := 1 / (1 + dx3*dx3 + dy3*dy3)
+		z0 += w0
+		z1 += w1
+		z2 += w2
+		z3 += w3
+		w0 *= w0
+		w1 *= w1
+		w2 *= w2
+		w3 *= w3
+		x0 += w0 * dx0
+		x1 += w1 * dx1
+		x2 += w2 * dx2
+		x3 += w3 * dx3
+		y0 += w0 * dy0
+		y1 += w1 * dy1
+		y2 += w2 * dy2
+		y3 += w3 * dy3
+	}
+	return (z0 + z1) + (z2 + z3), (x0 + x1) + (x2 + x3), (y0 + y1) + (y2 + y3)
+}
+
+// attraction returns Σ_j p_ij w_ij (y_i − y_j) over the stored entries of
+// row i of P, with (xi, yi) = y_i.
+func attraction(y []float64, p *Sparse, i int, xi, yi float64) (ax, ay float64) {
+	e, end := p.RowPtr[i], p.RowPtr[i+1]
+	col, val := p.Col[e:end], p.Val[e:end]
+	m := len(col) &^ 3
+	if m > 0 {
+		if useAVX2 {
+			ax, ay = attract4AVX2(y, col[:m], val[:m], xi, yi)
+		} else {
+			ax, ay = attract4Generic(y, col[:m], val[:m], xi, yi)
+		}
+	}
+	for k := m; k < len(col); k++ {
+		j := int(col[k])
+		dx, dy := xi-y[2*j], yi-y[2*j+1]
+		pw := val[k] / (1 + dx*dx + dy*dy)
+		ax += pw * dx
+		ay += pw * dy
+	}
+	return ax, ay
+}
+
+// attract4Generic is attraction over whole blocks of four entries
+// (len(col) = len(val), a multiple of 4); lane l holds entry l of a block.
+// Every index in col must address a point of y.
+func attract4Generic(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64) {
+	var ax0, ax1, ax2, ax3, ay0, ay1, ay2, ay3 float64
+	for k := 0; k+4 <= len(col); k += 4 {
+		c := col[k : k+4 : k+4]
+		v := val[k : k+4 : k+4]
+		j0, j1, j2, j3 := int(c[0]), int(c[1]), int(c[2]), int(c[3])
+		dx0, dy0 := xi-y[2*j0], yi-y[2*j0+1]
+		dx1, dy1 := xi-y[2*j1], yi-y[2*j1+1]
+		dx2, dy2 := xi-y[2*j2], yi-y[2*j2+1]
+		dx3, dy3 := xi-y[2*j3], yi-y[2*j3+1]
+		pw0 := v[0] / (1 + dx0*dx0 + dy0*dy0)
+		pw1 := v[1] / (1 + dx1*dx1 + dy1*dy1)
+		pw2 := v[2] / (1 + dx2*dx2 + dy2*dy2)
+		pw3 := v[3] / (1 + dx3*dx3 + dy3*dy3)
+		ax0 += pw0 * dx0
+		ax1 += pw1 * dx1
+		ax2 += pw2 * dx2
+		ax3 += pw3 * dx3
+		ay0 += pw0 * dy0
+		ay1 += pw1 * dy1
+		ay2 += pw2 * dy2
+		ay3 += pw3 * dy3
+	}
+	return (ax0 + ax2) + (ax1 + ax3), (ay0 + ay2) + (ay1 + ay3)
+}
+
+// cellBlockLen is the number of float64s in one block of four cells.
+const cellBlockLen = 28
+
+// cellList holds summarised quadtree cells in blocks of four lanes: block
+// b is cells[28b : 28b+28] = cx[4], cy[4], mass[4], tr[4], mxx[4], mxy[4],
+// myy[4], with tr = mxx + myy. An unused lane is all zeros and adds exactly
+// nothing to any sum.
+type cellList struct {
+	buf []float64
+	n   int // cells stored
+}
+
+func (c *cellList) reset() {
+	c.buf = c.buf[:0]
+	c.n = 0
+}
+
+// add appends one cell.
+func (c *cellList) add(nd *bhNode) {
+	l := c.n & 3
+	if l == 0 {
+		var zero [cellBlockLen]float64
+		c.buf = append(c.buf, zero[:]...)
+	}
+	b := c.buf[len(c.buf)-cellBlockLen:]
+	b[l] = nd.cx
+	b[4+l] = nd.cy
+	b[8+l] = nd.mass
+	b[12+l] = nd.mxx + nd.myy
+	b[16+l] = nd.mxx
+	b[20+l] = nd.mxy
+	b[24+l] = nd.myy
+	c.n++
+}
+
+// sumCells returns the sums over the cells of the monopole-plus-quadrupole
+// expansions described at BarnesHut: with Δ = y_i − c, u = 1 + ‖Δ‖² and
+// q = 4ΔᵀMΔ/u³,
+//
+//	z  += m/u − tr(M)/u² + q
+//	r  += (m/u² − 2 tr(M)/u³ + 3q/u) Δ − 4 MΔ/u³
+func sumCells(xi, yi float64, c *cellList) (z, rx, ry float64) {
+	if c.n == 0 {
+		return 0, 0, 0
+	}
+	if useAVX2 {
+		return cells4AVX2(xi, yi, c.buf)
+	}
+	return cells4Generic(xi, yi, c.buf)
+}
+
+// cells4Generic is sumCells over whole blocks (len(blk) a multiple of 28).
+func cells4Generic(xi, yi float64, blk []float64) (z, rx, ry float64) {
+	var zs, xs, ys [4]float64
+	for b := 0; b+cellBlockLen <= len(blk); b += cellBlockLen {
+		v := blk[b : b+cellBlockLen : b+cellBlockLen]
+		for l := 0; l < 4; l++ {
+			dx, dy := xi-v[l], yi-v[4+l]
+			w := 1 / (1 + dx*dx + dy*dy)
+			w2 := w * w
+			w3 := w2 * w
+			mass, tr := v[8+l], v[12+l]
+			mdx := v[16+l]*dx + v[20+l]*dy
+			mdy := v[20+l]*dx + v[24+l]*dy
+			q := 4 * (dx*mdx + dy*mdy) * w3
+			zs[l] += mass*w - tr*w2 + q
+			s := w2*(mass-2*tr*w) + 3*q*w
+			f := 4 * w3
+			xs[l] += s*dx - f*mdx
+			ys[l] += s*dy - f*mdy
+		}
+	}
+	return (zs[0] + zs[2]) + (zs[1] + zs[3]), (xs[0] + xs[2]) + (xs[1] + xs[3]), (ys[0] + ys[2]) + (ys[1] + ys[3])
+}

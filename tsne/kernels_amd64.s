@@ -1,0 +1,235 @@
+//go:build amd64 && !purego
+
+#include "textflag.h"
+
+// Constants broadcast to four float64 lanes.
+DATA kone<>+0(SB)/8, $1.0
+DATA kone<>+8(SB)/8, $1.0
+DATA kone<>+16(SB)/8, $1.0
+DATA kone<>+24(SB)/8, $1.0
+GLOBL kone<>(SB), RODATA|NOPTR, $32
+
+DATA ktwo<>+0(SB)/8, $2.0
+DATA ktwo<>+8(SB)/8, $2.0
+DATA ktwo<>+16(SB)/8, $2.0
+DATA ktwo<>+24(SB)/8, $2.0
+GLOBL ktwo<>(SB), RODATA|NOPTR, $32
+
+DATA kthree<>+0(SB)/8, $3.0
+DATA kthree<>+8(SB)/8, $3.0
+DATA kthree<>+16(SB)/8, $3.0
+DATA kthree<>+24(SB)/8, $3.0
+GLOBL kthree<>(SB), RODATA|NOPTR, $32
+
+DATA kfour<>+0(SB)/8, $4.0
+DATA kfour<>+8(SB)/8, $4.0
+DATA kfour<>+16(SB)/8, $4.0
+DATA kfour<>+24(SB)/8, $4.0
+GLOBL kfour<>(SB), RODATA|NOPTR, $32
+
+// REDUCE leaves (l0 + l2) + (l1 + l3) of lanes Y in the low element of X,
+// using XT as scratch.
+#define REDUCE(Y, X, XT) \
+	VEXTRACTF128 $1, Y, XT \
+	VADDPD       XT, X, X \
+	VPERMILPD    $1, X, XT \
+	VADDSD       XT, X, X
+
+// func cpuid(leaf, sub uint32) (eax, ebx, ecx, edx uint32)
+TEXT ·cpuid(SB), NOSPLIT, $0-24
+	MOVL leaf+0(FP), AX
+	MOVL sub+4(FP), CX
+	CPUID
+	MOVL AX, eax+8(FP)
+	MOVL BX, ebx+12(FP)
+	MOVL CX, ecx+16(FP)
+	MOVL DX, edx+20(FP)
+	RET
+
+// func xgetbv() (eax, edx uint32)
+TEXT ·xgetbv(SB), NOSPLIT, $0-8
+	MOVL $0, CX
+	XGETBV
+	MOVL AX, eax+0(FP)
+	MOVL DX, edx+4(FP)
+	RET
+
+// func direct4AVX2(xi, yi float64, ys []float64) (z, rx, ry float64)
+// len(ys) is a multiple of 8 (whole blocks of four points).
+TEXT ·direct4AVX2(SB), NOSPLIT, $0-64
+	VBROADCASTSD xi+0(FP), Y0
+	VBROADCASTSD yi+8(FP), Y1
+	VMOVUPD      kone<>(SB), Y2
+	VXORPD       Y3, Y3, Y3        // z
+	VXORPD       Y4, Y4, Y4        // rx
+	VXORPD       Y5, Y5, Y5        // ry
+	MOVQ         ys_base+16(FP), SI
+	MOVQ         ys_len+24(FP), CX
+	SHRQ         $3, CX
+	JZ           ddone
+
+dloop:
+	VMOVUPD   0(SI), Y6            // x0 y0 x1 y1
+	VMOVUPD   32(SI), Y7           // x2 y2 x3 y3
+	VUNPCKLPD Y7, Y6, Y8           // x0 x2 x1 x3
+	VUNPCKHPD Y7, Y6, Y9           // y0 y2 y1 y3
+	VSUBPD    Y8, Y0, Y8           // dx = xi − x
+	VSUBPD    Y9, Y1, Y9           // dy = yi − y
+	VMULPD    Y8, Y8, Y10
+	VADDPD    Y10, Y2, Y10         // 1 + dx²
+	VMULPD    Y9, Y9, Y11
+	VADDPD    Y11, Y10, Y10        // (1 + dx²) + dy²
+	VDIVPD    Y10, Y2, Y10         // w = 1/u
+	VADDPD    Y10, Y3, Y3          // z += w
+	VMULPD    Y10, Y10, Y10        // w²
+	VMULPD    Y10, Y8, Y8
+	VADDPD    Y8, Y4, Y4           // rx += w²·dx
+	VMULPD    Y10, Y9, Y9
+	VADDPD    Y9, Y5, Y5           // ry += w²·dy
+	ADDQ      $64, SI
+	DECQ      CX
+	JNZ       dloop
+
+ddone:
+	REDUCE(Y3, X3, X6)
+	REDUCE(Y4, X4, X7)
+	REDUCE(Y5, X5, X8)
+	VMOVSD X3, z+40(FP)
+	VMOVSD X4, rx+48(FP)
+	VMOVSD X5, ry+56(FP)
+	VZEROUPPER
+	RET
+
+// func attract4AVX2(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64)
+// len(col) = len(val) is a multiple of 4; every index addresses a point of y.
+TEXT ·attract4AVX2(SB), NOSPLIT, $0-104
+	MOVQ         y_base+0(FP), DI
+	MOVQ         col_base+24(FP), SI
+	MOVQ         col_len+32(FP), CX
+	MOVQ         val_base+48(FP), DX
+	VBROADCASTSD xi+72(FP), Y0
+	VBROADCASTSD yi+80(FP), Y1
+	VMOVUPD      kone<>(SB), Y2
+	VXORPD       Y3, Y3, Y3        // ax
+	VXORPD       Y4, Y4, Y4        // ay
+	SHRQ         $2, CX
+	JZ           adone
+
+aloop:
+	MOVL        0(SI), R8
+	MOVL        4(SI), R9
+	MOVL        8(SI), R10
+	MOVL        12(SI), R11
+	SHLQ        $4, R8
+	SHLQ        $4, R9
+	SHLQ        $4, R10
+	SHLQ        $4, R11
+	VMOVUPD     (DI)(R8*1), X6                // x0 y0
+	VMOVUPD     (DI)(R9*1), X7                // x1 y1
+	VINSERTF128 $1, (DI)(R10*1), Y6, Y6       // x0 y0 x2 y2
+	VINSERTF128 $1, (DI)(R11*1), Y7, Y7       // x1 y1 x3 y3
+	VUNPCKLPD   Y7, Y6, Y8                    // x0 x1 x2 x3
+	VUNPCKHPD   Y7, Y6, Y9                    // y0 y1 y2 y3
+	VSUBPD      Y8, Y0, Y8                    // dx
+	VSUBPD      Y9, Y1, Y9                    // dy
+	VMULPD      Y8, Y8, Y10
+	VADDPD      Y10, Y2, Y10
+	VMULPD      Y9, Y9, Y11
+	VADDPD      Y11, Y10, Y10                 // u = (1 + dx²) + dy²
+	VMOVUPD     0(DX), Y11                    // p
+	VDIVPD      Y10, Y11, Y10                 // p/u
+	VMULPD      Y10, Y8, Y8
+	VADDPD      Y8, Y3, Y3
+	VMULPD      Y10, Y9, Y9
+	VADDPD      Y9, Y4, Y4
+	ADDQ        $16, SI
+	ADDQ        $32, DX
+	DECQ        CX
+	JNZ         aloop
+
+adone:
+	REDUCE(Y3, X3, X6)
+	REDUCE(Y4, X4, X7)
+	VMOVSD X3, ax+88(FP)
+	VMOVSD X4, ay+96(FP)
+	VZEROUPPER
+	RET
+
+// func cells4AVX2(xi, yi float64, blk []float64) (z, rx, ry float64)
+// blk holds whole blocks of 28 float64s: cx, cy, mass, tr, mxx, mxy, myy,
+// four lanes each (see cellList).
+TEXT ·cells4AVX2(SB), NOSPLIT, $0-64
+	VBROADCASTSD xi+0(FP), Y0
+	VBROADCASTSD yi+8(FP), Y1
+	VXORPD       Y3, Y3, Y3        // z
+	VXORPD       Y4, Y4, Y4        // rx
+	VXORPD       Y5, Y5, Y5        // ry
+	MOVQ         blk_base+16(FP), SI
+	MOVQ         blk_len+24(FP), AX
+	XORQ         DX, DX
+	MOVQ         $28, CX
+	DIVQ         CX                // AX = number of blocks
+	MOVQ         AX, CX
+	TESTQ        CX, CX
+	JZ           cdone
+
+cloop:
+	VMOVUPD 0(SI), Y6
+	VSUBPD  Y6, Y0, Y6             // dx = xi − cx
+	VMOVUPD 32(SI), Y7
+	VSUBPD  Y7, Y1, Y7             // dy = yi − cy
+	VMULPD  Y6, Y6, Y8
+	VADDPD  kone<>(SB), Y8, Y8     // 1 + dx²
+	VMULPD  Y7, Y7, Y9
+	VADDPD  Y9, Y8, Y8             // u
+	VMOVUPD kone<>(SB), Y9
+	VDIVPD  Y8, Y9, Y8             // w = 1/u
+	VMULPD  Y8, Y8, Y9             // w2
+	VMULPD  Y8, Y9, Y10            // w3 = w2·w
+	VMULPD  128(SI), Y6, Y12       // mxx·dx
+	VMULPD  160(SI), Y7, Y13       // mxy·dy
+	VADDPD  Y13, Y12, Y12          // mdx
+	VMULPD  160(SI), Y6, Y13       // mxy·dx
+	VMULPD  192(SI), Y7, Y14       // myy·dy
+	VADDPD  Y14, Y13, Y13          // mdy
+	VMULPD  Y12, Y6, Y14           // dx·mdx
+	VMULPD  Y13, Y7, Y2            // dy·mdy
+	VADDPD  Y2, Y14, Y14
+	VMULPD  kfour<>(SB), Y14, Y14  // 4·(…)
+	VMULPD  Y10, Y14, Y14          // q = 4·(…)·w3
+	VMULPD  kfour<>(SB), Y10, Y10  // f = 4·w3
+	VMULPD  64(SI), Y8, Y2         // mass·w
+	VMULPD  96(SI), Y9, Y11        // tr·w2
+	VSUBPD  Y11, Y2, Y2
+	VADDPD  Y14, Y2, Y2
+	VADDPD  Y2, Y3, Y3             // z += mass·w − tr·w2 + q
+	VMOVUPD 96(SI), Y11
+	VMULPD  ktwo<>(SB), Y11, Y11   // 2·tr
+	VMULPD  Y8, Y11, Y11           // 2·tr·w
+	VMOVUPD 64(SI), Y2
+	VSUBPD  Y11, Y2, Y2            // mass − 2·tr·w
+	VMULPD  Y2, Y9, Y2             // w2·(…)
+	VMULPD  kthree<>(SB), Y14, Y11 // 3·q
+	VMULPD  Y8, Y11, Y11           // 3·q·w
+	VADDPD  Y11, Y2, Y2            // s
+	VMULPD  Y6, Y2, Y11            // s·dx
+	VMULPD  Y10, Y12, Y12          // f·mdx
+	VSUBPD  Y12, Y11, Y11
+	VADDPD  Y11, Y4, Y4            // rx += s·dx − f·mdx
+	VMULPD  Y7, Y2, Y11            // s·dy
+	VMULPD  Y10, Y13, Y13          // f·mdy
+	VSUBPD  Y13, Y11, Y11
+	VADDPD  Y11, Y5, Y5            // ry += s·dy − f·mdy
+	ADDQ    $224, SI
+	DECQ    CX
+	JNZ     cloop
+
+cdone:
+	REDUCE(Y3, X3, X6)
+	REDUCE(Y4, X4, X7)
+	REDUCE(Y5, X5, X8)
+	VMOVSD X3, z+40(FP)
+	VMOVSD X4, rx+48(FP)
+	VMOVSD X5, ry+56(FP)
+	VZEROUPPER
+	RET

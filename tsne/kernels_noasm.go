@@ -1,0 +1,22 @@
+//go:build !amd64 || purego
+
+package tsne
+
+// useAVX2 is false where the assembly kernels are not built; the generic
+// Go kernels in kernels.go run instead.
+var useAVX2 = false
+
+func direct4AVX2(xi, yi float64, ys []float64) (z, rx, ry float64) {
+	return direct4Generic(xi, yi, ys)
+}
+
+func attract4AVX2(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64) {
+	return attract4Generic(y, col, val, xi, yi)
+}
+
+func cells4AVX2(xi, yi float64, blk []float64) (z, rx, ry float64) {
+	return cells4Generic(xi, yi, blk)
+}
+
+// hasAsmKernels reports whether the assembly kernels can run here.
+func hasAsmKernels() bool { return false }

@@ -1,0 +1,217 @@
+package tsne
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+)
+
+// kernelInputs returns layouts that exercise the kernels: clustered points,
+// spread points, coincident points and distances near the float64 limits
+// of the expressions (common practice: test the extremes of the range).
+func kernelInputs() map[string][]float64 {
+	r := rand.New(rand.NewPCG(7, 11))
+	out := map[string][]float64{}
+	mk := func(name string, n int, f func(i int) (float64, float64)) {
+		y := make([]float64, 2*n)
+		for i := 0; i < n; i++ {
+			y[2*i], y[2*i+1] = f(i)
+		}
+		out[name] = y
+	}
+	mk("normal", 203, func(int) (float64, float64) { return r.NormFloat64(), r.NormFloat64() })
+	mk("wide", 157, func(int) (float64, float64) { return 80 * (r.Float64() - 0.5), 80 * (r.Float64() - 0.5) })
+	mk("tight", 64, func(int) (float64, float64) { return 1e-9 * r.NormFloat64(), 1e-9 * r.NormFloat64() })
+	mk("coincident", 33, func(int) (float64, float64) { return 3, -2 })
+	mk("huge", 41, func(int) (float64, float64) { return 1e150 * r.NormFloat64(), 1e150 * r.NormFloat64() })
+	return out
+}
+
+func sameBits(a, b float64) bool { return math.Float64bits(a) == math.Float64bits(b) }
+
+// TestKernelsMatchGeneric: the assembly kernels give bit-identical results
+// to the generic Go kernels (the package promises results that do not
+// depend on the code path), and both agree with plain loops to rounding.
+func TestKernelsMatchGeneric(t *testing.T) {
+	asm := hasAsmKernels()
+	if !asm {
+		t.Log("assembly kernels cannot run on this machine; checking the generic kernels against plain loops only")
+	}
+	r := rand.New(rand.NewPCG(3, 5))
+	for name, y := range kernelInputs() {
+		n := len(y) / 2
+		for trial := 0; trial < 20; trial++ {
+			i := r.IntN(n)
+			xi, yi := y[2*i], y[2*i+1]
+			lo := 2 * r.IntN(n)
+			hi := lo + 2*r.IntN(n-lo/2+1)
+			seg := y[lo:hi]
+			m := len(seg) &^ 7
+
+			// Direct sums.
+			gz, gx, gy := direct4Generic(xi, yi, seg[:m])
+			az, ax, ay := gz, gx, gy
+			if asm {
+				az, ax, ay = direct4AVX2(xi, yi, seg[:m])
+			}
+			if !sameBits(gz, az) || !sameBits(gx, ax) || !sameBits(gy, ay) {
+				t.Fatalf("%s direct: assembly (%v %v %v) != generic (%v %v %v)", name, az, ax, ay, gz, gx, gy)
+			}
+			z, rx, ry := sumDirect(xi, yi, seg)
+			var wz, wx, wy float64
+			for q := 0; q+2 <= len(seg); q += 2 {
+				dx, dy := xi-seg[q], yi-seg[q+1]
+				w := 1 / (1 + dx*dx + dy*dy)
+				wz += w
+				wx += w * w * dx
+				wy += w * w * dy
+			}
+			if !closeRel(z, wz, 1e-13) || !closeAbs(rx, wx, 1e-13*(math.Abs(wz)+1)) || !closeAbs(ry, wy, 1e-13*(math.Abs(wz)+1)) {
+				t.Fatalf("%s direct: got (%v %v %v), plain loop (%v %v %v)", name, z, rx, ry, wz, wx, wy)
+			}
+
+			// Attraction over a random row of entries.
+			k := r.IntN(40)
+			col := make([]int32, k)
+			val := make([]float64, k)
+			for e := range col {
+				col[e] = int32(r.IntN(n))
+				val[e] = r.Float64() * 1e-3
+			}
+			mk := k &^ 3
+			g1, g2 := attract4Generic(y, col[:mk], val[:mk], xi, yi)
+			a1, a2 := g1, g2
+			if asm {
+				a1, a2 = attract4AVX2(y, col[:mk], val[:mk], xi, yi)
+			}
+			if !sameBits(g1, a1) || !sameBits(g2, a2) {
+				t.Fatalf("%s attraction: assembly (%v %v) != generic (%v %v)", name, a1, a2, g1, g2)
+			}
+			p := &Sparse{N: 1, RowPtr: []int{0, k}, Col: col, Val: val}
+			fx, fy := attraction(y, p, 0, xi, yi)
+			var px, py, ps float64
+			for e := range col {
+				j := int(col[e])
+				dx, dy := xi-y[2*j], yi-y[2*j+1]
+				q := val[e] / (1 + dx*dx + dy*dy)
+				px += q * dx
+				py += q * dy
+				ps += q * (math.Abs(dx) + math.Abs(dy))
+			}
+			if !closeAbs(fx, px, 1e-13*ps) || !closeAbs(fy, py, 1e-13*ps) {
+				t.Fatalf("%s attraction: got (%v %v), plain loop (%v %v)", name, fx, fy, px, py)
+			}
+
+			// Cell expansions: cells made of random moments.
+			var cl cellList
+			nc := r.IntN(23)
+			var ref [3]float64
+			for c := 0; c < nc; c++ {
+				j := r.IntN(n)
+				s := 0.1 * r.Float64()
+				nd := bhNode{cx: y[2*j] + 5, cy: y[2*j+1] - 5, mass: float64(1 + r.IntN(30)),
+					mxx: s, mxy: 0.3 * s * (r.Float64() - 0.5), myy: 0.5 * s}
+				cl.add(&nd)
+				dx, dy := xi-nd.cx, yi-nd.cy
+				w := 1 / (1 + dx*dx + dy*dy)
+				tr := nd.mxx + nd.myy
+				mdx, mdy := nd.mxx*dx+nd.mxy*dy, nd.mxy*dx+nd.myy*dy
+				q := 4 * (dx*mdx + dy*mdy) * w * w * w
+				ref[0] += nd.mass*w - tr*w*w + q
+				sc := w*w*(nd.mass-2*tr*w) + 3*q*w
+				ref[1] += sc*dx - 4*w*w*w*mdx
+				ref[2] += sc*dy - 4*w*w*w*mdy
+			}
+			if nc > 0 && asm {
+				c1, c2, c3 := cells4Generic(xi, yi, cl.buf)
+				d1, d2, d3 := cells4AVX2(xi, yi, cl.buf)
+				if !sameBits(c1, d1) || !sameBits(c2, d2) || !sameBits(c3, d3) {
+					t.Fatalf("%s cells: assembly (%v %v %v) != generic (%v %v %v)", name, d1, d2, d3, c1, c2, c3)
+				}
+			}
+			cz, cx, cy := sumCells(xi, yi, &cl)
+			if !closeRel(cz, ref[0], 1e-12) || !closeAbs(cx, ref[1], 1e-12*(math.Abs(ref[0])+1)) || !closeAbs(cy, ref[2], 1e-12*(math.Abs(ref[0])+1)) {
+				t.Fatalf("%s cells: got (%v %v %v), plain loop (%v %v %v)", name, cz, cx, cy, ref[0], ref[1], ref[2])
+			}
+		}
+	}
+}
+
+func closeRel(a, b, tol float64) bool {
+	return a == b || math.Abs(a-b) <= tol*math.Max(math.Abs(a), math.Abs(b))
+}
+
+func closeAbs(a, b, tol float64) bool { return math.Abs(a-b) <= tol }
+
+// TestCellListPadding: unused lanes of the last block add exactly nothing
+// (common practice: padding must not change a sum).
+func TestCellListPadding(t *testing.T) {
+	var cl cellList
+	nd := bhNode{cx: 1, cy: 2, mass: 3, mxx: 0.01, mxy: 0.002, myy: 0.03}
+	cl.add(&nd)
+	z1, x1, y1 := sumCells(0.5, -0.5, &cl)
+	dx, dy := 0.5-1.0, -0.5-2.0
+	w := 1 / (1 + dx*dx + dy*dy)
+	w2 := w * w
+	w3 := w2 * w
+	tr := nd.mxx + nd.myy
+	mdx, mdy := nd.mxx*dx+nd.mxy*dy, nd.mxy*dx+nd.myy*dy
+	q := 4 * (dx*mdx + dy*mdy) * w3
+	wantZ := nd.mass*w - tr*w2 + q
+	s := w2*(nd.mass-2*tr*w) + 3*q*w
+	wantX, wantY := s*dx-4*w3*mdx, s*dy-4*w3*mdy
+	if !sameBits(z1, wantZ) || !sameBits(x1, wantX) || !sameBits(y1, wantY) {
+		t.Errorf("one cell in a padded block: got (%v %v %v), want (%v %v %v)", z1, x1, y1, wantZ, wantX, wantY)
+	}
+	if len(cl.buf) != cellBlockLen {
+		t.Errorf("buffer length %d, want %d", len(cl.buf), cellBlockLen)
+	}
+}
+
+func BenchmarkKernels(b *testing.B) {
+	r := rand.New(rand.NewPCG(1, 2))
+	y := make([]float64, 2*4096)
+	for i := range y {
+		y[i] = 20 * r.NormFloat64()
+	}
+	col := make([]int32, 96)
+	val := make([]float64, 96)
+	for e := range col {
+		col[e] = int32(r.IntN(4096))
+		val[e] = r.Float64()
+	}
+	var cl cellList
+	for c := 0; c < 64; c++ {
+		nd := bhNode{cx: y[2*c], cy: y[2*c+1], mass: 10, mxx: 1, mxy: 0.1, myy: 1}
+		cl.add(&nd)
+	}
+	for _, path := range []struct {
+		name string
+		avx  bool
+	}{{"generic", false}, {"asm", true}} {
+		if path.avx && !hasAsmKernels() {
+			continue
+		}
+		saved := useAVX2
+		useAVX2 = path.avx
+		b.Run("direct64/"+path.name, func(b *testing.B) {
+			for b.Loop() {
+				kernelSink, _, _ = sumDirect(1, 2, y[:128])
+			}
+		})
+		b.Run("attraction96/"+path.name, func(b *testing.B) {
+			p := &Sparse{N: 1, RowPtr: []int{0, 96}, Col: col, Val: val}
+			for b.Loop() {
+				kernelSink, _ = attraction(y, p, 0, 1, 2)
+			}
+		})
+		b.Run("cells64/"+path.name, func(b *testing.B) {
+			for b.Loop() {
+				kernelSink, _, _ = sumCells(1, 2, &cl)
+			}
+		})
+		useAVX2 = saved
+	}
+}
+
+var kernelSink float64
