@@ -36,6 +36,9 @@ func direct4AVX2(xi, yi float64, ys []float64) (z, rx, ry float64)
 func attract4AVX2(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64)
 
 //go:noescape
+func sqDist8AVX2(a, b []float64, bound float64) (s0, s1, s2, s3 float64, over bool)
+
+//go:noescape
 func cells4AVX2(xi, yi float64, blk []float64) (z, rx, ry float64)
 
 // hasAsmKernels reports whether the assembly kernels can run here.

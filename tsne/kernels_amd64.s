@@ -233,3 +233,49 @@ cdone:
 	VMOVSD X5, ry+56(FP)
 	VZEROUPPER
 	RET
+
+// func sqDist8AVX2(a, b []float64, bound float64) (s0, s1, s2, s3 float64, over bool)
+// len(a) = len(b) is a multiple of 8. Lane l accumulates features l and
+// l + 4 of each block of eight; after each block (s0 + s1) + (s2 + s3) is
+// compared with bound, as in sqDist8Generic.
+TEXT ·sqDist8AVX2(SB), NOSPLIT, $0-89
+	MOVQ         a_base+0(FP), SI
+	MOVQ         a_len+8(FP), CX
+	MOVQ         b_base+24(FP), DI
+	VMOVSD       bound+48(FP), X9
+	VXORPD       Y0, Y0, Y0
+	MOVB         $0, over+88(FP)
+	SHRQ         $3, CX
+	JZ           sdone
+
+sloop:
+	VMOVUPD      0(SI), Y1
+	VSUBPD       0(DI), Y1, Y1      // t = a − b, features 0..3
+	VMULPD       Y1, Y1, Y1
+	VADDPD       Y1, Y0, Y0
+	VMOVUPD      32(SI), Y2
+	VSUBPD       32(DI), Y2, Y2     // features 4..7
+	VMULPD       Y2, Y2, Y2
+	VADDPD       Y2, Y0, Y0
+	VHADDPD      Y0, Y0, Y3         // s0+s1, s0+s1, s2+s3, s2+s3
+	VEXTRACTF128 $1, Y3, X4
+	VADDSD       X4, X3, X3         // (s0+s1) + (s2+s3)
+	VUCOMISD     X9, X3
+	JA           sover
+	ADDQ         $64, SI
+	ADDQ         $64, DI
+	DECQ         CX
+	JNZ          sloop
+	JMP          sdone
+
+sover:
+	MOVB         $1, over+88(FP)
+
+sdone:
+	VEXTRACTF128 $1, Y0, X1
+	VMOVSD       X0, s0+56(FP)
+	VMOVHPD      X0, s1+64(FP)
+	VMOVSD       X1, s2+72(FP)
+	VMOVHPD      X1, s3+80(FP)
+	VZEROUPPER
+	RET

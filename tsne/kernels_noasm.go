@@ -14,6 +14,10 @@ func attract4AVX2(y []float64, col []int32, val []float64, xi, yi float64) (ax, 
 	return attract4Generic(y, col, val, xi, yi)
 }
 
+func sqDist8AVX2(a, b []float64, bound float64) (s0, s1, s2, s3 float64, over bool) {
+	return sqDist8Generic(a, b, bound)
+}
+
 func cells4AVX2(xi, yi float64, blk []float64) (z, rx, ry float64) {
 	return cells4Generic(xi, yi, blk)
 }

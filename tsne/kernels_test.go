@@ -215,3 +215,42 @@ func BenchmarkKernels(b *testing.B) {
 }
 
 var kernelSink float64
+
+// TestSqDistMatchesGeneric: the assembly squared distance gives the same
+// bits and the same early exit as the generic loop, and nbSqDist is the
+// plain sum when no bound interferes (common practice).
+func TestSqDistMatchesGeneric(t *testing.T) {
+	r := rand.New(rand.NewPCG(9, 4))
+	for trial := 0; trial < 500; trial++ {
+		d := r.IntN(80)
+		a, b := make([]float64, d), make([]float64, d)
+		for j := range a {
+			a[j], b[j] = r.NormFloat64(), r.NormFloat64()
+		}
+		var plain float64
+		for j := range a {
+			plain += (a[j] - b[j]) * (a[j] - b[j])
+		}
+		bounds := []float64{math.Inf(1), plain * r.Float64(), plain, 0, math.NaN()}
+		m := d &^ 7
+		for _, bound := range bounds {
+			g0, g1, g2, g3, gover := sqDist8Generic(a[:m], b[:m], bound)
+			if hasAsmKernels() {
+				a0, a1, a2, a3, aover := sqDist8AVX2(a[:m], b[:m], bound)
+				if !sameBits(g0, a0) || !sameBits(g1, a1) || !sameBits(g2, a2) || !sameBits(g3, a3) || gover != aover {
+					t.Fatalf("d=%d bound=%v: assembly (%v %v %v %v %v) != generic (%v %v %v %v %v)", d, bound, a0, a1, a2, a3, aover, g0, g1, g2, g3, gover)
+				}
+			}
+			got := nbSqDist(a, b, bound)
+			if math.Abs(plain-bound) <= 1e-12*plain {
+				continue // rounding decides; only the bits above are fixed
+			}
+			if got > bound != (plain > bound) {
+				t.Fatalf("d=%d bound=%v: nbSqDist %v, plain sum %v: disagree on the bound", d, bound, got, plain)
+			}
+			if !(plain > bound) && !closeRel(got, plain, 1e-13) {
+				t.Fatalf("d=%d: nbSqDist %v, plain sum %v", d, got, plain)
+			}
+		}
+	}
+}

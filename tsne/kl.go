@@ -66,3 +66,62 @@ func ExactZ(y []float64, threads int) float64 {
 func ExactKL(y []float64, p *Sparse, threads int) float64 {
 	return KL(y, p, ExactZ(y, threads))
 }
+
+// klRows is the number of rows per chunk of klEval's parallel sum.
+const klRows = 1024
+
+// klEval computes KL(P‖Q) for a fixed P during a run. Σ p log p and Σ p
+// are summed once, in the order KL uses; each call then sums
+// Σ p log(1 + d²) over fixed chunks of rows in parallel and adds the chunk
+// sums in index order, so the value does not depend on the thread count.
+// It differs from KL only in the rounding of that sum.
+type klEval struct {
+	p        *Sparse
+	plogp, s float64
+	part     []float64
+	runner   *chunkRunner
+	y        []float64 // layout of the current call
+	fn       func(chunk int)
+}
+
+func newKLEval(p *Sparse, threads int) *klEval {
+	k := &klEval{p: p, runner: newChunkRunner(threads), part: make([]float64, numChunks(p.N, klRows))}
+	for _, v := range p.Val {
+		if v > 0 {
+			k.plogp += v * math.Log(v)
+			k.s += v
+		}
+	}
+	k.fn = k.chunk
+	return k
+}
+
+func (k *klEval) chunk(c int) {
+	p, y := k.p, k.y
+	var plogw float64
+	for i := c * klRows; i < min((c+1)*klRows, p.N); i++ {
+		xi, yi := y[2*i], y[2*i+1]
+		for e := p.RowPtr[i]; e < p.RowPtr[i+1]; e++ {
+			v := p.Val[e]
+			if v <= 0 {
+				continue
+			}
+			j := int(p.Col[e])
+			dx, dy := xi-y[2*j], yi-y[2*j+1]
+			plogw += v * math.Log1p(dx*dx+dy*dy)
+		}
+	}
+	k.part[c] = plogw
+}
+
+// kl returns KL(P‖Q) of the layout y given the normalisation z.
+func (k *klEval) kl(y []float64, z float64) float64 {
+	k.y = y
+	k.runner.run(len(k.part), k.fn)
+	k.y = nil
+	var plogw float64
+	for _, v := range k.part {
+		plogw += v
+	}
+	return k.plogp + plogw + k.s*math.Log(z)
+}

@@ -170,9 +170,35 @@ func nbWorkers(n, chunk, threads int) int {
 // partial sum above bound proves the full sum is above bound too.
 func nbSqDist(a, b []float64, bound float64) float64 {
 	b = b[:len(a)]
+	m := len(a) &^ 7
 	var s0, s1, s2, s3 float64
-	j := 0
-	for ; j+8 <= len(a); j += 8 {
+	if m > 0 {
+		var over bool
+		if useAVX2 {
+			s0, s1, s2, s3, over = sqDist8AVX2(a[:m], b[:m], bound)
+		} else {
+			s0, s1, s2, s3, over = sqDist8Generic(a[:m], b[:m], bound)
+		}
+		if over {
+			return (s0 + s1) + (s2 + s3)
+		}
+	}
+	for j := m; j < len(a); j++ {
+		t := a[j] - b[j]
+		s0 += t * t
+	}
+	return (s0 + s1) + (s2 + s3)
+}
+
+// sqDist8Generic is nbSqDist's loop over whole blocks of eight features
+// (len(a) = len(b), a multiple of 8): lane l sums the squared differences
+// of features l and l + 4 of each block, and after each block the sum
+// (s0 + s1) + (s2 + s3) is compared with bound. It returns the lane sums
+// and whether they passed bound (then the remaining blocks were skipped).
+// sqDist8AVX2 does the same operations four at a time.
+func sqDist8Generic(a, b []float64, bound float64) (s0, s1, s2, s3 float64, over bool) {
+	b = b[:len(a)]
+	for j := 0; j+8 <= len(a); j += 8 {
 		t0 := a[j] - b[j]
 		t1 := a[j+1] - b[j+1]
 		t2 := a[j+2] - b[j+2]
@@ -189,15 +215,11 @@ func nbSqDist(a, b []float64, bound float64) float64 {
 		s1 += t1 * t1
 		s2 += t2 * t2
 		s3 += t3 * t3
-		if s := (s0 + s1) + (s2 + s3); s > bound {
-			return s
+		if (s0+s1)+(s2+s3) > bound {
+			return s0, s1, s2, s3, true
 		}
 	}
-	for ; j < len(a); j++ {
-		t := a[j] - b[j]
-		s0 += t * t
-	}
-	return (s0 + s1) + (s2 + s3)
+	return s0, s1, s2, s3, false
 }
 
 // nbHeap is a bounded max-heap of candidate neighbours keyed by (squared

@@ -180,6 +180,7 @@ type optimizer struct {
 	gains  []float64
 	iter   int // iterations completed
 	trace  []TracePoint
+	kl     *klEval
 }
 
 func newOptimizer(p *Sparse, init []float64, cfg Config) (*optimizer, error) {
@@ -218,6 +219,7 @@ func newOptimizer(p *Sparse, init []float64, cfg Config) (*optimizer, error) {
 		update: make([]float64, 2*n),
 		gains:  make([]float64, 2*n),
 		trace:  make([]TracePoint, 0, r.Iters/max(r.KLEvery, 1)+2),
+		kl:     newKLEval(p, r.Threads),
 	}
 	for k := range o.gains {
 		o.gains[k] = 1
@@ -259,7 +261,7 @@ func (o *optimizer) step() (bool, error) {
 	done := it + 1
 	pr := Progress{Iter: done, Iters: o.cfg.Iters}
 	if done%o.cfg.KLEvery == 0 || done == o.cfg.Iters {
-		pr.KL, pr.HaveKL = KL(o.y, o.p, z), true
+		pr.KL, pr.HaveKL = o.kl.kl(o.y, z), true
 		if len(o.trace) < cap(o.trace) {
 			o.trace = append(o.trace, TracePoint{Iter: done, KL: pr.KL})
 		}
@@ -352,7 +354,7 @@ func (o *optimizer) result() *Result {
 		kl = ExactKL(o.y, o.p, o.cfg.Threads)
 	} else {
 		_, z := o.grad.Gradient(o.g, o.y, o.p, 1)
-		kl = KL(o.y, o.p, z)
+		kl = o.kl.kl(o.y, z)
 	}
 	res := &Result{
 		Y:                 o.y,
