@@ -29,7 +29,7 @@ func ExampleSpec_Plan() {
 	fmt.Println(err)
 	// Output:
 	// 4 settings, 8 runs
-	// 66deb36dc0-1 5 auto
+	// 24c6ee6df0-1 5 auto
 	// --perplexity "0": must be positive
 }
 

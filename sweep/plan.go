@@ -12,6 +12,8 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+
+	"plumb/tsne"
 )
 
 // Spec is a plan as the user wrote it: each field in the command-line
@@ -25,7 +27,7 @@ type Spec struct {
 	Iters             string `json:"iters,omitempty"`              // default "1000"
 	Init              string `json:"init,omitempty"`               // default "pca"
 	Gradient          string `json:"gradient,omitempty"`           // default "auto"
-	Theta             string `json:"theta,omitempty"`              // default "0.5"
+	Theta             string `json:"theta,omitempty"`              // default tsne.DefaultTheta ("0.8")
 	Seeds             string `json:"seeds,omitempty"`              // default "1" (one run per setting, seed 1)
 	Neighbors         string `json:"neighbors,omitempty"`          // default "auto"
 	KLEvery           string `json:"kl_every,omitempty"`           // default "50"
@@ -300,7 +302,7 @@ func (s Spec) plan() (*Plan, error) {
 	if p.Gradient, err = wordList("gradient", def(s.Gradient, "auto"), gradients); err != nil {
 		return nil, err
 	}
-	th, err := floatList("theta", def(s.Theta, "0.5"), false, func(v float64) string {
+	th, err := floatList("theta", def(s.Theta, strconv.FormatFloat(tsne.DefaultTheta, 'g', -1, 64)), false, func(v float64) string {
 		if v <= 0 || v > 10 {
 			return "must be in (0, 10]"
 		}

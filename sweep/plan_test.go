@@ -5,6 +5,8 @@ import (
 	"reflect"
 	"strings"
 	"testing"
+
+	"plumb/tsne"
 )
 
 func TestParseSeeds(t *testing.T) {
@@ -50,10 +52,11 @@ func TestPlanDefaultsAndExpansion(t *testing.T) {
 		t.Fatal(err)
 	}
 	// Defaults follow tsne.Config (common practice in reference code:
-	// perplexity 30, exaggeration 12 for 250 of 1000 iterations, θ = 0.5).
+	// perplexity 30, exaggeration 12 for 250 of 1000 iterations) and
+	// tsne.DefaultTheta.
 	want := &Plan{Perplexity: []float64{30}, LearningRate: []float64{0}, Exaggeration: []float64{12},
 		ExaggerationIters: []int{250}, Iters: []int{1000}, Init: []string{"pca"}, Gradient: []string{"auto"},
-		Theta: 0.5, Seeds: []uint64{1}, Neighbors: "auto", KLEvery: 50}
+		Theta: tsne.DefaultTheta, Seeds: []uint64{1}, Neighbors: "auto", KLEvery: 50}
 	if !reflect.DeepEqual(p, want) {
 		t.Errorf("defaults: got %+v want %+v", p, want)
 	}
@@ -177,8 +180,11 @@ func TestParseSpecFile(t *testing.T) {
 //	echo -n 'plumb-setting-v1|perplexity=5|…|theta=0.5' | sha256sum
 //
 // (GNU coreutils sha256sum gave 66deb36dc0a1f817… for the first line).
+// θ is given explicitly: the ids of a plan never change, but a plan that
+// leaves θ to its default (tsne.DefaultTheta, 0.5 before version 0.2) is
+// another plan when the default changes.
 func TestGoldenIDs(t *testing.T) {
-	p, err := Spec{Perplexity: "30,5", LearningRate: "auto,200", Seeds: "1-2"}.Plan()
+	p, err := Spec{Perplexity: "30,5", LearningRate: "auto,200", Seeds: "1-2", Theta: "0.5"}.Plan()
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -79,6 +79,17 @@ type bhScratch struct {
 
 var _ Gradient = (*BarnesHut)(nil)
 
+// DefaultTheta is the default Barnes-Hut opening angle. With the quadrupole
+// term and the group walk, this tree is far more accurate at a given θ than
+// the plain monopole tree of van der Maaten (2014): at θ = 0.5 its relative
+// RMS repulsion error on three digits layouts is 1.5e-4 to 6.6e-4, against
+// 6.1e-3 to 1.8e-2 for scikit-learn 1.2.1 at its default θ = 0.5. The
+// default is the largest θ in steps of 0.1 whose error stays at or below
+// scikit-learn's on all three layouts (0.8: 1.9e-3 to 5.3e-3; 0.9 exceeds
+// it on the compact layout). TestDefaultThetaAccuracy checks this against
+// the fixture in testdata/sklearn_bh.
+const DefaultTheta = 0.8
+
 type bhNode struct {
 	cx, cy        float64 // centre of mass
 	mass          float64 // number of points

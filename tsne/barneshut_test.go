@@ -1,8 +1,11 @@
 package tsne
 
 import (
+	"encoding/json"
 	"math"
 	"math/rand/v2"
+	"os"
+	"path/filepath"
 	"runtime"
 	"testing"
 )
@@ -207,5 +210,47 @@ func BenchmarkGradient(b *testing.B) {
 		b.Run("barnes-hut/n="+itoa(n), func(b *testing.B) {
 			benchGradient(b, func() Gradient { return NewBarnesHut(0.5, th) }, n)
 		})
+	}
+}
+
+// TestDefaultThetaAccuracy: at DefaultTheta our Barnes-Hut repulsion is at
+// least as accurate as scikit-learn 1.2.1's Barnes-Hut at its default angle
+// θ = 0.5 on the same layouts (testdata/sklearn_bh/repulsion.json, made by
+// make_fixture.py beside it: digits layouts, errors of
+// sklearn.manifold._barnes_hut_tsne.gradient against the exact float64 sum).
+// The repulsion is isolated by an empty P, as in the script.
+func TestDefaultThetaAccuracy(t *testing.T) {
+	b, err := os.ReadFile(filepath.Join("..", "testdata", "sklearn_bh", "repulsion.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var fx struct {
+		N       int `json:"n"`
+		Layouts []struct {
+			Name  string             `json:"name"`
+			Y     []float64          `json:"y"`
+			Error map[string]float64 `json:"sklearn_error"`
+		} `json:"layouts"`
+	}
+	if err := json.Unmarshal(b, &fx); err != nil {
+		t.Fatal(err)
+	}
+	if len(fx.Layouts) != 3 {
+		t.Fatalf("%d layouts in the fixture, want 3", len(fx.Layouts))
+	}
+	p := &Sparse{N: fx.N, RowPtr: make([]int, fx.N+1)} // no attraction
+	for _, l := range fx.Layouts {
+		if len(l.Y) != 2*fx.N {
+			t.Fatalf("%s: %d coordinates, want %d", l.Name, len(l.Y), 2*fx.N)
+		}
+		want, _ := NewExact(0).Gradient(nil, l.Y, p, 1)
+		got, _ := NewBarnesHut(DefaultTheta, 0).Gradient(nil, l.Y, p, 1)
+		e := relErr(got, want)
+		half, _ := NewBarnesHut(0.5, 0).Gradient(nil, l.Y, p, 1)
+		t.Logf("%s: relative RMS repulsion error at θ = %.1f %.3g, at θ = 0.5 %.3g; scikit-learn at θ = 0.5 %.3g",
+			l.Name, DefaultTheta, e, relErr(half, want), l.Error["0.5"])
+		if ref := l.Error["0.5"]; !(ref > 0) || !(e <= ref) {
+			t.Errorf("%s: error at the default θ = %.1f is %.3g, scikit-learn's at θ = 0.5 is %.3g", l.Name, DefaultTheta, e, ref)
+		}
 	}
 }

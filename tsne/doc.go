@@ -46,7 +46,8 @@
 // # Gradient methods
 //
 // Exact sums over all pairs, O(N²). BarnesHut approximates the repulsion with
-// a quadtree (θ = 0.5 by default) including a quadrupole correction, and
+// a quadtree (θ = DefaultTheta = 0.8, chosen to match scikit-learn's accuracy at
+// its θ = 0.5) including a quadrupole correction, and
 // sums the attraction exactly over the stored entries of P. FFT (Linderman
 // et al. 2019) interpolates the repulsion onto an equispaced grid and
 // convolves by FFT. AutoMethod picks exact for N ≤ ExactMaxN (1,000), FFT

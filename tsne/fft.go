@@ -569,14 +569,7 @@ func (s *fftState) taskGather(_, t int) {
 		s.rep[2*i] = u*f0 - f1
 		s.rep[2*i+1] = v*f0 - f2
 		// Attraction: Σ_j p_ij (1 + d²)⁻¹ (y_i − y_j).
-		var ax, ay float64
-		for e := p.RowPtr[i]; e < p.RowPtr[i+1]; e++ {
-			j := int(p.Col[e])
-			dx, dy := xi-y[2*j], yi-y[2*j+1]
-			q := p.Val[e] / (1 + dx*dx + dy*dy)
-			ax += q * dx
-			ay += q * dy
-		}
+		ax, ay := attraction(y, p, i, xi, yi)
 		s.dst[2*i] = ax
 		s.dst[2*i+1] = ay
 	}

@@ -26,7 +26,8 @@ type Config struct {
 	// Method selects the gradient. If Method is "" or MethodAuto,
 	// AutoMethod(N) is used.
 	Method Method
-	// Theta is the Barnes-Hut opening angle. If Theta is 0, 0.5 is used.
+	// Theta is the Barnes-Hut opening angle. If Theta is 0, DefaultTheta
+	// is used.
 	Theta float64
 	// Threads bounds the goroutines used inside one run. If Threads is 0,
 	// runtime.GOMAXPROCS(0) is used. Results do not depend on it.
@@ -157,7 +158,7 @@ func resolveConfig(cfg Config, n int) (resolved, error) {
 		r.LearningRate = LearningRateAuto(n, r.Exaggeration)
 	}
 	if r.Theta == 0 {
-		r.Theta = 0.5
+		r.Theta = DefaultTheta
 	}
 	r.Threads = resolveThreads(r.Threads)
 	m, err := resolveMethod(r.Method, n)

@@ -35,7 +35,7 @@ func init() {
 			&cli.Uint64Flag{Name: "seed", Value: 1, Usage: "random seed (random init; approximate neighbours)"},
 			&cli.StringFlag{Name: "init", Value: "pca", Usage: "initial layout: pca or random"},
 			&cli.StringFlag{Name: "gradient", Value: "auto", Usage: "gradient method: auto, exact, barnes-hut or fft"},
-			&cli.Float64Flag{Name: "theta", Value: 0.5, Usage: "Barnes-Hut accuracy (smaller is more exact)"},
+			&cli.Float64Flag{Name: "theta", Value: tsne.DefaultTheta, Usage: "Barnes-Hut opening angle (smaller is more exact; the default matches scikit-learn's accuracy at its 0.5)"},
 			&cli.StringFlag{Name: "neighbors", Value: "auto", Usage: "neighbour search: auto, exact or approx"},
 			threadsFlag,
 			&cli.StringFlag{Name: "out", Aliases: []string{"o"}, Required: true, Usage: "layout file to write: .parquet or .csv"},

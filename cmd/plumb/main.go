@@ -16,7 +16,7 @@ import (
 )
 
 // version is the tool version written into every study file.
-var version = "0.1.0-dev"
+var version = "0.2.0-dev"
 
 // commands holds every subcommand; files add theirs in init with register.
 var commands []*cli.Command

@@ -28,7 +28,7 @@ func init() {
 		&cli.StringFlag{Name: "iters", Usage: "comma list of total iteration counts (default 1000)"},
 		&cli.StringFlag{Name: "init", Usage: "comma list of initialisations: pca, random (default pca)"},
 		&cli.StringFlag{Name: "gradient", Usage: "comma list of gradient methods: auto, exact, barnes-hut, fft (default auto)"},
-		&cli.StringFlag{Name: "theta", Usage: "Barnes-Hut opening angle (default 0.5)"},
+		&cli.StringFlag{Name: "theta", Usage: "Barnes-Hut opening angle (default 0.8; see the README)"},
 		&cli.StringFlag{Name: "seeds", Usage: "a count N (seeds 1..N) or a list/range such as 1-5,9 (default 1)"},
 		&cli.StringFlag{Name: "neighbors", Usage: "neighbour search: auto, exact, approx (default auto)"},
 		&cli.StringFlag{Name: "kl-every", Usage: "record the KL divergence every N iterations (default 50)"},
