@@ -254,3 +254,39 @@ func TestSqDistMatchesGeneric(t *testing.T) {
 		}
 	}
 }
+
+// TestGradientsSameWithoutAsm: whole gradient evaluations give the same
+// bits with the assembly kernels and with the generic Go kernels (the
+// package's promise that results do not depend on the code path).
+func TestGradientsSameWithoutAsm(t *testing.T) {
+	if !hasAsmKernels() {
+		t.Skip("assembly kernels cannot run on this machine")
+	}
+	const n = 900
+	rng := rand.New(rand.NewPCG(77, 1))
+	x := bhTestClustered(n, 5, 1, rng)
+	p := gradTestKNNP(x, n, 5, 20)
+	y := bhTestClustered(n, 2, 3, rng)
+	defer func(v bool) { useAVX2 = v }(useAVX2)
+	for _, g := range []struct {
+		name string
+		make func() Gradient
+	}{
+		{"exact", func() Gradient { return NewExact(2) }},
+		{"barnes-hut", func() Gradient { return NewBarnesHut(DefaultTheta, 2) }},
+		{"fft", func() Gradient { return NewFFT(2) }},
+	} {
+		useAVX2 = true
+		a, za := g.make().Gradient(nil, y, p, 12)
+		useAVX2 = false
+		b, zb := g.make().Gradient(nil, y, p, 12)
+		if !sameBits(za, zb) {
+			t.Errorf("%s: Z %v with assembly, %v without", g.name, za, zb)
+		}
+		for k := range a {
+			if !sameBits(a[k], b[k]) {
+				t.Fatalf("%s: coordinate %d is %v with assembly, %v without", g.name, k, a[k], b[k])
+			}
+		}
+	}
+}
