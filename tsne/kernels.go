@@ -1,5 +1,7 @@
 package tsne
 
+import "math"
+
 // The three inner loops that dominate a Barnes-Hut (and exact) gradient
 // evaluation — direct sums over runs of points, attraction over a row of P,
 // and the expansions of summarised cells — live here. Each processes its
@@ -200,4 +202,30 @@ func cells4Generic(xi, yi float64, blk []float64) (z, rx, ry float64) {
 		}
 	}
 	return (zs[0] + zs[2]) + (zs[1] + zs[3]), (xs[0] + xs[2]) + (xs[1] + xs[3]), (ys[0] + ys[2]) + (ys[1] + ys[3])
+}
+
+// sqDistRow writes into out[l] the squared Euclidean distance between q
+// and point l of x (len(x) = len(out)·len(q)), bit-identical to the full
+// sum of nbSqDist: lanes of four features over whole blocks of eight, the
+// remaining features added to lane 0 in order, then (s0 + s1) + (s2 + s3).
+func sqDistRow(q, x, out []float64) {
+	if useAVX2 && len(q) >= 8 {
+		sqDistRowAVX2(q, x, out)
+		return
+	}
+	sqDistRowGeneric(q, x, out)
+}
+
+func sqDistRowGeneric(q, x, out []float64) {
+	d := len(q)
+	m := d &^ 7
+	for l := range out {
+		b := x[l*d : (l+1)*d : (l+1)*d]
+		s0, s1, s2, s3, _ := sqDist8Generic(q[:m], b[:m], math.Inf(1))
+		for j := m; j < d; j++ {
+			t := q[j] - b[j]
+			s0 += t * t
+		}
+		out[l] = (s0 + s1) + (s2 + s3)
+	}
 }

@@ -279,3 +279,74 @@ sdone:
 	VMOVHPD      X1, s3+80(FP)
 	VZEROUPPER
 	RET
+
+// func sqDistRowAVX2(q, x, out []float64)
+// len(q) = d ≥ 8, len(x) = len(out)·d. For each point: lanes over whole
+// blocks of eight features as in sqDist8AVX2 (no early exit), the d mod 8
+// remaining features added to lane 0 in order, then (s0 + s1) + (s2 + s3).
+TEXT ·sqDistRowAVX2(SB), NOSPLIT, $0-72
+	MOVQ q_base+0(FP), SI
+	MOVQ q_len+8(FP), R8             // d
+	MOVQ x_base+24(FP), DI
+	MOVQ out_base+48(FP), DX
+	MOVQ out_len+56(FP), R9          // points
+	MOVQ R8, R10
+	SHRQ $3, R10                     // whole blocks of eight
+	MOVQ R8, R11
+	ANDQ $7, R11                     // remaining features
+	MOVQ R10, R12
+	SHLQ $6, R12                     // bytes in whole blocks
+	TESTQ R9, R9
+	JZ   rdone
+
+rpoint:
+	VXORPD Y0, Y0, Y0
+	MOVQ   SI, AX                    // q cursor
+	MOVQ   DI, BX                    // x cursor
+	MOVQ   R10, CX
+
+rblock:
+	VMOVUPD 0(AX), Y1
+	VSUBPD  0(BX), Y1, Y1
+	VMULPD  Y1, Y1, Y1
+	VADDPD  Y1, Y0, Y0
+	VMOVUPD 32(AX), Y2
+	VSUBPD  32(BX), Y2, Y2
+	VMULPD  Y2, Y2, Y2
+	VADDPD  Y2, Y0, Y0
+	ADDQ    $64, AX
+	ADDQ    $64, BX
+	DECQ    CX
+	JNZ     rblock
+
+	// s0 in X0 low; s1 = X0 high; s2, s3 in X3.
+	VEXTRACTF128 $1, Y0, X3
+	MOVQ         R11, CX
+	TESTQ        CX, CX
+	JZ           rsum
+
+rtail:
+	VMOVSD 0(AX), X4
+	VSUBSD 0(BX), X4, X4
+	VMULSD X4, X4, X4
+	VADDSD X4, X0, X0               // s0 += t² (high lane kept)
+	ADDQ   $8, AX
+	ADDQ   $8, BX
+	DECQ   CX
+	JNZ    rtail
+
+rsum:
+	VPERMILPD $1, X0, X5            // s1
+	VADDSD    X5, X0, X0            // s0 + s1
+	VPERMILPD $1, X3, X6            // s3
+	VADDSD    X6, X3, X3            // s2 + s3
+	VADDSD    X3, X0, X0
+	VMOVSD    X0, 0(DX)
+	ADDQ      $8, DX
+	MOVQ      BX, DI                 // next point follows
+	DECQ      R9
+	JNZ       rpoint
+
+rdone:
+	VZEROUPPER
+	RET

@@ -18,6 +18,8 @@ func sqDist8AVX2(a, b []float64, bound float64) (s0, s1, s2, s3 float64, over bo
 	return sqDist8Generic(a, b, bound)
 }
 
+func sqDistRowAVX2(q, x, out []float64) { sqDistRowGeneric(q, x, out) }
+
 func cells4AVX2(xi, yi float64, blk []float64) (z, rx, ry float64) {
 	return cells4Generic(xi, yi, blk)
 }

@@ -290,3 +290,28 @@ func TestGradientsSameWithoutAsm(t *testing.T) {
 		}
 	}
 }
+
+// TestSqDistRow: the full-row distances equal nbSqDist's full sums bit for
+// bit, with and without the assembly (the brute-force and tree searches
+// must see the same distances).
+func TestSqDistRow(t *testing.T) {
+	r := rand.New(rand.NewPCG(12, 3))
+	for _, d := range []int{1, 3, 7, 8, 9, 15, 16, 50, 64, 67} {
+		const n = 37
+		x := make([]float64, n*d)
+		for i := range x {
+			x[i] = 10 * r.NormFloat64()
+		}
+		q := x[5*d : 6*d]
+		gen := make([]float64, n)
+		sqDistRowGeneric(q, x, gen)
+		got := make([]float64, n)
+		sqDistRow(q, x, got)
+		for l := 0; l < n; l++ {
+			want := nbSqDist(q, x[l*d:(l+1)*d], math.Inf(1))
+			if !sameBits(gen[l], want) || !sameBits(got[l], want) {
+				t.Fatalf("d=%d point %d: row %v, generic row %v, nbSqDist %v", d, l, got[l], gen[l], want)
+			}
+		}
+	}
+}

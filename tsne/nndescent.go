@@ -10,7 +10,7 @@ import (
 
 // ApproxMinN is the smallest n for which ApproxNeighbors runs NN-descent;
 // below it the exact search is about as fast and is used instead.
-const ApproxMinN = 2 * BruteForceMaxN
+const ApproxMinN = 2000
 
 // ApproxAutoMinN is the smallest n for which EmbedConfig.Neighbors "auto"
 // uses ApproxNeighbors. The exact search (a VP-tree) degrades towards
