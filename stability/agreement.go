@@ -1,9 +1,11 @@
 package stability
 
 import (
+	"cmp"
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"sort"
 
 	"plumb/align"
@@ -87,6 +89,7 @@ func mean(v []float64) float64 {
 // correlation of their ranks, tied values sharing the mean of their ranks
 // (as scipy.stats.spearmanr, SciPy 1.10). Errors for unequal lengths,
 // fewer than 2 values, NaN/Inf, or a constant input (correlation undefined).
+// Cost O(P log P) for P values.
 func Spearman(x, y []float64) (float64, error) {
 	if len(x) != len(y) {
 		return 0, fmt.Errorf("stability: Spearman of %d and %d values", len(x), len(y))
@@ -100,8 +103,14 @@ func Spearman(x, y []float64) (float64, error) {
 	if err := checkFinite("y", y, 1); err != nil {
 		return 0, err
 	}
-	rx, ry := ranks(x), ranks(y)
-	n := float64(len(x))
+	return rankCorrelation(ranks(x), ranks(y))
+}
+
+// rankCorrelation is the Pearson correlation of two rank lists of the same
+// length P ≥ 2, each a permutation of 1…P up to tie averaging, so that
+// both means are (P+1)/2.
+func rankCorrelation(rx, ry []float64) (float64, error) {
+	n := float64(len(rx))
 	mx, my := (n+1)/2, (n+1)/2
 	var sxy, sxx, syy float64
 	for i := range rx {
@@ -116,22 +125,36 @@ func Spearman(x, y []float64) (float64, error) {
 	return sxy / math.Sqrt(sxx*syy), nil
 }
 
-// ranks returns 1-based ranks with ties given their mean rank.
+// ranks returns 1-based ranks with ties given their mean rank. Tied values
+// get the same rank whatever their order, so any sort by value serves;
+// (value, index) pairs are sorted, which is a total order. Cost O(P log P).
 func ranks(v []float64) []float64 {
-	idx := make([]int, len(v))
-	for i := range idx {
-		idx[i] = i
+	type entry struct {
+		v float64
+		i int
 	}
-	sort.SliceStable(idx, func(a, b int) bool { return v[idx[a]] < v[idx[b]] })
+	s := make([]entry, len(v))
+	for i, x := range v {
+		s[i] = entry{x, i}
+	}
+	slices.SortFunc(s, func(a, b entry) int {
+		switch {
+		case a.v < b.v:
+			return -1
+		case a.v > b.v:
+			return 1
+		}
+		return cmp.Compare(a.i, b.i)
+	})
 	r := make([]float64, len(v))
-	for lo := 0; lo < len(idx); {
+	for lo := 0; lo < len(s); {
 		hi := lo + 1
-		for hi < len(idx) && v[idx[hi]] == v[idx[lo]] {
+		for hi < len(s) && s[hi].v == s[lo].v {
 			hi++
 		}
 		avg := float64(lo+hi+1) / 2 // mean of ranks lo+1 … hi
 		for m := lo; m < hi; m++ {
-			r[idx[m]] = avg
+			r[s[m].i] = avg
 		}
 		lo = hi
 	}
@@ -156,49 +179,88 @@ type PairScore struct {
 // If pairs ≤ 0, DefaultPairs is used. If pairs ≥ N(N−1)/2 every unordered
 // pair is used once; otherwise pairs (i, j), i ≠ j, are drawn uniformly with
 // replacement from rand.NewPCG(seed, 2). Cost O(P (da + db) + P log P).
+// To compare one set of points with many others, NewDistanceRanks ranks its
+// distances once; the result is the same to the bit.
 func DistanceCorrelation(a []float64, da int, b []float64, db int, pairs int, seed uint64) (PairScore, error) {
-	if da < 1 || db < 1 {
-		return PairScore{}, fmt.Errorf("stability: dimensions %d and %d, want ≥ 1", da, db)
-	}
-	if len(a)%da != 0 || len(b)%db != 0 || len(a)/da != len(b)/db {
-		return PairScore{}, fmt.Errorf("stability: %d values of dimension %d and %d of dimension %d are not the same points", len(a), da, len(b), db)
-	}
-	n := len(a) / da
-	if n < 3 {
-		return PairScore{}, fmt.Errorf("%w: distance correlation needs at least 3 points, have %d", ErrTooFewPoints, n)
-	}
-	if err := checkFinite("a", a, da); err != nil {
+	if err := checkPairPoints(a, da, b, db); err != nil {
 		return PairScore{}, err
 	}
 	if err := checkFinite("b", b, db); err != nil {
 		return PairScore{}, err
 	}
+	r, err := NewDistanceRanks(a, da, pairs, seed)
+	if err != nil {
+		return PairScore{}, err
+	}
+	return r.Correlation(b, db)
+}
+
+// checkPairPoints checks what DistanceCorrelation requires of a alone and
+// of a and b together, in its order.
+func checkPairPoints(a []float64, da int, b []float64, db int) error {
+	if da < 1 || db < 1 {
+		return fmt.Errorf("stability: dimensions %d and %d, want ≥ 1", da, db)
+	}
+	if len(a)%da != 0 || len(b)%db != 0 || len(a)/da != len(b)/db {
+		return fmt.Errorf("stability: %d values of dimension %d and %d of dimension %d are not the same points", len(a), da, len(b), db)
+	}
+	n := len(a) / da
+	if n < 3 {
+		return fmt.Errorf("%w: distance correlation needs at least 3 points, have %d", ErrTooFewPoints, n)
+	}
+	return checkFinite("a", a, da)
+}
+
+// DistanceRanks holds a fixed list of point pairs of N points and the ranks
+// (ties sharing their mean rank) of the Euclidean distances of those pairs
+// in one set of coordinates. It prepares one side of DistanceCorrelation
+// once, to compare it with many others: the input features with every
+// layout of a study, or each layout with every other one. The pairs are
+// those DistanceCorrelation uses for the same N, pairs and seed, and
+// every result equals DistanceCorrelation's to the bit. A DistanceRanks is
+// not modified after it is made and may be shared between goroutines.
+type DistanceRanks struct {
+	n, pairs int
+	all      bool
+	seed     uint64
+	// pi, pj list the sampled pairs (nil when all pairs are used, in the
+	// order (0,1), (0,2), …, (1,2), …); shared by every DistanceRanks
+	// derived with Of.
+	pi, pj []int
+	ranks  []float64
+}
+
+// NewDistanceRanks picks the point pairs as DistanceCorrelation does for
+// the N points of a (N×da) — all N(N−1)/2 pairs if pairs reaches that
+// number, else pairs drawn with replacement from rand.NewPCG(seed, 2); if
+// pairs ≤ 0, DefaultPairs — and ranks their distances in a. Cost
+// O(P da + P log P) time; it keeps 24 bytes per pair (8 when all pairs are
+// used). Errors as DistanceCorrelation's for a: da < 1, len(a) not a
+// multiple of da, N < 3, NaN/Inf values, fewer than 2 pairs, or a distance
+// that overflows to +Inf.
+func NewDistanceRanks(a []float64, da int, pairs int, seed uint64) (*DistanceRanks, error) {
+	if da < 1 {
+		return nil, fmt.Errorf("stability: dimension %d, want ≥ 1", da)
+	}
+	if len(a)%da != 0 {
+		return nil, fmt.Errorf("stability: %d values are not points of dimension %d", len(a), da)
+	}
+	n := len(a) / da
+	if n < 3 {
+		return nil, fmt.Errorf("%w: distance correlation needs at least 3 points, have %d", ErrTooFewPoints, n)
+	}
+	if err := checkFinite("a", a, da); err != nil {
+		return nil, err
+	}
 	if pairs <= 0 {
 		pairs = DefaultPairs
 	}
 	total := n * (n - 1) / 2
-	all := pairs >= total
-	if all {
+	r := &DistanceRanks{n: n, seed: seed, all: pairs >= total}
+	if r.all {
 		pairs = total
-	}
-	dista, distb := make([]float64, pairs), make([]float64, pairs)
-	dist := func(v []float64, d, i, j int) float64 {
-		var s float64
-		for c := 0; c < d; c++ {
-			t := v[i*d+c] - v[j*d+c]
-			s += t * t
-		}
-		return math.Sqrt(s)
-	}
-	if all {
-		m := 0
-		for i := 0; i < n; i++ {
-			for j := i + 1; j < n; j++ {
-				dista[m], distb[m] = dist(a, da, i, j), dist(b, db, i, j)
-				m++
-			}
-		}
 	} else {
+		r.pi, r.pj = make([]int, pairs), make([]int, pairs)
 		rng := rand.New(rand.NewPCG(seed, 2))
 		for m := 0; m < pairs; m++ {
 			i := rng.IntN(n)
@@ -206,14 +268,103 @@ func DistanceCorrelation(a []float64, da int, b []float64, db int, pairs int, se
 			if j >= i {
 				j++
 			}
-			dista[m], distb[m] = dist(a, da, i, j), dist(b, db, i, j)
+			r.pi[m], r.pj[m] = i, j
 		}
 	}
-	r, err := Spearman(dista, distb)
+	r.pairs = pairs
+	if err := r.rank(a, da, "x"); err != nil {
+		return nil, err
+	}
+	return r, nil
+}
+
+// Of returns the ranks of the same pairs' distances in b, the same N
+// points in dimension db. It shares r's pairs and keeps 8 bytes per pair;
+// cost and errors as NewDistanceRanks, and b must hold N points.
+func (r *DistanceRanks) Of(b []float64, db int) (*DistanceRanks, error) {
+	if err := r.checkPoints(b, db); err != nil {
+		return nil, err
+	}
+	s := &DistanceRanks{n: r.n, pairs: r.pairs, all: r.all, seed: r.seed, pi: r.pi, pj: r.pj}
+	if err := s.rank(b, db, "y"); err != nil {
+		return nil, err
+	}
+	return s, nil
+}
+
+// Correlation returns the Spearman rank correlation between the distances
+// ranked in r and the distances of the same pairs in b (the same N points
+// in dimension db): DistanceCorrelation(a, da, b, db, pairs, seed) for the
+// a, da, pairs and seed r was made from. Cost O(P db + P log P).
+func (r *DistanceRanks) Correlation(b []float64, db int) (PairScore, error) {
+	s, err := r.Of(b, db)
+	if err != nil {
+		return PairScore{}, err
+	}
+	return r.Spearman(s)
+}
+
+// Spearman returns the Spearman rank correlation between the distances
+// ranked in r and in s, which must rank the same pairs (made by Of from
+// one another, or with the same N, pairs and seed). With s from r.Of(b,
+// db) it equals r.Correlation(b, db). Cost O(P). It errors when either
+// side's distances are all equal (correlation undefined).
+func (r *DistanceRanks) Spearman(s *DistanceRanks) (PairScore, error) {
+	if r.n != s.n || r.pairs != s.pairs || r.all != s.all || (!r.all && r.seed != s.seed) {
+		return PairScore{}, fmt.Errorf("stability: distance ranks of different pairs (%d and %d points, %d and %d pairs)", r.n, s.n, r.pairs, s.pairs)
+	}
+	v, err := rankCorrelation(r.ranks, s.ranks)
 	if err != nil {
 		return PairScore{}, fmt.Errorf("stability: distance correlation: %w", err)
 	}
-	return PairScore{Value: r, N: n, Pairs: pairs, All: all}, nil
+	return PairScore{Value: v, N: r.n, Pairs: r.pairs, All: r.all}, nil
+}
+
+func (r *DistanceRanks) checkPoints(b []float64, db int) error {
+	if db < 1 {
+		return fmt.Errorf("stability: dimension %d, want ≥ 1", db)
+	}
+	if len(b)%db != 0 || len(b)/db != r.n {
+		return fmt.Errorf("stability: %d values of dimension %d are not the %d points of the distance ranks", len(b), db, r.n)
+	}
+	return checkFinite("b", b, db)
+}
+
+// rank computes the pairs' distances in v (dimension d) and their ranks;
+// what names the side in errors as Spearman does ("x" or "y").
+func (r *DistanceRanks) rank(v []float64, d int, what string) error {
+	dist := make([]float64, r.pairs)
+	if r.all {
+		m := 0
+		for i := 0; i < r.n; i++ {
+			for j := i + 1; j < r.n; j++ {
+				dist[m] = pairDistance(v, d, i, j)
+				m++
+			}
+		}
+	} else {
+		for m := range dist {
+			dist[m] = pairDistance(v, d, r.pi[m], r.pj[m])
+		}
+	}
+	// Spearman's checks on the distance lists, in its order.
+	if r.pairs < 2 {
+		return fmt.Errorf("stability: distance correlation: stability: Spearman needs at least 2 values, got %d", r.pairs)
+	}
+	if err := checkFinite(what, dist, 1); err != nil {
+		return fmt.Errorf("stability: distance correlation: %w", err)
+	}
+	r.ranks = ranks(dist)
+	return nil
+}
+
+func pairDistance(v []float64, d, i, j int) float64 {
+	var s float64
+	for c := 0; c < d; c++ {
+		t := v[i*d+c] - v[j*d+c]
+		s += t * t
+	}
+	return math.Sqrt(s)
 }
 
 // Quantile returns the q-quantile (0 ≤ q ≤ 1) of v by linear interpolation

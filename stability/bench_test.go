@@ -104,3 +104,75 @@ func BenchmarkTrustworthinessList(b *testing.B) {
 		})
 	}
 }
+
+var sinkBatch []Faithfulness
+
+// BenchmarkFaithfulnessBatch: L layouts of one seeded Gaussian input
+// (n = 2000, d = 50), k = 15, scored together; compare with L times
+// BenchmarkFaithfulness-style single calls (the per=single case).
+func BenchmarkFaithfulnessBatch(b *testing.B) {
+	n, d := 2000, 50
+	rng := rand.New(rand.NewPCG(8, 9))
+	x := gauss(rng, n*d)
+	var ys [][]float64
+	for l := 0; l < 8; l++ {
+		ys = append(ys, gauss(rng, 2*n))
+	}
+	for _, L := range []int{1, 8} {
+		b.Run(fmt.Sprintf("L=%d/per=batch", L), func(b *testing.B) {
+			b.ReportAllocs()
+			for i := 0; i < b.N; i++ {
+				f, err := FaithfulnessBatch(x, d, ys[:L], 15, Options{})
+				if err != nil {
+					b.Fatal(err)
+				}
+				sinkBatch = f
+			}
+		})
+		b.Run(fmt.Sprintf("L=%d/per=single", L), func(b *testing.B) {
+			b.ReportAllocs()
+			for i := 0; i < b.N; i++ {
+				for _, y := range ys[:L] {
+					f, err := FaithfulnessAt(x, d, y, 15, Options{})
+					if err != nil {
+						b.Fatal(err)
+					}
+					sinkScore = f
+				}
+			}
+		})
+	}
+}
+
+// BenchmarkDistanceCorrelation: input (n = 5000, d = 50) against a layout
+// over DefaultPairs sampled pairs, one-shot and with the input ranked once.
+func BenchmarkDistanceCorrelation(b *testing.B) {
+	n, d := 5000, 50
+	rng := rand.New(rand.NewPCG(10, 11))
+	x, y := gauss(rng, n*d), gauss(rng, 2*n)
+	b.Run("one-shot", func(b *testing.B) {
+		b.ReportAllocs()
+		for i := 0; i < b.N; i++ {
+			s, err := DistanceCorrelation(x, d, y, 2, 0, 1)
+			if err != nil {
+				b.Fatal(err)
+			}
+			sinkF = s.Value
+		}
+	})
+	b.Run("prepared", func(b *testing.B) {
+		in, err := NewDistanceRanks(x, d, 0, 1)
+		if err != nil {
+			b.Fatal(err)
+		}
+		b.ReportAllocs()
+		b.ResetTimer()
+		for i := 0; i < b.N; i++ {
+			s, err := in.Correlation(y, 2)
+			if err != nil {
+				b.Fatal(err)
+			}
+			sinkF = s.Value
+		}
+	})
+}

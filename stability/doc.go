@@ -21,6 +21,12 @@
 // size they are averaged over a seeded sample of query points and the
 // sample size is reported with the score.
 //
+// Many layouts of one input (the runs of a sweep) are scored for a
+// fraction of the cost of scoring each alone, with the same results to the
+// bit: FaithfulnessBatch computes each query point's input distances once
+// for all the layouts, and DistanceRanks ranks the input's (or one
+// layout's) pair distances once for every correlation against it.
+//
 // Every score is deterministic: random choices are seeded by the caller,
 // parallel loops use fixed chunks, and neighbour ties are broken by the
 // smaller point index.

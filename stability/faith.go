@@ -5,7 +5,10 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"runtime"
 	"slices"
+	"sync"
+	"sync/atomic"
 )
 
 // Default sizes for the faithfulness scores.
@@ -149,9 +152,29 @@ func KNNRecallWith(x []float64, d int, y []float64, k int, opt Options) (Score, 
 }
 
 // FaithfulnessAt computes trustworthiness, continuity and kNN recall in one
-// pass over the query points, sharing the distance computations.
+// pass over the query points, sharing the distance computations. It is
+// FaithfulnessBatch with one layout.
 func FaithfulnessAt(x []float64, d int, y []float64, k int, opt Options) (Faithfulness, error) {
 	return faithfulness(x, d, y, k, opt, which{true, true, true})
+}
+
+// FaithfulnessBatch returns FaithfulnessAt of each layout in ys against the
+// same input x (N×d), bit for bit, at a fraction of the cost: every layout
+// is scored on the same query points, and a query point's input distances
+// (a row of N, O(N·d) to compute, the dominant cost of FaithfulnessAt) are
+// computed at most once for the whole batch and used by every layout that
+// needs them. The per-layout work, O(N) per query point and layout, is as
+// in FaithfulnessAt. Every layout must hold the same N points (2 values per
+// point). An empty ys gives an empty result.
+//
+// Cost O(Q·N·d + L·Q·N) for L layouts and Q query points, against
+// O(L·Q·N·d) for L calls of FaithfulnessAt; with an InputNeighbors list a
+// query point's distances are computed only if some layout needs them.
+// Besides the layouts it holds a 2-d k-d tree per layout (about 12 bytes
+// per point), and per thread five rows of N values and 32·L·k neighbour
+// indices. Results do not depend on Threads. Defaults as in Options.
+func FaithfulnessBatch(x []float64, d int, ys [][]float64, k int, opt Options) ([]Faithfulness, error) {
+	return faithfulnessBatch(x, d, ys, k, opt, which{true, true, true}, true)
 }
 
 func checkFinite(what string, v []float64, width int) error {
@@ -211,31 +234,63 @@ func sampleQueries(n int, opt Options) []int {
 }
 
 func faithfulness(x []float64, d int, y []float64, k int, opt Options, w which) (Faithfulness, error) {
-	if err := checkLayout("layout", y); err != nil {
+	f, err := faithfulnessBatch(x, d, [][]float64{y}, k, opt, w, false)
+	if err != nil {
 		return Faithfulness{}, err
 	}
-	n := len(y) / 2
+	return f[0], nil
+}
+
+// faithfulnessBatch scores every layout of ys on the same query points.
+// numbered names the layouts by position in error messages.
+//
+// Work is split into fixed chunks of query points. Within a chunk, each
+// layout first answers what the input neighbour list allows; the queries
+// that some layout still needs input distances for are then taken in
+// groups of four, their distance rows computed once and used by every
+// layout that needs them (trustworthiness), and, without a list, to find
+// the input neighbours once for all layouts (continuity, kNN recall). The
+// per-query penalties are the same code as for a single layout; they are
+// integers, summed per layout and chunk and then over chunks in order, so
+// the scores do not depend on the batch or on the thread count.
+func faithfulnessBatch(x []float64, d int, ys [][]float64, k int, opt Options, w which, numbered bool) ([]Faithfulness, error) {
+	if len(ys) == 0 {
+		return []Faithfulness{}, nil
+	}
+	for l, y := range ys {
+		name := "layout"
+		if numbered {
+			name = fmt.Sprintf("layout %d", l)
+		}
+		if err := checkLayout(name, y); err != nil {
+			return nil, err
+		}
+		if len(y) != len(ys[0]) {
+			return nil, fmt.Errorf("stability: layout %d has %d points, layout 0 has %d", l, len(y)/2, len(ys[0])/2)
+		}
+	}
+	n := len(ys[0]) / 2
 	if d < 1 {
-		return Faithfulness{}, fmt.Errorf("stability: input dimension %d, want ≥ 1", d)
+		return nil, fmt.Errorf("stability: input dimension %d, want ≥ 1", d)
 	}
 	if len(x) != n*d {
-		return Faithfulness{}, fmt.Errorf("stability: input has %d values, want %d points × %d = %d", len(x), n, d, n*d)
+		return nil, fmt.Errorf("stability: input has %d values, want %d points × %d = %d", len(x), n, d, n*d)
 	}
 	if err := checkFinite("input", x, d); err != nil {
-		return Faithfulness{}, err
+		return nil, err
 	}
 	if err := checkK(k, n); err != nil {
-		return Faithfulness{}, err
+		return nil, err
 	}
 	var inNb []int32
 	inK := 0
 	if opt.InputNeighbors != nil && opt.InputK >= k {
 		if len(opt.InputNeighbors) != n*opt.InputK {
-			return Faithfulness{}, fmt.Errorf("stability: input neighbour list has %d entries, want %d × %d", len(opt.InputNeighbors), n, opt.InputK)
+			return nil, fmt.Errorf("stability: input neighbour list has %d entries, want %d × %d", len(opt.InputNeighbors), n, opt.InputK)
 		}
 		for _, j := range opt.InputNeighbors {
 			if j < 0 || int(j) >= n {
-				return Faithfulness{}, fmt.Errorf("stability: input neighbour index %d out of range [0, %d)", j, n)
+				return nil, fmt.Errorf("stability: input neighbour index %d out of range [0, %d)", j, n)
 			}
 		}
 		inNb, inK = opt.InputNeighbors, opt.InputK
@@ -245,28 +300,41 @@ func faithfulness(x []float64, d int, y []float64, k int, opt Options, w which) 
 	if queries != nil {
 		nq = len(queries)
 	}
-	var mapNb []int32
+	nl := len(ys)
+	var trees []*kdTree
 	if w.trust || w.recall {
-		mapNb = mapNeighbors(y, k, queries, opt.Threads)
+		trees = make([]*kdTree, nl)
+		eachParallel(nl, opt.Threads, func(l int) { trees[l] = newKDTree(ys[l]) })
 	}
-	trustPen := make([]int64, nq)
-	contPen := make([]int64, nq)
-	hits := make([]int32, nq)
+	// Sums per layout and chunk of queries, [l*nChunks+c]; each chunk is
+	// handled by one worker, which alone writes its entries.
+	nChunks := (nq + chunk - 1) / chunk
+	trustSum := make([]int64, nl*nChunks)
+	contSum := make([]int64, nl*nChunks)
+	hitSum := make([]int64, nl*nChunks)
 	needDX := w.trust || ((w.cont || w.recall) && inNb == nil)
+	searchIn := inNb == nil && (w.cont || w.recall)
 	type scratch struct {
-		dx    [group][]float64
-		dy    []float64
-		h     nbHeap
-		inRow []int32
-		rk    *ranker
+		dx [group][]float64
+		dy []float64
+		h  nbHeap
+		rk *ranker
+		// mapRows holds the map neighbours of the chunk's queries, layout
+		// by layout: row m of layout l at (l*chunk+m)*k.
+		mapRows []int32
+		// inRows holds the input neighbours found by search, row m at m*k.
+		inRows []int32
+		// need[m*nl+l] reports that layout l needs the input distances of
+		// query m for its trustworthiness.
+		need []bool
 		// pending lists the chunk's queries that need input distances.
 		pending []int
 	}
 	pool := make([]*scratch, workers(nq, opt.Threads))
 	parallelW(nq, opt.Threads, func(wk, lo, hi int) {
 		if pool[wk] == nil {
-			sc := &scratch{inRow: make([]int32, k), rk: newRanker(k)}
-			if needDX || inNb != nil && w.trust {
+			sc := &scratch{rk: newRanker(k), need: make([]bool, chunk*nl)}
+			if needDX {
 				for g := range sc.dx {
 					sc.dx[g] = make([]float64, n)
 				}
@@ -274,49 +342,84 @@ func faithfulness(x []float64, d int, y []float64, k int, opt Options, w which) 
 			if w.cont {
 				sc.dy = make([]float64, n)
 			}
+			if trees != nil {
+				sc.mapRows = make([]int32, chunk*nl*k)
+			}
+			if searchIn {
+				sc.inRows = make([]int32, chunk*k)
+			}
 			pool[wk] = sc
 		}
 		sc := pool[wk]
-		dx, dy, inRow, rk := &sc.dx, sc.dy, sc.inRow, sc.rk
-		h := &sc.h
+		dx, dy, rk, h := &sc.dx, sc.dy, sc.rk, &sc.h
+		c := lo / chunk
 		query := func(m int) int {
 			if queries != nil {
 				return queries[m]
 			}
 			return m
 		}
-		mapRow := func(m int) []int32 {
-			if mapNb == nil {
+		for l, t := range trees {
+			for m := lo; m < hi; m++ {
+				o := (l*chunk + m - lo) * k
+				t.query(query(m), k, h, sc.mapRows[o:o+k])
+			}
+		}
+		mapRow := func(l, m int) []int32 {
+			if trees == nil {
 				return nil
 			}
-			return mapNb[m*k : (m+1)*k]
+			o := (l*chunk + m - lo) * k
+			return sc.mapRows[o : o+k]
 		}
-		// First pass: everything the input neighbour list answers alone.
+		need := sc.need[:(hi-lo)*nl]
 		pending := sc.pending[:0]
-		for m := lo; m < hi; m++ {
-			i := query(m)
-			if inNb == nil {
+		if inNb == nil {
+			for m := lo; m < hi; m++ {
 				pending = append(pending, m)
-				continue
 			}
-			row := inNb[i*inK : (i+1)*inK]
-			if w.cont {
-				mapDistances(dy, y, i)
-				contPen[m] = rk.penalty(dy, i, row[:k])
+			for s := range need {
+				need[s] = w.trust
 			}
-			if w.recall {
-				hits[m] = int32(overlap(row[:k], mapRow(m)))
+		} else {
+			// First pass: everything the input neighbour list answers
+			// alone, layout by layout.
+			for s := range need {
+				need[s] = false
 			}
-			if w.trust {
-				if pen, ok := listPenalty(row, mapRow(m), k); ok {
-					trustPen[m] = pen
-				} else {
+			for l, y := range ys {
+				var tpen, cpen, hits int64
+				for m := lo; m < hi; m++ {
+					i := query(m)
+					row := inNb[i*inK : (i+1)*inK]
+					if w.cont {
+						mapDistances(dy, y, i)
+						cpen += rk.penalty(dy, i, row[:k])
+					}
+					if w.recall {
+						hits += int64(overlap(row[:k], mapRow(l, m)))
+					}
+					if w.trust {
+						if pen, ok := listPenalty(row, mapRow(l, m), k); ok {
+							tpen += pen
+						} else {
+							need[(m-lo)*nl+l] = true
+						}
+					}
+				}
+				trustSum[l*nChunks+c] += tpen
+				contSum[l*nChunks+c] += cpen
+				hitSum[l*nChunks+c] += hits
+			}
+			for m := lo; m < hi; m++ {
+				if slices.Contains(need[(m-lo)*nl:(m-lo+1)*nl], true) {
 					pending = append(pending, m)
 				}
 			}
 		}
 		sc.pending = pending
-		// Second pass: queries that need their input distances, in groups.
+		// Second pass: queries that need their input distances, in groups;
+		// each row serves every layout.
 		for g0 := 0; g0 < len(pending); g0 += group {
 			g1 := min(g0+group, len(pending))
 			var qs [group]int
@@ -333,41 +436,87 @@ func faithfulness(x []float64, d int, y []float64, k int, opt Options, w which) 
 			for g := g0; g < g1; g++ {
 				m, i, dxi := pending[g], qs[g-g0], dx[g-g0]
 				if w.trust {
-					trustPen[m] = rk.penalty(dxi, i, mapRow(m))
+					for l := range nl {
+						if need[(m-lo)*nl+l] {
+							trustSum[l*nChunks+c] += rk.penalty(dxi, i, mapRow(l, m))
+						}
+					}
 				}
-				if inNb != nil {
-					continue
+				if searchIn {
+					selectK(dxi, i, k, h, sc.inRows[(m-lo)*k:(m-lo+1)*k])
 				}
-				if w.cont || w.recall {
-					selectK(dxi, i, k, h, inRow)
+			}
+		}
+		// Third pass, without a list: continuity and recall against the
+		// input neighbours just found, layout by layout.
+		if searchIn {
+			for l, y := range ys {
+				var cpen, hits int64
+				for m := lo; m < hi; m++ {
+					i := query(m)
+					inRow := sc.inRows[(m-lo)*k : (m-lo+1)*k]
+					if w.cont {
+						mapDistances(dy, y, i)
+						cpen += rk.penalty(dy, i, inRow)
+					}
+					if w.recall {
+						hits += int64(overlap(inRow, mapRow(l, m)))
+					}
 				}
-				if w.cont {
-					mapDistances(dy, y, i)
-					contPen[m] = rk.penalty(dy, i, inRow)
-				}
-				if w.recall {
-					hits[m] = int32(overlap(inRow, mapRow(m)))
-				}
+				contSum[l*nChunks+c] += cpen
+				hitSum[l*nChunks+c] += hits
 			}
 		}
 	})
 	norm := 2.0 / (float64(nq) * float64(k) * (2*float64(n) - 3*float64(k) - 1))
 	mk := func(v float64) Score { return Score{Value: v, K: k, N: n, Queries: nq} }
-	var f Faithfulness
-	if w.trust {
-		f.Trustworthiness = mk(1 - float64(sum64(trustPen))*norm)
-	}
-	if w.cont {
-		f.Continuity = mk(1 - float64(sum64(contPen))*norm)
-	}
-	if w.recall {
-		var t int64
-		for _, c := range hits {
-			t += int64(c)
+	out := make([]Faithfulness, nl)
+	for l := range out {
+		part := func(s []int64) int64 { return sum64(s[l*nChunks : (l+1)*nChunks]) }
+		f := &out[l]
+		if w.trust {
+			f.Trustworthiness = mk(1 - float64(part(trustSum))*norm)
 		}
-		f.KNNRecall = mk(float64(t) / (float64(nq) * float64(k)))
+		if w.cont {
+			f.Continuity = mk(1 - float64(part(contSum))*norm)
+		}
+		if w.recall {
+			f.KNNRecall = mk(float64(part(hitSum)) / (float64(nq) * float64(k)))
+		}
 	}
-	return f, nil
+	return out, nil
+}
+
+// eachParallel runs f(i) for every i in [0, n) on up to threads goroutines
+// (0 means GOMAXPROCS), handing out one item at a time. f must write only
+// to per-item outputs.
+func eachParallel(n, threads int, f func(i int)) {
+	if threads <= 0 {
+		threads = runtime.GOMAXPROCS(0)
+	}
+	nw := max(1, min(threads, n))
+	if nw == 1 {
+		for i := 0; i < n; i++ {
+			f(i)
+		}
+		return
+	}
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for w := 0; w < nw; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for {
+				i := int(next.Add(1)) - 1
+				if i >= n {
+					return
+				}
+				f(i)
+			}
+		}()
+	}
+	wg.Wait()
 }
 
 // listPenalty returns Σ_j max(0, r(i,j) − k) over the map neighbours j of
