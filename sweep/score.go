@@ -60,6 +60,15 @@ type ScoreSummary struct {
 // distance from the consensus divided by the consensus RMS radius, and
 // points above the threshold are flagged unstable. Settings report the
 // median and interquartile range of every score.
+//
+// Cost: the runs are read in batches of whole settings, up to 32 Mi layout
+// values (256 MiB) per batch, and the faithfulness of a batch is computed
+// together (stability.FaithfulnessBatch): each query point's input
+// distances, O(N·D), are computed once per batch rather than once per run,
+// which leaves O(Q·N) per run for Q query points. The input's pair
+// distances are ranked once for all runs and each layout's once for all
+// its pairs (stability.DistanceRanks). The tables are the same as scoring
+// every run on its own, whatever the batches and Threads.
 func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOptions) (*ScoreSummary, error) {
 	info, err := ReadInfo(dir)
 	if err != nil {
@@ -94,6 +103,7 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 			return nil, fmt.Errorf("score: input neighbours: %w", err)
 		}
 	}
+	sc := &runScorer{ds: ds, k: k, threads: threads, inNb: inNb}
 	bySetting := map[string][]*Run{}
 	for _, r := range runs {
 		bySetting[r.Setting.ID] = append(bySetting[r.Setting.ID], r)
@@ -104,105 +114,179 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 		points    []PointScore
 		pairs     []PairScore
 	)
-	for _, s := range info.Plan.Settings() {
-		ss := SettingScore{Setting: *s, UnstableShare: math.NaN()}
-		var layouts [][]float64
-		var done []*Run
-		var scores []RunScore
-		for _, r := range bySetting[s.ID] {
-			if err := ctx.Err(); err != nil {
-				return nil, fmt.Errorf("score: %w", err)
+	// Settings are read and scored in batches of whole settings holding
+	// at most scoreBatchFloats layout values (counting every run of a
+	// setting as finished), so that the faithfulness of all the runs of a
+	// batch is computed together (stability.FaithfulnessBatch); a setting
+	// larger than that is a batch of its own. Rows are produced in plan
+	// order, and errors in the order scoring one run after another would
+	// meet them.
+	all := info.Plan.Settings()
+	for next := 0; next < len(all); {
+		var batch []*settingRuns
+		var stop error // a read error ending the batch after its last run
+		for size := 0; next < len(all) && stop == nil; next++ {
+			s := all[next]
+			sz := 2 * ds.N * len(bySetting[s.ID])
+			if len(batch) > 0 && size+sz > scoreBatchFloats {
+				break
 			}
-			rec, err := readRecord(dir, info, r)
-			if err != nil {
-				continue
-			}
-			if rec.Status != StatusDone {
-				ss.RunsFailed++
-				continue
-			}
-			y, err := readLayout(dir, info, r)
-			if err != nil {
-				return nil, fmt.Errorf("score: run %s: %w", r.ID, err)
-			}
-			rs, err := scoreRun(ds, y, k, threads, inNb)
-			if err != nil {
-				return nil, fmt.Errorf("score: run %s: %w", r.ID, err)
-			}
-			rs.RunID, rs.SettingID, rs.KL = r.ID, s.ID, *rec.KL
-			scores = append(scores, rs)
-			layouts = append(layouts, y)
-			done = append(done, r)
+			size += sz
+			sr, err := readSettingRuns(ctx, dir, info, s, bySetting[s.ID])
+			batch = append(batch, sr)
+			stop = err
 		}
-		ss.RunsDone = len(done)
-		runScores = append(runScores, scores...)
-		col := func(f func(RunScore) float64) Spread {
-			v := make([]float64, 0, len(scores))
-			for _, r := range scores {
-				if x := f(r); !math.IsNaN(x) {
-					v = append(v, x)
+		var batchLayouts [][]float64
+		for _, sr := range batch {
+			batchLayouts = append(batchLayouts, sr.layouts...)
+		}
+		faith := sc.batch(batchLayouts)
+		at := 0
+		for b, sr := range batch {
+			s := sr.setting
+			ss := SettingScore{Setting: *s, UnstableShare: math.NaN(), RunsFailed: sr.failed}
+			scores := make([]RunScore, 0, len(sr.runs))
+			ranks := make([]*stability.DistanceRanks, 0, len(sr.runs))
+			for i, r := range sr.runs {
+				if err := ctx.Err(); err != nil {
+					return nil, fmt.Errorf("score: %w", err)
 				}
-			}
-			return spreadOf(v)
-		}
-		ss.Trustworthiness = col(func(r RunScore) float64 { return r.Trustworthiness })
-		ss.Continuity = col(func(r RunScore) float64 { return r.Continuity })
-		ss.KNNRecall = col(func(r RunScore) float64 { return r.KNNRecall })
-		ss.DistSpearman = col(func(r RunScore) float64 { return r.DistSpearman })
-		ss.LabelAccuracy = col(func(r RunScore) float64 { return r.LabelAccuracy })
-		ss.LabelPurity = col(func(r RunScore) float64 { return r.LabelPurity })
-		ss.KL = col(func(r RunScore) float64 { return r.KL })
-		ss.Disparity, ss.Jaccard, ss.PairSpearman = nan2(), nan2(), nan2()
-		// A layout whose points all coincide (a collapsed run) cannot be
-		// aligned (Procrustes needs a non-zero layout) and has no distance
-		// ranks: it keeps its own run scores, but the seed-to-seed
-		// agreement and the point spreads use the other layouts only.
-		{
-			var keptL [][]float64
-			var keptR []*Run
-			for i, y := range layouts {
-				if !NoVariance(y, len(y)/2, 2) {
-					keptL, keptR = append(keptL, y), append(keptR, done[i])
+				var f *stability.Faithfulness
+				if faith != nil {
+					f = &faith[at]
 				}
-			}
-			layouts, done = keptL, keptR
-		}
-		if len(layouts) >= 2 {
-			ag, err := stability.SettingAgreement(layouts, k, threads)
-			if err != nil {
-				return nil, fmt.Errorf("score: setting %s: %w", s.ID, err)
-			}
-			var sp []float64
-			for _, pa := range ag.Pairs {
-				dc, err := distanceSpearman(layouts[pa.A], 2, layouts[pa.B])
+				at++
+				rs, yr, err := sc.score(sr.layouts[i], f)
 				if err != nil {
-					return nil, fmt.Errorf("score: setting %s: runs %s and %s: %w", s.ID, done[pa.A].ID, done[pa.B].ID, err)
+					return nil, fmt.Errorf("score: run %s: %w", r.ID, err)
 				}
-				pairs = append(pairs, PairScore{SettingID: s.ID, RunA: done[pa.A].ID, RunB: done[pa.B].ID,
-					Disparity: pa.Disparity, Jaccard: pa.Jaccard, DistSpearman: dc})
-				if !math.IsNaN(dc) {
-					sp = append(sp, dc)
+				rs.RunID, rs.SettingID, rs.KL = r.ID, s.ID, *sr.records[i].KL
+				scores = append(scores, rs)
+				ranks = append(ranks, yr)
+			}
+			if b == len(batch)-1 && stop != nil {
+				return nil, stop
+			}
+			layouts, done := sr.layouts, sr.runs
+			ss.RunsDone = len(done)
+			runScores = append(runScores, scores...)
+			col := func(f func(RunScore) float64) Spread {
+				v := make([]float64, 0, len(scores))
+				for _, r := range scores {
+					if x := f(r); !math.IsNaN(x) {
+						v = append(v, x)
+					}
 				}
+				return spreadOf(v)
 			}
-			ss.Disparity = Spread{Median: ag.Disparity.Median, IQR: ag.Disparity.IQR}
-			ss.Jaccard = Spread{Median: ag.Jaccard.Median, IQR: ag.Jaccard.IQR}
-			ss.PairSpearman = spreadOf(sp)
-			ps, g, err := stability.SpreadOf(layouts, opt.SpreadThreshold)
-			if err != nil {
-				return nil, fmt.Errorf("score: setting %s: %w", s.ID, err)
+			ss.Trustworthiness = col(func(r RunScore) float64 { return r.Trustworthiness })
+			ss.Continuity = col(func(r RunScore) float64 { return r.Continuity })
+			ss.KNNRecall = col(func(r RunScore) float64 { return r.KNNRecall })
+			ss.DistSpearman = col(func(r RunScore) float64 { return r.DistSpearman })
+			ss.LabelAccuracy = col(func(r RunScore) float64 { return r.LabelAccuracy })
+			ss.LabelPurity = col(func(r RunScore) float64 { return r.LabelPurity })
+			ss.KL = col(func(r RunScore) float64 { return r.KL })
+			ss.Disparity, ss.Jaccard, ss.PairSpearman = nan2(), nan2(), nan2()
+			// A layout whose points all coincide (a collapsed run) cannot be
+			// aligned (Procrustes needs a non-zero layout) and has no distance
+			// ranks: it keeps its own run scores, but the seed-to-seed
+			// agreement and the point spreads use the other layouts only.
+			{
+				var keptL [][]float64
+				var keptR []*Run
+				var keptRanks []*stability.DistanceRanks
+				for i, y := range layouts {
+					if !NoVariance(y, len(y)/2, 2) {
+						keptL, keptR, keptRanks = append(keptL, y), append(keptR, done[i]), append(keptRanks, ranks[i])
+					}
+				}
+				layouts, done, ranks = keptL, keptR, keptRanks
 			}
-			for i := 0; i < ds.N; i++ {
-				points = append(points, PointScore{SettingID: s.ID, Point: i, ID: ds.IDs[i], Spread: ps.Spread[i],
-					Unstable: ps.Flagged[i], ConsensusX: g.Consensus[2*i], ConsensusY: g.Consensus[2*i+1]})
+			if len(layouts) >= 2 {
+				ag, err := stability.SettingAgreement(layouts, k, threads)
+				if err != nil {
+					return nil, fmt.Errorf("score: setting %s: %w", s.ID, err)
+				}
+				var sp []float64
+				for _, pa := range ag.Pairs {
+					dc, err := pairSpearman(layouts[pa.A], layouts[pa.B], ranks[pa.A], ranks[pa.B])
+					if err != nil {
+						return nil, fmt.Errorf("score: setting %s: runs %s and %s: %w", s.ID, done[pa.A].ID, done[pa.B].ID, err)
+					}
+					pairs = append(pairs, PairScore{SettingID: s.ID, RunA: done[pa.A].ID, RunB: done[pa.B].ID,
+						Disparity: pa.Disparity, Jaccard: pa.Jaccard, DistSpearman: dc})
+					if !math.IsNaN(dc) {
+						sp = append(sp, dc)
+					}
+				}
+				ss.Disparity = Spread{Median: ag.Disparity.Median, IQR: ag.Disparity.IQR}
+				ss.Jaccard = Spread{Median: ag.Jaccard.Median, IQR: ag.Jaccard.IQR}
+				ss.PairSpearman = spreadOf(sp)
+				ps, g, err := stability.SpreadOf(layouts, opt.SpreadThreshold)
+				if err != nil {
+					return nil, fmt.Errorf("score: setting %s: %w", s.ID, err)
+				}
+				for i := 0; i < ds.N; i++ {
+					points = append(points, PointScore{SettingID: s.ID, Point: i, ID: ds.IDs[i], Spread: ps.Spread[i],
+						Unstable: ps.Flagged[i], ConsensusX: g.Consensus[2*i], ConsensusY: g.Consensus[2*i+1]})
+				}
+				ss.UnstableShare = float64(ps.NumFlagged) / float64(ds.N)
 			}
-			ss.UnstableShare = float64(ps.NumFlagged) / float64(ds.N)
+			settings = append(settings, ss)
+			batch[b] = nil // its layouts are no longer needed
 		}
-		settings = append(settings, ss)
 	}
 	if err := writeScoreTables(dir, info, k, runScores, settings, points, pairs); err != nil {
 		return nil, fmt.Errorf("score: %w", err)
 	}
 	return &ScoreSummary{Runs: len(runScores), Settings: len(settings), Points: len(points), Pairs: len(pairs), K: k}, nil
+}
+
+// scoreBatchFloats bounds the layout values Score holds at once (2 per
+// point and run): 32 Mi float64, 256 MiB. The faithfulness of a batch
+// costs one pass over the input per query point whatever its number of
+// runs, so larger batches are cheaper; FaithfulnessBatch adds a k-d tree
+// per layout, less than the layout itself. A variable so that tests can
+// force small batches; results do not depend on it.
+var scoreBatchFloats = 32 << 20
+
+// settingRuns holds the finished runs of one setting read from the study,
+// in plan order, with their records and layouts.
+type settingRuns struct {
+	setting *Setting
+	runs    []*Run
+	records []*Record
+	layouts [][]float64
+	failed  int
+}
+
+// readSettingRuns reads the finished runs of setting s. A run without a
+// valid record is left out; a failed run is counted. A layout that cannot
+// be read ends the setting with an error, returned with the runs read
+// before it.
+func readSettingRuns(ctx context.Context, dir string, info *Info, s *Setting, runs []*Run) (*settingRuns, error) {
+	sr := &settingRuns{setting: s}
+	for _, r := range runs {
+		if err := ctx.Err(); err != nil {
+			return sr, fmt.Errorf("score: %w", err)
+		}
+		rec, err := readRecord(dir, info, r)
+		if err != nil {
+			continue
+		}
+		if rec.Status != StatusDone {
+			sr.failed++
+			continue
+		}
+		y, err := readLayout(dir, info, r)
+		if err != nil {
+			return sr, fmt.Errorf("score: run %s: %w", r.ID, err)
+		}
+		sr.runs = append(sr.runs, r)
+		sr.records = append(sr.records, rec)
+		sr.layouts = append(sr.layouts, y)
+	}
+	return sr, nil
 }
 
 func nan2() Spread { return Spread{Median: math.NaN(), IQR: math.NaN()} }
@@ -220,30 +304,122 @@ func spreadOf(v []float64) Spread {
 	return Spread{Median: s.Median, IQR: s.IQR}
 }
 
-func scoreRun(ds *dataset.Dataset, y []float64, k, threads int, inNb *tsne.Neighbors) (RunScore, error) {
-	sopt := stability.Options{Threads: threads, Seed: scoreSeed}
-	if inNb != nil {
-		sopt.InputNeighbors, sopt.InputK = inNb.Index, inNb.K
+// runScorer computes the scores of single runs against the study's input.
+type runScorer struct {
+	ds         *dataset.Dataset
+	k, threads int
+	inNb       *tsne.Neighbors
+	// in ranks the input's distances over the pairs every distance
+	// correlation uses, made on first use; inFlat records NoVariance of
+	// the input.
+	in     *stability.DistanceRanks
+	inDone bool
+	inFlat bool
+}
+
+func (sc *runScorer) options() stability.Options {
+	sopt := stability.Options{Threads: sc.threads, Seed: scoreSeed}
+	if sc.inNb != nil {
+		sopt.InputNeighbors, sopt.InputK = sc.inNb.Index, sc.inNb.K
 	}
-	f, err := stability.FaithfulnessAt(ds.X, ds.D, y, k, sopt)
-	if err != nil {
-		return RunScore{}, err
+	return sopt
+}
+
+// batch returns the faithfulness of every layout, computed together. It
+// returns nil if the batch fails (a layout the scores reject), so that
+// each run is then scored alone and the first failing run reports its own
+// error.
+func (sc *runScorer) batch(layouts [][]float64) []stability.Faithfulness {
+	if len(layouts) == 0 {
+		return nil
 	}
-	dc, err := distanceSpearman(ds.X, ds.D, y)
+	fs, err := stability.FaithfulnessBatch(sc.ds.X, sc.ds.D, layouts, sc.k, sc.options())
 	if err != nil {
-		return RunScore{}, err
+		return nil
+	}
+	return fs
+}
+
+// score returns the scores of layout y, with f its faithfulness from a
+// batch (nil: computed here), and the ranks of y's pair distances for the
+// seed-to-seed correlations (nil if not made).
+func (sc *runScorer) score(y []float64, f *stability.Faithfulness) (RunScore, *stability.DistanceRanks, error) {
+	ds, k, threads := sc.ds, sc.k, sc.threads
+	if f == nil {
+		v, err := stability.FaithfulnessAt(ds.X, ds.D, y, k, sc.options())
+		if err != nil {
+			return RunScore{}, nil, err
+		}
+		f = &v
+	}
+	dc, yr, err := sc.distanceSpearman(y)
+	if err != nil {
+		return RunScore{}, nil, err
 	}
 	rs := RunScore{Trustworthiness: f.Trustworthiness.Value, Continuity: f.Continuity.Value, KNNRecall: f.KNNRecall.Value,
 		DistSpearman: dc, LabelAccuracy: math.NaN(), LabelPurity: math.NaN(), K: k, Sampled: f.Trustworthiness.Queries}
 	if ds.Labels != nil {
 		if rs.LabelAccuracy, err = stability.LabelAccuracyThreads(y, ds.Labels, k, threads); err != nil {
-			return RunScore{}, err
+			return RunScore{}, nil, err
 		}
 		if rs.LabelPurity, err = stability.LabelAgreement(y, ds.Labels, k); err != nil {
-			return RunScore{}, err
+			return RunScore{}, nil, err
 		}
 	}
-	return rs, nil
+	return rs, yr, nil
+}
+
+// distanceSpearman is distanceSpearman(ds.X, ds.D, y) with the input's
+// distance ranks made once for all runs (stability.DistanceRanks gives the
+// same bits). It also returns y's own distance ranks for the seed-to-seed
+// correlations, nil when y has no variance. Whenever the prepared path
+// fails it falls back to the one-shot function, which gives the same value
+// or error.
+func (sc *runScorer) distanceSpearman(y []float64) (float64, *stability.DistanceRanks, error) {
+	ds := sc.ds
+	if !sc.inDone {
+		sc.inDone = true
+		sc.inFlat = NoVariance(ds.X, ds.N, ds.D)
+		if in, err := stability.NewDistanceRanks(ds.X, ds.D, 0, scoreSeed); err == nil {
+			sc.in = in
+		}
+	}
+	var yr *stability.DistanceRanks
+	if !NoVariance(y, len(y)/2, 2) {
+		var err error
+		if sc.in != nil {
+			yr, err = sc.in.Of(y, 2)
+		} else {
+			yr, err = stability.NewDistanceRanks(y, 2, 0, scoreSeed)
+		}
+		if err != nil {
+			yr = nil
+		}
+	}
+	if yr != nil && sc.inFlat {
+		return math.NaN(), yr, nil
+	}
+	if yr != nil && sc.in != nil {
+		if r, err := sc.in.Spearman(yr); err == nil {
+			return r.Value, yr, nil
+		}
+	}
+	dc, err := distanceSpearman(ds.X, ds.D, y)
+	if err != nil {
+		return 0, nil, err
+	}
+	return dc, yr, nil
+}
+
+// pairSpearman is distanceSpearman(a, 2, b) for two layouts, from their
+// distance ranks when both were made.
+func pairSpearman(a, b []float64, ra, rb *stability.DistanceRanks) (float64, error) {
+	if ra != nil && rb != nil {
+		if r, err := ra.Spearman(rb); err == nil {
+			return r.Value, nil
+		}
+	}
+	return distanceSpearman(a, 2, b)
 }
 
 // distanceSpearman is stability.DistanceCorrelation of the n×da data a and
