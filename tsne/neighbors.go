@@ -11,14 +11,13 @@ import (
 // BruteForceMaxN is the largest n for which ExactNeighbors compares every
 // pair directly; above it a vantage-point tree is built. Brute force costs
 // n²·d multiply-adds with no set-up and does not depend on the data's
-// intrinsic dimension; the tree pays off once n reaches a few thousand on
-// data with structure. Measured with k = 90 on this project's 2-core
-// machine with the AVX2 distance kernels (2026-12-02): on the digits
-// (n = 1797, d = 64) brute force took 63–77 ms against 131–152 ms for the
-// tree; on a 50-dimensional mixture of 10 Gaussians the two were level at
-// n = 2000 (46 and 42 ms) and the tree took 0.3× the brute-force time at
-// n = 10000.
-const BruteForceMaxN = 2000
+// intrinsic dimension; the tree pays off once n reaches a thousand or so
+// on data with structure. Measured with k = 90 on this project's 2-core
+// machine with the AVX2 distance kernels and 32-point buckets (2026-12-02):
+// on the digits (n = 1797, d = 64) the two took 37 and 36 ms; on a
+// 50-dimensional mixture of 10 Gaussians the tree took 0.55× the
+// brute-force time at n = 2000 (24 and 46 ms) and 0.3× at n = 10000.
+const BruteForceMaxN = 1000
 
 // nbChunk is the number of query points a worker takes at a time. The
 // chunks are fixed and each query writes only its own row, so the result
