@@ -58,7 +58,6 @@ type BarnesHut struct {
 
 	nodes []bhNode
 	perm  []int32   // points in tree order
-	pos   []int32   // pos[i] = index of point i in perm
 	ys    []float64 // coordinates in tree order
 	rep   []float64
 	zRow  []float64
@@ -134,14 +133,12 @@ func (g *BarnesHut) Reset(n int) {
 		g.zRow = make([]float64, n)
 		g.rep = make([]float64, 2*n)
 		g.perm = make([]int32, n)
-		g.pos = make([]int32, n)
 		g.ys = make([]float64, 2*n)
 		g.nodes = make([]bhNode, 0, 2*n+64)
 	}
 	g.zRow = g.zRow[:n]
 	g.rep = g.rep[:2*n]
 	g.perm = g.perm[:n]
-	g.pos = g.pos[:n]
 	g.ys = g.ys[:2*n]
 	g.nodes = g.nodes[:0]
 	g.leaves = g.leaves[:0]
@@ -181,35 +178,33 @@ func (g *BarnesHut) build(y []float64) {
 		minY, maxY = min(minY, v), max(maxY, v)
 		g.perm[i] = int32(i)
 	}
+	// The coordinates move with perm, so that every pass of the build
+	// reads them in order and they end in tree order.
+	copy(g.ys, y)
 	side := max(maxX-minX, maxY-minY)
 	side = side*(1+1e-9) + 1e-300
 	g.nodes = append(g.nodes, bhNode{})
-	g.split(0, y, 0, int32(n), minX, minY, side, 0)
-	for k, i := range g.perm {
-		g.pos[i] = int32(k)
-		g.ys[2*k], g.ys[2*k+1] = y[2*i], y[2*i+1]
-	}
+	g.split(0, 0, int32(n), minX, minY, side, 0)
 }
 
 // split fills node idx for points perm[lo:hi] (never empty) in the square
 // cell with lower-left corner (x0, y0) and the given side, recursing into
 // the non-empty quadrants; empty quadrants get no node.
-func (g *BarnesHut) split(idx int, y []float64, lo, hi int32, x0, y0, side float64, depth int) {
+func (g *BarnesHut) split(idx int, lo, hi int32, x0, y0, side float64, depth int) {
+	ys := g.ys
 	crit := side * side / (g.theta * g.theta)
 	if hi-lo <= bhLeafSize || depth >= bhMaxDepth {
 		var sx, sy float64
 		for k := lo; k < hi; k++ {
-			i := g.perm[k]
-			sx += y[2*i]
-			sy += y[2*i+1]
+			sx += ys[2*k]
+			sy += ys[2*k+1]
 		}
 		m := float64(hi - lo)
 		nd := bhNode{mass: m, crit: crit, lo: lo, hi: hi, child: -1}
 		nd.cx, nd.cy = sx/m, sy/m
 		if m > 1 {
 			for k := lo; k < hi; k++ {
-				i := g.perm[k]
-				dx, dy := y[2*i]-nd.cx, y[2*i+1]-nd.cy
+				dx, dy := ys[2*k]-nd.cx, ys[2*k+1]-nd.cy
 				nd.mxx += dx * dx
 				nd.mxy += dx * dy
 				nd.myy += dy * dy
@@ -221,9 +216,9 @@ func (g *BarnesHut) split(idx int, y []float64, lo, hi int32, x0, y0, side float
 	}
 	h := side / 2
 	mx, my := x0+h, y0+h
-	m1 := g.partition(y, lo, hi, 1, my)
-	m0 := g.partition(y, lo, m1, 0, mx)
-	m2 := g.partition(y, m1, hi, 0, mx)
+	m1 := g.partition(lo, hi, 1, my)
+	m0 := g.partition(lo, m1, 0, mx)
+	m2 := g.partition(m1, hi, 0, mx)
 	bounds := [5]int32{lo, m0, m1, m2, hi}
 	corners := [4][2]float64{{x0, y0}, {mx, y0}, {x0, my}, {mx, my}}
 	nc := 0
@@ -239,7 +234,7 @@ func (g *BarnesHut) split(idx int, y []float64, lo, hi int32, x0, y0, side float
 	c := child
 	for q := 0; q < 4; q++ {
 		if bounds[q] < bounds[q+1] {
-			g.split(c, y, bounds[q], bounds[q+1], corners[q][0], corners[q][1], h, depth+1)
+			g.split(c, bounds[q], bounds[q+1], corners[q][0], corners[q][1], h, depth+1)
 			c++
 		}
 	}
@@ -261,16 +256,20 @@ func (g *BarnesHut) split(idx int, y []float64, lo, hi int32, x0, y0, side float
 	g.nodes[idx] = nd
 }
 
-// partition reorders perm[lo:hi] so that points with coordinate axis below
-// cut come first, and returns the boundary.
-func (g *BarnesHut) partition(y []float64, lo, hi int32, axis int, cut float64) int32 {
+// partition reorders perm[lo:hi], and the coordinates in ys with it, so
+// that points with coordinate axis below cut come first, and returns the
+// boundary.
+func (g *BarnesHut) partition(lo, hi int32, axis int, cut float64) int32 {
+	perm, ys := g.perm, g.ys
 	i, j := lo, hi-1
 	for i <= j {
-		if y[2*int(g.perm[i])+axis] < cut {
+		if ys[2*i+int32(axis)] < cut {
 			i++
 			continue
 		}
-		g.perm[i], g.perm[j] = g.perm[j], g.perm[i]
+		perm[i], perm[j] = perm[j], perm[i]
+		ys[2*i], ys[2*j] = ys[2*j], ys[2*i]
+		ys[2*i+1], ys[2*j+1] = ys[2*j+1], ys[2*i+1]
 		j--
 	}
 	return i
