@@ -315,3 +315,16 @@ func TestSqDistRow(t *testing.T) {
 		}
 	}
 }
+
+// TestExactZMatchesExactGradient: ExactZ (the final KL's normalisation)
+// and the Exact gradient's Z are the same sums in the same order, so the
+// same bits (common practice: one quantity, one value).
+func TestExactZMatchesExactGradient(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 8))
+	y := bhTestClustered(333, 2, 2, rng)
+	p := &Sparse{N: 333, RowPtr: make([]int, 334)}
+	_, z := NewExact(2).Gradient(nil, y, p, 1)
+	if ez := ExactZ(y, 3); !sameBits(z, ez) {
+		t.Errorf("ExactZ %v, Exact gradient's Z %v", ez, z)
+	}
+}
