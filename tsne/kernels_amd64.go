@@ -42,6 +42,9 @@ func sqDist8AVX2(a, b []float64, bound float64) (s0, s1, s2, s3 float64, over bo
 func sqDistRowAVX2(q, x, out []float64)
 
 //go:noescape
+func klRow4AVX2(y []float64, col []int32, val []float64, xi, yi float64) float64
+
+//go:noescape
 func cells4AVX2(xi, yi float64, blk []float64) (z, rx, ry float64)
 
 // hasAsmKernels reports whether the assembly kernels can run here.

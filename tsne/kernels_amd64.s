@@ -350,3 +350,130 @@ rsum:
 rdone:
 	VZEROUPPER
 	RET
+
+// Scalars for klRow4AVX2, broadcast with VBROADCASTSD.
+DATA klc<>+0(SB)/8, $0x000FFFFFFFFFFFFF   // mantissa mask
+DATA klc<>+8(SB)/8, $0x3FE0000000000000   // exponent of [0.5, 1)
+DATA klc<>+16(SB)/8, $0x4330000000000000  // 2^52 as bits
+DATA klc<>+24(SB)/8, $4503599627370496.0  // 2^52
+DATA klc<>+32(SB)/8, $1022.0
+DATA klc<>+40(SB)/8, $0.70710678118654752440 // √2/2
+DATA klc<>+48(SB)/8, $2.0
+DATA klc<>+56(SB)/8, $0.5
+DATA klc<>+64(SB)/8, $1.479819860511658591e-01 // L7
+DATA klc<>+72(SB)/8, $1.818357216161805012e-01 // L5
+DATA klc<>+80(SB)/8, $2.857142874366239149e-01 // L3
+DATA klc<>+88(SB)/8, $6.666666666666735130e-01 // L1
+DATA klc<>+96(SB)/8, $1.531383769920937332e-01 // L6
+DATA klc<>+104(SB)/8, $2.222219843214978396e-01 // L4
+DATA klc<>+112(SB)/8, $3.999999999940941908e-01 // L2
+DATA klc<>+120(SB)/8, $1.90821492927058770002e-10 // Ln2Lo
+DATA klc<>+128(SB)/8, $6.93147180369123816490e-01 // Ln2Hi
+GLOBL klc<>(SB), RODATA|NOPTR, $136
+
+// func klRow4AVX2(y []float64, col []int32, val []float64, xi, yi float64) float64
+// Σ p·ln(1 + d²) over whole blocks of four entries, the operations of
+// logAtLeastOne in each lane; lane l holds entry l of a block.
+TEXT ·klRow4AVX2(SB), NOSPLIT, $0-96
+	MOVQ         y_base+0(FP), DI
+	MOVQ         col_base+24(FP), SI
+	MOVQ         col_len+32(FP), CX
+	MOVQ         val_base+48(FP), DX
+	VBROADCASTSD xi+72(FP), Y0
+	VBROADCASTSD yi+80(FP), Y1
+	VMOVUPD      kone<>(SB), Y2
+	VXORPD       Y3, Y3, Y3
+	SHRQ         $2, CX
+	JZ           kdone
+
+kloop:
+	MOVL        0(SI), R8
+	MOVL        4(SI), R9
+	MOVL        8(SI), R10
+	MOVL        12(SI), R11
+	SHLQ        $4, R8
+	SHLQ        $4, R9
+	SHLQ        $4, R10
+	SHLQ        $4, R11
+	VMOVUPD     (DI)(R8*1), X6
+	VMOVUPD     (DI)(R9*1), X7
+	VINSERTF128 $1, (DI)(R10*1), Y6, Y6
+	VINSERTF128 $1, (DI)(R11*1), Y7, Y7
+	VUNPCKLPD   Y7, Y6, Y8
+	VUNPCKHPD   Y7, Y6, Y9
+	VSUBPD      Y8, Y0, Y8                    // dx
+	VSUBPD      Y9, Y1, Y9                    // dy
+	VMULPD      Y8, Y8, Y10
+	VADDPD      Y10, Y2, Y10
+	VMULPD      Y9, Y9, Y11
+	VADDPD      Y11, Y10, Y10                 // u = (1 + dx²) + dy²
+
+	VBROADCASTSD klc<>+0(SB), Y11
+	VANDPD       Y11, Y10, Y11
+	VBROADCASTSD klc<>+8(SB), Y12
+	VORPD        Y12, Y11, Y11                 // f1 in [0.5, 1)
+	VPSRLQ       $52, Y10, Y12                 // biased exponent
+	VBROADCASTSD klc<>+16(SB), Y13
+	VPOR         Y13, Y12, Y12
+	VBROADCASTSD klc<>+24(SB), Y13
+	VSUBPD       Y13, Y12, Y12
+	VBROADCASTSD klc<>+32(SB), Y13
+	VSUBPD       Y13, Y12, Y12                 // k
+	VBROADCASTSD klc<>+40(SB), Y13
+	VCMPPD       $1, Y13, Y11, Y13             // f1 < √2/2
+	VADDPD       Y11, Y11, Y14                 // f1 + f1
+	VBLENDVPD    Y13, Y14, Y11, Y11
+	VSUBPD       Y2, Y12, Y14                  // k − 1
+	VBLENDVPD    Y13, Y14, Y12, Y12
+	VSUBPD       Y2, Y11, Y11                  // f = f1 − 1
+	VBROADCASTSD klc<>+48(SB), Y13
+	VADDPD       Y13, Y11, Y13                 // 2 + f
+	VDIVPD       Y13, Y11, Y13                 // s = f/(2 + f)
+	VMULPD       Y13, Y13, Y14                 // s2
+	VMULPD       Y14, Y14, Y8                  // s4
+	VBROADCASTSD klc<>+64(SB), Y9
+	VMULPD       Y9, Y8, Y9                    // s4·L7
+	VBROADCASTSD klc<>+72(SB), Y10
+	VADDPD       Y10, Y9, Y9                   // L5 + …
+	VMULPD       Y9, Y8, Y9
+	VBROADCASTSD klc<>+80(SB), Y10
+	VADDPD       Y10, Y9, Y9                   // L3 + …
+	VMULPD       Y9, Y8, Y9
+	VBROADCASTSD klc<>+88(SB), Y10
+	VADDPD       Y10, Y9, Y9                   // L1 + …
+	VMULPD       Y9, Y14, Y9                   // t1 = s2·(…)
+	VBROADCASTSD klc<>+96(SB), Y10
+	VMULPD       Y10, Y8, Y10                  // s4·L6
+	VBROADCASTSD klc<>+104(SB), Y7
+	VADDPD       Y7, Y10, Y10                  // L4 + …
+	VMULPD       Y10, Y8, Y10
+	VBROADCASTSD klc<>+112(SB), Y7
+	VADDPD       Y7, Y10, Y10                  // L2 + …
+	VMULPD       Y10, Y8, Y10                  // t2 = s4·(…)
+	VADDPD       Y10, Y9, Y9                   // r = t1 + t2
+	VBROADCASTSD klc<>+56(SB), Y10
+	VMULPD       Y11, Y10, Y10                 // 0.5·f
+	VMULPD       Y11, Y10, Y10                 // hfsq = 0.5·f·f
+	VADDPD       Y9, Y10, Y9                   // hfsq + r
+	VMULPD       Y9, Y13, Y9                   // s·(hfsq + r)
+	VBROADCASTSD klc<>+120(SB), Y14
+	VMULPD       Y14, Y12, Y14                 // k·Ln2Lo
+	VADDPD       Y14, Y9, Y9
+	VSUBPD       Y9, Y10, Y9                   // hfsq − (…)
+	VSUBPD       Y11, Y9, Y9                   // (…) − f
+	VBROADCASTSD klc<>+128(SB), Y14
+	VMULPD       Y14, Y12, Y14                 // k·Ln2Hi
+	VSUBPD       Y9, Y14, Y9                   // ln u
+	VMOVUPD      0(DX), Y10
+	VMULPD       Y9, Y10, Y9                   // p·ln u
+	VADDPD       Y9, Y3, Y3
+	ADDQ         $16, SI
+	ADDQ         $32, DX
+	DECQ         CX
+	JNZ          kloop
+
+kdone:
+	REDUCE(Y3, X3, X6)
+	VMOVSD X3, ret+88(FP)
+	VZEROUPPER
+	RET

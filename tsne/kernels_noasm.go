@@ -20,6 +20,10 @@ func sqDist8AVX2(a, b []float64, bound float64) (s0, s1, s2, s3 float64, over bo
 
 func sqDistRowAVX2(q, x, out []float64) { sqDistRowGeneric(q, x, out) }
 
+func klRow4AVX2(y []float64, col []int32, val []float64, xi, yi float64) float64 {
+	return klRow4Generic(y, col, val, xi, yi)
+}
+
 func cells4AVX2(xi, yi float64, blk []float64) (z, rx, ry float64) {
 	return cells4Generic(xi, yi, blk)
 }

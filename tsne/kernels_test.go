@@ -205,6 +205,12 @@ func BenchmarkKernels(b *testing.B) {
 				kernelSink, _ = attraction(y, p, 0, 1, 2)
 			}
 		})
+		b.Run("klrow96/"+path.name, func(b *testing.B) {
+			p := &Sparse{N: 1, RowPtr: []int{0, 96}, Col: col, Val: val}
+			for b.Loop() {
+				kernelSink = klRow(y, p, 0, 1, 2)
+			}
+		})
 		b.Run("cells64/"+path.name, func(b *testing.B) {
 			for b.Loop() {
 				kernelSink, _, _ = sumCells(1, 2, &cl)
@@ -326,5 +332,64 @@ func TestExactZMatchesExactGradient(t *testing.T) {
 	_, z := NewExact(2).Gradient(nil, y, p, 1)
 	if ez := ExactZ(y, 3); !sameBits(z, ez) {
 		t.Errorf("ExactZ %v, Exact gradient's Z %v", ez, z)
+	}
+}
+
+// TestLogAndKLRow: logAtLeastOne agrees with math.Log to within one ulp
+// (both implement the same published algorithm; math.Log is the reference)
+// and is exactly 0 at 1; the assembly KL row sums equal the generic ones bit
+// for bit and the plain math.Log1p sums to rounding.
+func TestLogAndKLRow(t *testing.T) {
+	r := rand.New(rand.NewPCG(21, 2))
+	us := []float64{1, math.Nextafter(1, 2), math.Sqrt2, math.Sqrt2 / 2 * 2, 2, math.Nextafter(2, 1), 3, 1e10, 1e300}
+	for i := 0; i < 20000; i++ {
+		us = append(us, 1+math.Exp(r.NormFloat64()*8))
+	}
+	for _, u := range us {
+		got, want := logAtLeastOne(u), math.Log(u)
+		if got != want && math.Abs(got-want) > math.Abs(want)*2.3e-16 {
+			t.Fatalf("ln %v: got %v, math.Log %v", u, got, want)
+		}
+	}
+	if logAtLeastOne(1) != 0 {
+		t.Errorf("ln 1 = %v, want 0", logAtLeastOne(1))
+	}
+	for name, y := range kernelInputs() {
+		if name == "huge" {
+			continue // distances beyond the float64 range of 1 + d²
+		}
+		n := len(y) / 2
+		for trial := 0; trial < 20; trial++ {
+			k := r.IntN(40)
+			col := make([]int32, k)
+			val := make([]float64, k)
+			for e := range col {
+				col[e] = int32(r.IntN(n))
+				val[e] = r.Float64() * 1e-3
+			}
+			i := r.IntN(n)
+			xi, yi := y[2*i], y[2*i+1]
+			m := k &^ 3
+			g := klRow4Generic(y, col[:m], val[:m], xi, yi)
+			if hasAsmKernels() {
+				if a := klRow4AVX2(y, col[:m], val[:m], xi, yi); !sameBits(a, g) {
+					t.Fatalf("%s: assembly %v, generic %v", name, a, g)
+				}
+			}
+			p := &Sparse{N: 1, RowPtr: []int{0, k}, Col: col, Val: val}
+			got := klRow(y, p, 0, xi, yi)
+			var want, sp float64
+			for e := range col {
+				j := int(col[e])
+				dx, dy := xi-y[2*j], yi-y[2*j+1]
+				want += val[e] * math.Log1p(dx*dx+dy*dy)
+				sp += val[e]
+			}
+			// Rounding 1 + d² to float64 costs up to one ulp of 1 per
+			// entry (common practice: log(1 + x) for tiny x).
+			if math.Abs(got-want) > 1e-13*math.Abs(want)+2.3e-16*sp {
+				t.Fatalf("%s: klRow %v, plain sum %v", name, got, want)
+			}
+		}
 	}
 }
