@@ -6,7 +6,7 @@
 #
 # Settings on both sides: perplexity 30, PCA init, early exaggeration 12 for 250 iterations,
 # 1000 iterations, learning rate auto = max(N/(4·12), 50) (constant 4 in the gradient on both
-# sides), plumb --gradient auto --neighbors auto, scikit-learn method barnes_hut (θ = 0.5),
+# sides), plumb --gradient auto --neighbors auto (default θ 0.8), scikit-learn method barnes_hut (θ = 0.5),
 # both on --threads threads (default: all cores).
 # Columns: n, wall seconds (/usr/bin/time, whole process incl. reading the CSV), ratio
 # sklearn/plumb, each side's final KL (its own estimate, see README), trustworthiness (k = 5,
