@@ -2,16 +2,17 @@ package tsne
 
 import "math"
 
-// The three inner loops that dominate a Barnes-Hut (and exact) gradient
-// evaluation — direct sums over runs of points, attraction over a row of P,
-// and the expansions of summarised cells — live here. Each processes its
+// The inner loops that dominate a run live here: direct sums over runs of
+// points, attraction over a row of P and the expansions of summarised cells
+// (the Barnes-Hut and exact gradients), the squared distances of the exact
+// neighbour search, and the KL divergence's row sums. Each processes its
 // input in blocks of four lanes: the generic Go code below spells the lanes
 // out, and on amd64 CPUs with AVX2 an assembly version (kernels_amd64.s)
 // does the same operations four at a time. Both perform the same IEEE
 // operations in the same order (no fused multiply-add; true divisions), so
 // their results are bit-identical and a layout does not depend on which one
-// ran; TestKernelsMatchGeneric checks this. Build with the purego tag to
-// leave the assembly out.
+// ran; TestKernelsMatchGeneric and its neighbours check this. Build with
+// the purego tag to leave the assembly out.
 //
 // Lane sums are combined as (l0 + l2) + (l1 + l3), the order of the
 // assembly's horizontal reduction.
