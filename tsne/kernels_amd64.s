@@ -35,6 +35,42 @@ GLOBL kfour<>(SB), RODATA|NOPTR, $32
 	VPERMILPD    $1, X, XT \
 	VADDSD       XT, X, X
 
+// GATHER4 loads the points y_j of the four column indices at SI (int32,
+// y at DI, 16 bytes a point) and leaves, lane l for index l,
+// dx = xi − x_j in Y8, dy = yi − y_j in Y9 and u = (1 + dx²) + dy² in Y10
+// (xi, yi broadcast in Y0, Y1; 1.0 in Y2; R8–R11, Y6, Y7, Y11 scratch).
+#define GATHER4 \
+	MOVL        0(SI), R8 \
+	MOVL        4(SI), R9 \
+	MOVL        8(SI), R10 \
+	MOVL        12(SI), R11 \
+	SHLQ        $4, R8 \
+	SHLQ        $4, R9 \
+	SHLQ        $4, R10 \
+	SHLQ        $4, R11 \
+	VMOVUPD     (DI)(R8*1), X6 \
+	VMOVUPD     (DI)(R9*1), X7 \
+	VINSERTF128 $1, (DI)(R10*1), Y6, Y6 \
+	VINSERTF128 $1, (DI)(R11*1), Y7, Y7 \
+	VUNPCKLPD   Y7, Y6, Y8 \
+	VUNPCKHPD   Y7, Y6, Y9 \
+	VSUBPD      Y8, Y0, Y8 \
+	VSUBPD      Y9, Y1, Y9 \
+	VMULPD      Y8, Y8, Y10 \
+	VADDPD      Y10, Y2, Y10 \
+	VMULPD      Y9, Y9, Y11 \
+	VADDPD      Y11, Y10, Y10
+
+// REDUCE3 stores the lane sums of Y3, Y4, Y5, each reduced as in REDUCE,
+// as the results z, rx, ry at 40, 48 and 56(FP).
+#define REDUCE3 \
+	REDUCE(Y3, X3, X6) \
+	REDUCE(Y4, X4, X7) \
+	REDUCE(Y5, X5, X8) \
+	VMOVSD X3, z+40(FP) \
+	VMOVSD X4, rx+48(FP) \
+	VMOVSD X5, ry+56(FP)
+
 // func cpuid(leaf, sub uint32) (eax, ebx, ecx, edx uint32)
 TEXT ·cpuid(SB), NOSPLIT, $0-24
 	MOVL leaf+0(FP), AX
@@ -91,12 +127,7 @@ dloop:
 	JNZ       dloop
 
 ddone:
-	REDUCE(Y3, X3, X6)
-	REDUCE(Y4, X4, X7)
-	REDUCE(Y5, X5, X8)
-	VMOVSD X3, z+40(FP)
-	VMOVSD X4, rx+48(FP)
-	VMOVSD X5, ry+56(FP)
+	REDUCE3
 	VZEROUPPER
 	RET
 
@@ -116,26 +147,7 @@ TEXT ·attract4AVX2(SB), NOSPLIT, $0-104
 	JZ           adone
 
 aloop:
-	MOVL        0(SI), R8
-	MOVL        4(SI), R9
-	MOVL        8(SI), R10
-	MOVL        12(SI), R11
-	SHLQ        $4, R8
-	SHLQ        $4, R9
-	SHLQ        $4, R10
-	SHLQ        $4, R11
-	VMOVUPD     (DI)(R8*1), X6                // x0 y0
-	VMOVUPD     (DI)(R9*1), X7                // x1 y1
-	VINSERTF128 $1, (DI)(R10*1), Y6, Y6       // x0 y0 x2 y2
-	VINSERTF128 $1, (DI)(R11*1), Y7, Y7       // x1 y1 x3 y3
-	VUNPCKLPD   Y7, Y6, Y8                    // x0 x1 x2 x3
-	VUNPCKHPD   Y7, Y6, Y9                    // y0 y1 y2 y3
-	VSUBPD      Y8, Y0, Y8                    // dx
-	VSUBPD      Y9, Y1, Y9                    // dy
-	VMULPD      Y8, Y8, Y10
-	VADDPD      Y10, Y2, Y10
-	VMULPD      Y9, Y9, Y11
-	VADDPD      Y11, Y10, Y10                 // u = (1 + dx²) + dy²
+	GATHER4                                   // dx Y8, dy Y9, u Y10
 	VMOVUPD     0(DX), Y11                    // p
 	VDIVPD      Y10, Y11, Y10                 // p/u
 	VMULPD      Y10, Y8, Y8
@@ -225,12 +237,7 @@ cloop:
 	JNZ     cloop
 
 cdone:
-	REDUCE(Y3, X3, X6)
-	REDUCE(Y4, X4, X7)
-	REDUCE(Y5, X5, X8)
-	VMOVSD X3, z+40(FP)
-	VMOVSD X4, rx+48(FP)
-	VMOVSD X5, ry+56(FP)
+	REDUCE3
 	VZEROUPPER
 	RET
 
@@ -387,26 +394,7 @@ TEXT ·klRow4AVX2(SB), NOSPLIT, $0-96
 	JZ           kdone
 
 kloop:
-	MOVL        0(SI), R8
-	MOVL        4(SI), R9
-	MOVL        8(SI), R10
-	MOVL        12(SI), R11
-	SHLQ        $4, R8
-	SHLQ        $4, R9
-	SHLQ        $4, R10
-	SHLQ        $4, R11
-	VMOVUPD     (DI)(R8*1), X6
-	VMOVUPD     (DI)(R9*1), X7
-	VINSERTF128 $1, (DI)(R10*1), Y6, Y6
-	VINSERTF128 $1, (DI)(R11*1), Y7, Y7
-	VUNPCKLPD   Y7, Y6, Y8
-	VUNPCKHPD   Y7, Y6, Y9
-	VSUBPD      Y8, Y0, Y8                    // dx
-	VSUBPD      Y9, Y1, Y9                    // dy
-	VMULPD      Y8, Y8, Y10
-	VADDPD      Y10, Y2, Y10
-	VMULPD      Y9, Y9, Y11
-	VADDPD      Y11, Y10, Y10                 // u = (1 + dx²) + dy²
+	GATHER4                                   // dx Y8, dy Y9, u Y10
 
 	VBROADCASTSD klc<>+0(SB), Y11
 	VANDPD       Y11, Y10, Y11
