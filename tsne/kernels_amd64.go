@@ -2,9 +2,13 @@
 
 package tsne
 
-// useAVX2 selects the assembly kernels (kernels_amd64.s). Tests switch it
-// off to compare them with the generic Go code.
-var useAVX2 = hasAVX2()
+// asmOK reports whether the CPU can run the assembly kernels; useAVX2
+// selects them (kernels_amd64.s). Tests switch useAVX2 off to compare them
+// with the generic Go code.
+var (
+	asmOK   = hasAVX2()
+	useAVX2 = asmOK
+)
 
 // hasAVX2 reports whether the CPU and the operating system support AVX2
 // (CPUID leaf 7 EBX bit 5, AVX and OSXSAVE in leaf 1 ECX, and the YMM
@@ -48,4 +52,4 @@ func klRow4AVX2(y []float64, col []int32, val []float64, xi, yi float64) float64
 func cells4AVX2(xi, yi float64, blk []float64) (z, rx, ry float64)
 
 // hasAsmKernels reports whether the assembly kernels can run here.
-func hasAsmKernels() bool { return hasAVX2() }
+func hasAsmKernels() bool { return asmOK }

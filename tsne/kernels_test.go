@@ -27,6 +27,19 @@ func kernelInputs() map[string][]float64 {
 	return out
 }
 
+// randomRow returns up to 39 random entries of a row of P over n points,
+// values below 1e-3 as in a normalised P.
+func randomRow(r *rand.Rand, n int) ([]int32, []float64) {
+	k := r.IntN(40)
+	col := make([]int32, k)
+	val := make([]float64, k)
+	for e := range col {
+		col[e] = int32(r.IntN(n))
+		val[e] = r.Float64() * 1e-3
+	}
+	return col, val
+}
+
 func sameBits(a, b float64) bool { return math.Float64bits(a) == math.Float64bits(b) }
 
 // TestKernelsMatchGeneric: the assembly kernels give bit-identical results
@@ -71,13 +84,8 @@ func TestKernelsMatchGeneric(t *testing.T) {
 			}
 
 			// Attraction over a random row of entries.
-			k := r.IntN(40)
-			col := make([]int32, k)
-			val := make([]float64, k)
-			for e := range col {
-				col[e] = int32(r.IntN(n))
-				val[e] = r.Float64() * 1e-3
-			}
+			col, val := randomRow(r, n)
+			k := len(col)
 			mk := k &^ 3
 			g1, g2 := attract4Generic(y, col[:mk], val[:mk], xi, yi)
 			a1, a2 := g1, g2
@@ -360,13 +368,8 @@ func TestLogAndKLRow(t *testing.T) {
 		}
 		n := len(y) / 2
 		for trial := 0; trial < 20; trial++ {
-			k := r.IntN(40)
-			col := make([]int32, k)
-			val := make([]float64, k)
-			for e := range col {
-				col[e] = int32(r.IntN(n))
-				val[e] = r.Float64() * 1e-3
-			}
+			col, val := randomRow(r, n)
+			k := len(col)
 			i := r.IntN(n)
 			xi, yi := y[2*i], y[2*i+1]
 			m := k &^ 3
