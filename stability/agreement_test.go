@@ -234,10 +234,7 @@ func TestSpreadFlagsMovedPoint(t *testing.T) {
 func TestBadInput(t *testing.T) {
 	y := []float64{0, 0, 1, 0, 0, 1, 1, 1, 2, 2, 3, 1}
 	x := []float64{0, 1, 2, 3, 4, 5}
-	for _, tc := range []struct {
-		name string
-		f    func() error
-	}{
+	wantPackageErrors(t, []errorCase{
 		{"k too large for trustworthiness", func() error { _, err := Trustworthiness(x, 1, y, 3); return err }},
 		{"k zero", func() error { _, err := Continuity(x, 1, y, 0); return err }},
 		{"input length", func() error { _, err := KNNRecall(x[:5], 1, y, 2); return err }},
@@ -265,7 +262,20 @@ func TestBadInput(t *testing.T) {
 			return err
 		}},
 		{"summary empty", func() error { _, err := Summarize(nil); return err }},
-	} {
+	})
+}
+
+// errorCase is a call that must fail.
+type errorCase struct {
+	name string
+	f    func() error
+}
+
+// wantPackageErrors runs each case and checks that it fails with an error
+// carrying the package prefix (the house style for library errors).
+func wantPackageErrors(t *testing.T, cases []errorCase) {
+	t.Helper()
+	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
 			err := tc.f()
 			if err == nil {

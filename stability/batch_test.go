@@ -370,10 +370,7 @@ func TestDistanceRanksErrors(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, tc := range []struct {
-		name string
-		f    func() error
-	}{
+	wantPackageErrors(t, []errorCase{
 		{"too few points", func() error { _, err := NewDistanceRanks(y[:4], 2, 0, 1); return err }},
 		{"ragged", func() error { _, err := NewDistanceRanks(y[:5], 2, 0, 1); return err }},
 		{"one pair", func() error { _, err := NewDistanceRanks(y, 2, 1, 1); return err }},
@@ -385,17 +382,7 @@ func TestDistanceRanksErrors(t *testing.T) {
 			_, err := r.Correlation([]float64{0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0}, 2)
 			return err
 		}},
-	} {
-		t.Run(tc.name, func(t *testing.T) {
-			err := tc.f()
-			if err == nil {
-				t.Fatal("got nil error")
-			}
-			if !strings.HasPrefix(err.Error(), "stability: ") {
-				t.Errorf("error %q lacks package prefix", err)
-			}
-		})
-	}
+	})
 	// DistanceCorrelation keeps its errors and their order: the shape of b
 	// is checked before the values of a.
 	_, err = DistanceCorrelation([]float64{0, 1, math.NaN()}, 1, y[:5], 1, 0, 1)
