@@ -59,6 +59,9 @@ type BarnesHut struct {
 	nodes []bhNode
 	perm  []int32   // points in tree order
 	ys    []float64 // coordinates in tree order
+	perm2 []int32   // the build's second buffers (odd depths)
+	ys2   []float64
+	quad  []uint8 // the build's quadrant of each point
 	rep   []float64
 	zRow  []float64
 
@@ -134,12 +137,18 @@ func (g *BarnesHut) Reset(n int) {
 		g.rep = make([]float64, 2*n)
 		g.perm = make([]int32, n)
 		g.ys = make([]float64, 2*n)
+		g.perm2 = make([]int32, n)
+		g.ys2 = make([]float64, 2*n)
+		g.quad = make([]uint8, n)
 		g.nodes = make([]bhNode, 0, 2*n+64)
 	}
 	g.zRow = g.zRow[:n]
 	g.rep = g.rep[:2*n]
 	g.perm = g.perm[:n]
 	g.ys = g.ys[:2*n]
+	g.perm2 = g.perm2[:n]
+	g.ys2 = g.ys2[:2*n]
+	g.quad = g.quad[:n]
 	g.nodes = g.nodes[:0]
 	g.leaves = g.leaves[:0]
 }
@@ -191,9 +200,14 @@ func (g *BarnesHut) build(y []float64) {
 // cell with lower-left corner (x0, y0) and the given side, recursing into
 // the non-empty quadrants; empty quadrants get no node.
 func (g *BarnesHut) split(idx int, lo, hi int32, x0, y0, side float64, depth int) {
-	ys := g.ys
 	crit := side * side / (g.theta * g.theta)
 	if hi-lo <= bhLeafSize || depth >= bhMaxDepth {
+		if depth%2 == 1 {
+			// Odd depths keep their points in the second buffers.
+			copy(g.perm[lo:hi], g.perm2[lo:hi])
+			copy(g.ys[2*lo:2*hi], g.ys2[2*lo:2*hi])
+		}
+		ys := g.ys
 		var sx, sy float64
 		for k := lo; k < hi; k++ {
 			sx += ys[2*k]
@@ -216,10 +230,7 @@ func (g *BarnesHut) split(idx int, lo, hi int32, x0, y0, side float64, depth int
 	}
 	h := side / 2
 	mx, my := x0+h, y0+h
-	m1 := g.partition(lo, hi, 1, my)
-	m0 := g.partition(lo, m1, 0, mx)
-	m2 := g.partition(m1, hi, 0, mx)
-	bounds := [5]int32{lo, m0, m1, m2, hi}
+	bounds := g.split4(lo, hi, mx, my, depth)
 	corners := [4][2]float64{{x0, y0}, {mx, y0}, {x0, my}, {mx, my}}
 	nc := 0
 	for q := 0; q < 4; q++ {
@@ -256,23 +267,44 @@ func (g *BarnesHut) split(idx int, lo, hi int32, x0, y0, side float64, depth int
 	g.nodes[idx] = nd
 }
 
-// partition reorders perm[lo:hi], and the coordinates in ys with it, so
-// that points with coordinate axis below cut come first, and returns the
-// boundary.
-func (g *BarnesHut) partition(lo, hi int32, axis int, cut float64) int32 {
-	perm, ys := g.perm, g.ys
-	i, j := lo, hi-1
-	for i <= j {
-		if ys[2*i+int32(axis)] < cut {
-			i++
-			continue
-		}
-		perm[i], perm[j] = perm[j], perm[i]
-		ys[2*i], ys[2*j] = ys[2*j], ys[2*i]
-		ys[2*i+1], ys[2*j+1] = ys[2*j+1], ys[2*i+1]
-		j--
+// split4 moves the points perm[lo:hi] of a node at the given depth, with
+// their coordinates, into the order of their quadrants about (mx, my):
+// x < mx and y < my, then x ≥ mx and y < my, then x < mx and y ≥ my, then
+// the rest (NaN coordinates count as ≥). It is a stable counting sort from
+// the depth's buffers (perm and ys at even depths, perm2 and ys2 at odd
+// ones) into the other pair, without data-dependent branches, and returns
+// the quadrants' bounds.
+func (g *BarnesHut) split4(lo, hi int32, mx, my float64, depth int) [5]int32 {
+	sp, sy, dp, dy := g.perm, g.ys, g.perm2, g.ys2
+	if depth%2 == 1 {
+		sp, sy, dp, dy = dp, dy, sp, sy
 	}
-	return i
+	q := g.quad[lo:hi]
+	var cnt [4]int32
+	for k := range q {
+		i := 2 * (int(lo) + k)
+		b := b2u8(!(sy[i] < mx)) | b2u8(!(sy[i+1] < my))<<1
+		q[k] = b
+		cnt[b&3]++
+	}
+	off := [4]int32{lo, lo + cnt[0], lo + cnt[0] + cnt[1], lo + cnt[0] + cnt[1] + cnt[2]}
+	bounds := [5]int32{off[0], off[1], off[2], off[3], hi}
+	for k, b := range q {
+		i := int(lo) + k
+		d := off[b&3]
+		off[b&3] = d + 1
+		dp[d] = sp[i]
+		dy[2*d], dy[2*d+1] = sy[2*i], sy[2*i+1]
+	}
+	return bounds
+}
+
+// b2u8 is 1 for true and 0 for false.
+func b2u8(b bool) uint8 {
+	if b {
+		return 1
+	}
+	return 0
 }
 
 // rows runs the traversal for one chunk of leaves. The points of a leaf

@@ -135,10 +135,11 @@ func TestFFTAgainstExact(t *testing.T) {
 	}{
 		// Converged-map extents (interval width h ≈ 1 at the defaults).
 		// Quadratic interpolation of (1 + d²)⁻² at h = 1 leaves errors of a
-		// few per cent on the nearest pairs; measured 4.2e-2 (uniform) and
-		// 1.7e-2 (clusters). Bound: measured value rounded up (no source).
-		// Z: measured 0.8e-4 and 4.1e-4 (the error changes sign with h, so
-		// its size at h ≈ 1 varies); bound 1e-3 (measured, no source).
+		// few per cent on the nearest pairs; measured 3.5e-2 (uniform, 64
+		// intervals) and 1.3e-2 (clusters, 54). Bound: measured value rounded
+		// up (no source). Z: measured 0.8e-4 and 3.0e-4 (the error changes
+		// sign with h, so its size at h ≈ 1 varies); bound 1e-3 (measured,
+		// no source).
 		{"uniform ±30", "uniform", 30, 1, 0, 5e-2, 1e-3},
 		{"clusters ±30", "clusters", 30, 1, 0, 3e-2, 1e-3},
 		// Four intervals per unit: the Lagrange remainder falls as h³
