@@ -51,5 +51,7 @@ func klRow4AVX2(y []float64, col []int32, val []float64, xi, yi float64) float64
 //go:noescape
 func cells4AVX2(xi, yi float64, blk []float64) (z, rx, ry float64)
 
+func sqDist32AVX2(a, b []float32) float32
+
 // hasAsmKernels reports whether the assembly kernels can run here.
 func hasAsmKernels() bool { return asmOK }

@@ -465,3 +465,52 @@ kdone:
 	VMOVSD X3, ret+88(FP)
 	VZEROUPPER
 	RET
+
+// func sqDist32AVX2(a, b []float32) float32
+// len(b) ≥ len(a). Lane l of the accumulator holds features l, l + 8, …
+// of the whole blocks of eight; the remaining features go into lane 0 in
+// order; the lanes are reduced as ((s0 + s4) + (s2 + s6)) + ((s1 + s5) + (s3 + s7)).
+TEXT ·sqDist32AVX2(SB), NOSPLIT, $0-52
+	MOVQ   a_base+0(FP), SI
+	MOVQ   a_len+8(FP), CX
+	MOVQ   b_base+24(FP), DI
+	VXORPS Y0, Y0, Y0
+	MOVQ   CX, DX
+	SHRQ   $3, DX
+	JZ     fsplit
+
+fblock:
+	VMOVUPS 0(SI), Y1
+	VSUBPS  0(DI), Y1, Y1
+	VMULPS  Y1, Y1, Y1
+	VADDPS  Y1, Y0, Y0
+	ADDQ    $32, SI
+	ADDQ    $32, DI
+	DECQ    DX
+	JNZ     fblock
+
+fsplit:
+	// The scalar tail below clears bits 128–255, so save lanes 4–7 first.
+	VEXTRACTF128 $1, Y0, X3
+	ANDQ         $7, CX
+	JZ           freduce
+
+ftail:
+	VMOVSS 0(SI), X1
+	VSUBSS 0(DI), X1, X1
+	VMULSS X1, X1, X1
+	VADDSS X1, X0, X0
+	ADDQ   $4, SI
+	ADDQ   $4, DI
+	DECQ   CX
+	JNZ    ftail
+
+freduce:
+	VADDPS    X3, X0, X0             // s0+s4, s1+s5, s2+s6, s3+s7
+	VMOVHLPS  X0, X0, X1
+	VADDPS    X1, X0, X0             // (s0+s4)+(s2+s6), (s1+s5)+(s3+s7)
+	VMOVSHDUP X0, X1
+	VADDSS    X1, X0, X0
+	VMOVSS    X0, ret+48(FP)
+	VZEROUPPER
+	RET

@@ -29,4 +29,6 @@ func cells4AVX2(xi, yi float64, blk []float64) (z, rx, ry float64) {
 }
 
 // hasAsmKernels reports whether the assembly kernels can run here.
+func sqDist32AVX2(a, b []float32) float32 { return sqDist32Generic(a, b) }
+
 func hasAsmKernels() bool { return false }

@@ -269,6 +269,40 @@ func TestSqDistMatchesGeneric(t *testing.T) {
 	}
 }
 
+// TestSqDist32MatchesGeneric: the float32 distance of the neighbour search
+// gives the same bits with the assembly and the Go twin, for every length
+// (block and tail), and agrees with the plain float64 sum to float32
+// rounding (common practice: check a kernel against the plain definition).
+func TestSqDist32MatchesGeneric(t *testing.T) {
+	r := rand.New(rand.NewPCG(9, 5))
+	for trial := 0; trial < 500; trial++ {
+		d := r.IntN(80)
+		a, b := make([]float32, d), make([]float32, d+r.IntN(3))
+		for j := range b {
+			b[j] = float32(r.NormFloat64())
+			if j < d {
+				a[j] = float32(r.NormFloat64())
+			}
+		}
+		var plain float64
+		for j := range a {
+			plain += (float64(a[j]) - float64(b[j])) * (float64(a[j]) - float64(b[j]))
+		}
+		g := sqDist32Generic(a, b)
+		if hasAsmKernels() {
+			if v := sqDist32AVX2(a, b); math.Float32bits(v) != math.Float32bits(g) {
+				t.Fatalf("d=%d: assembly %v != generic %v", d, v, g)
+			}
+		}
+		if got := nndDist(a, b); math.Float32bits(got) != math.Float32bits(g) {
+			t.Fatalf("d=%d: nndDist %v != generic %v", d, got, g)
+		}
+		if math.Abs(float64(g)-plain) > 1e-5*plain+1e-30 {
+			t.Fatalf("d=%d: %v, plain float64 sum %v", d, g, plain)
+		}
+	}
+}
+
 // TestGradientsSameWithoutAsm: whole gradient evaluations give the same
 // bits with the assembly kernels and with the generic Go kernels (the
 // package's promise that results do not depend on the code path).
