@@ -27,6 +27,10 @@ type EmbedConfig struct {
 // the joint affinities P over them (Affinities), the initial layout
 // (PCAInit or RandomInit from Seed) and gradient descent (Optimize).
 //
+// For n ≥ LocalityMinN the points are renumbered internally
+// (LocalityOrder) so that neighbours are near in memory; the result, and
+// the layout passed to a Progress callback, are in input order.
+//
 // Configuration errors (perplexity ≤ 0 or too large for n, learning rate
 // < 0, exaggeration < 1, fewer iterations than exaggeration iterations,
 // unknown method, initialisation or neighbour search) are reported before
@@ -48,7 +52,15 @@ func Embed(x []float64, n, d int, cfg EmbedConfig) (*Result, error) {
 	if err != nil {
 		return nil, fmt.Errorf("tsne: neighbours: %w", err)
 	}
+	// Large inputs are renumbered so that neighbours are near in memory;
+	// the initial layout follows and the result is put back in input order.
+	var order []int32
+	if n >= localityMinN {
+		order = LocalityOrder(nb)
+		nb = nb.Permute(order)
+	}
 	p, err := Affinities(nb, cfg.Perplexity, threads)
+	nb = nil
 	if err != nil {
 		return nil, fmt.Errorf("tsne: affinities (perplexity %g): %w", cfg.Perplexity, err)
 	}
@@ -61,7 +73,25 @@ func Embed(x []float64, n, d int, cfg EmbedConfig) (*Result, error) {
 	case InitRandom:
 		init = RandomInit(n, cfg.Seed)
 	}
-	return Optimize(p, init, cfg.Config)
+	if order == nil {
+		return Optimize(p, init, cfg.Config)
+	}
+	if user := cfg.Progress; user != nil {
+		// The callback sees the layout in input order.
+		buf := make([]float64, 2*n)
+		cfg.Progress = func(pr Progress) bool {
+			for r, o := range order {
+				buf[2*o], buf[2*o+1] = pr.Y[2*r], pr.Y[2*r+1]
+			}
+			pr.Y = buf
+			return user(pr)
+		}
+	}
+	res, err := Optimize(p, PermuteLayout(init, order), cfg.Config)
+	if res != nil {
+		res.Y = UnpermuteLayout(res.Y, order)
+	}
+	return res, err
 }
 
 // checkEmbedConfig fills defaults in cfg and reports the first problem.
