@@ -195,6 +195,9 @@ func NoVariance(x []float64, n, d int) bool {
 	return total <= tol*tol
 }
 
+// localityMinN is tsne.LocalityMinN, lowered by tests.
+var localityMinN = tsne.LocalityMinN
+
 // shared holds the work every run of a sweep reuses.
 type shared struct {
 	mu      sync.Mutex
@@ -202,6 +205,7 @@ type shared struct {
 	plan    *Plan
 	threads int
 	nb      *tsne.Neighbors
+	order   []int32 // the renumbering of nb, P and the runs (nil: input order)
 	nbOnce  sync.Once
 	nbErr   error
 	pca     []float64
@@ -237,6 +241,14 @@ func (sh *shared) neighbors() (*tsne.Neighbors, error) {
 		sh.mu.Unlock()
 		sh.info(fmt.Sprintf("shared: %s neighbours, k=%d for perplexity up to %s, built once in %s",
 			mode, k, formatFloat(sh.plan.MaxPerplexity()), round(time.Since(t0))))
+		if sh.ds.N >= localityMinN {
+			// As tsne.Embed does: P and the runs work on points renumbered
+			// so that neighbours are near in memory; layouts are written
+			// back in input order.
+			sh.order = tsne.LocalityOrder(sh.nb)
+			sh.nb = sh.nb.Permute(sh.order)
+			sh.info("shared: points renumbered for memory locality (breadth-first order of the neighbour graph)")
+		}
 	})
 	return sh.nb, sh.nbErr
 }
@@ -498,6 +510,9 @@ func (sh *shared) runOne(ctx context.Context, opt Options, info *Info, r *Run, t
 	} else {
 		init = tsne.RandomInit(sh.ds.N, r.Seed)
 	}
+	if sh.order != nil {
+		init = tsne.PermuteLayout(init, sh.order)
+	}
 	cfg := runConfig(s, threads, sh.plan.KLEvery)
 	cfg.Progress = func(pr tsne.Progress) bool {
 		if sh.event != nil && pr.Iter%ProgressEvery == 0 && pr.Iter < pr.Iters {
@@ -514,6 +529,9 @@ func (sh *shared) runOne(ctx context.Context, opt Options, info *Info, r *Run, t
 	t0 := time.Now()
 	res, oerr := optimize(p, init, cfg)
 	rec.Seconds = math.Round(time.Since(t0).Seconds()*1000) / 1000
+	if res != nil && sh.order != nil {
+		res.Y = tsne.UnpermuteLayout(res.Y, sh.order)
+	}
 	if oerr != nil && (errors.Is(oerr, tsne.ErrStopped) || ctx.Err() != nil) {
 		return nil, fmt.Errorf("run %s: %w", r.ID, oerr)
 	}

@@ -2,10 +2,12 @@ package sweep
 
 import (
 	"context"
+	"math"
 	"os"
 	"path/filepath"
 	"reflect"
 	"sort"
+	"strings"
 	"testing"
 	"time"
 
@@ -323,5 +325,47 @@ func TestSharedEqualsEmbed(t *testing.T) {
 	}
 	if st.Rows[0].KL != res.KL {
 		t.Errorf("KL: sweep %v, Embed %v", st.Rows[0].KL, res.KL)
+	}
+}
+
+// TestLocalityRenumberingInvisible: large inputs are renumbered for memory
+// locality (tsne.LocalityOrder); the study must not show it. t-SNE is
+// invariant under a permutation of the points (van der Maaten & Hinton
+// 2008: the cost sums over all pairs), so the layouts, written in input
+// order, agree with the plain sweep's up to rounding, point by point.
+func TestLocalityRenumberingInvisible(t *testing.T) {
+	ds := iris(t)
+	p := smallPlan(t)
+	plain, renum := t.TempDir(), t.TempDir()
+	runSweep(t, ds, p, plain, nil)
+	saved := localityMinN
+	localityMinN = 0
+	defer func() { localityMinN = saved }()
+	runSweep(t, ds, p, renum, nil)
+	a, b := decoded(t, plain), decoded(t, renum)
+	n := 0
+	for name, ta := range a {
+		if !strings.HasPrefix(name, "layouts") {
+			continue
+		}
+		tb := b[name]
+		if tb == nil {
+			t.Fatalf("%s missing from the renumbered study", name)
+		}
+		if !reflect.DeepEqual(ta.Column("id").Values, tb.Column("id").Values) {
+			t.Fatalf("%s: point ids differ", name)
+		}
+		for _, c := range []string{"x", "y"} {
+			va, vb := ta.Column(c).Values.([]float64), tb.Column(c).Values.([]float64)
+			for i := range va {
+				if math.Abs(va[i]-vb[i]) > 1e-9*(1+math.Abs(va[i])) {
+					t.Fatalf("%s: %s[%d] = %v renumbered, %v plain", name, c, i, vb[i], va[i])
+				}
+			}
+		}
+		n++
+	}
+	if n != 4 {
+		t.Fatalf("compared %d layout files, want 4", n)
 	}
 }

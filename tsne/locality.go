@@ -44,9 +44,11 @@ func LocalityOrder(nb *Neighbors) []int32 {
 
 // Permute returns the neighbour lists of the points renumbered by order
 // (as from LocalityOrder: order[r] is the original index of new point r):
-// row r is the list of point order[r] with every index renumbered, sorted
-// by distance with ties broken by the new index. It panics if order is not
-// a permutation of [0, N).
+// row r is the list of point order[r] with every index renumbered, in the
+// same order. Ties in distance therefore stay broken by the original
+// index, so that a prefix of a row (a smaller perplexity's neighbours)
+// holds the same points as before the renumbering. It panics if order is
+// not a permutation of [0, N).
 func (nb *Neighbors) Permute(order []int32) *Neighbors {
 	n, k := nb.N, nb.K
 	inv := inversePerm(order, n)
@@ -59,12 +61,6 @@ func (nb *Neighbors) Permute(order []int32) *Neighbors {
 				idx[e] = inv[j]
 			}
 			copy(dis, nb.Dist[o*k:(o+1)*k])
-			// Rows are sorted by distance; only ties can be out of order.
-			for a := 1; a < k; a++ {
-				for b := a; b > 0 && dis[b] == dis[b-1] && idx[b] < idx[b-1]; b-- {
-					idx[b], idx[b-1] = idx[b-1], idx[b]
-				}
-			}
 		}
 	})
 	return out
