@@ -120,11 +120,12 @@ type fftState struct {
 	work []fftWorker
 	// Stored task functions (method values allocate when created).
 	fnBounds, fnPrep, fnSpread, fnKRows, fnKCols, fnColsFwd, fnRowsConv, fnColsInv, fnGather, fnFinish func(w, t int)
-	mins                                                                                    []float64 // 4 per point task
-	zinv                                                                                    float64
-	kloc                                                                                    [81]float64 // kernel between the 9 nodes of one interval (a = 3·row + column)
-	kh                                                                                      float64     // interval width of the kernel transform in khat
-	knb                                                                                     int         // interval count of khat (0: none)
+
+	mins []float64 // 4 per point task
+	zinv float64
+	kloc [81]float64 // kernel between the 9 nodes of one interval (a = 3·row + column)
+	kh   float64     // interval width of the kernel transform in khat
+	knb  int         // interval count of khat (0: none)
 }
 
 type fftWorker struct {
