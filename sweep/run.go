@@ -246,7 +246,7 @@ func (sh *shared) neighbors() (*tsne.Neighbors, error) {
 			// so that neighbours are near in memory; layouts are written
 			// back in input order.
 			sh.order = tsne.LocalityOrder(sh.nb)
-			sh.nb = sh.nb.Permute(sh.order)
+			sh.nb.Renumber(sh.order)
 			sh.info("shared: points renumbered for memory locality (breadth-first order of the neighbour graph)")
 		}
 	})

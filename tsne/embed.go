@@ -57,7 +57,7 @@ func Embed(x []float64, n, d int, cfg EmbedConfig) (*Result, error) {
 	var order []int32
 	if n >= localityMinN {
 		order = LocalityOrder(nb)
-		nb = nb.Permute(order)
+		nb.Renumber(order)
 	}
 	p, err := Affinities(nb, cfg.Perplexity, threads)
 	nb = nil

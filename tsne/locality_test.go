@@ -43,7 +43,7 @@ func digitsX(t *testing.T) (x []float64, n, d int) {
 // TestLocalityOrderDigits renumbers the neighbour graph of the digits data
 // (UCI optical recognition of handwritten digits, the copy shipped with
 // scikit-learn; testdata/digits.csv) and checks that the result is a
-// permutation, that Permute keeps every list (same neighbours in the same
+// permutation, that Renumber keeps every list (same neighbours in the same
 // order, same distances), and that the breadth-first numbering
 // does what it is for: it brings neighbours closer in index (Cuthill &
 // McKee 1969 — breadth-first numbering reduces a sparse matrix's
@@ -60,7 +60,8 @@ func TestLocalityOrderDigits(t *testing.T) {
 		t.Fatal("LocalityOrder is not deterministic")
 	}
 	inv := inversePerm(order, n) // panics unless a permutation
-	pn := nb.Permute(order)
+	pn := &Neighbors{N: nb.N, K: nb.K, Index: slices.Clone(nb.Index), Dist: slices.Clone(nb.Dist)}
+	pn.Renumber(order)
 	var before, after float64
 	for r := 0; r < n; r++ {
 		o := int(order[r])

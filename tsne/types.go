@@ -2,7 +2,7 @@ package tsne
 
 // Neighbors holds the K nearest neighbours of each of N points, the point itself
 // excluded, sorted by ascending distance with ties broken by the smaller index
-// (after Permute, the smaller index before the renumbering).
+// (after Renumber, the smaller index before the renumbering).
 type Neighbors struct {
 	N, K int
 	// Index holds N*K neighbour indices; row i is Index[i*K : (i+1)*K].
