@@ -109,8 +109,8 @@ type fftState struct {
 	start []int32   // nb² + 1 box starts into order
 	rep   []float64 // 2 per point: y_i φ_1 − (φ_x, φ_y)
 	// Grid.
-	charge [4][]float64    // m×m per channel, row = y node
-	pot    [4][]float64    // m×m per channel
+	charge []float64       // m×m nodes (row = y node) × 4 channels, interleaved
+	pot    []float64       // the potentials, laid out as charge
 	half   [2][]complex128 // l × nsx·fftBatch: channels 2q + i·(2q+1) transformed along y, by strips
 	khat   []float64       // hl×hl: the kernel's transform at frequencies ≤ l/2 (it is real and even)
 	plan   *fftPlan        // length l
@@ -121,11 +121,11 @@ type fftState struct {
 	// Stored task functions (method values allocate when created).
 	fnBounds, fnPrep, fnSpread, fnKRows, fnKCols, fnColsFwd, fnRowsConv, fnColsInv, fnGather, fnFinish func(w, t int)
 
-	mins []float64 // 4 per point task
-	zinv float64
-	kloc [81]float64 // kernel between the 9 nodes of one interval (a = 3·row + column)
-	kh   float64     // interval width of the kernel transform in khat
-	knb  int         // interval count of khat (0: none)
+	mins  []float64 // 4 per point task
+	zinv  float64
+	kself [3][3]float64 // kernel between nodes of one interval, [dy][dx] apart
+	kh    float64       // interval width of the kernel transform in khat
+	knb   int           // interval count of khat (0: none)
 }
 
 type fftWorker struct {
@@ -329,10 +329,8 @@ func (s *fftState) setGrid(nb int) {
 	s.hl = s.l/2 + 1
 	s.nsx = (s.m + fftBatch - 1) / fftBatch
 	s.nsy = (s.l + fftBatch - 1) / fftBatch
-	for c := 0; c < 4; c++ {
-		s.charge[c] = fftGrowF(s.charge[c], s.m*s.m)
-		s.pot[c] = fftGrowF(s.pot[c], s.m*s.m)
-	}
+	s.charge = fftGrowF(s.charge, 4*s.m*s.m)
+	s.pot = fftGrowF(s.pot, 4*s.m*s.m)
 	for q := range s.half {
 		s.half[q] = fftGrowC(s.half[q], s.l*s.nsx*fftBatch)
 	}
@@ -345,16 +343,15 @@ func (s *fftState) setGrid(nb int) {
 	}
 }
 
-// setLocal fills kloc, the kernel between the nodes of one interval
-// (node a = 3·row + column).
+// setLocal fills kself, the kernel between nodes of one interval dy rows
+// and dx columns apart.
 func (s *fftState) setLocal() {
 	h := s.h / fftNodes
-	for a := 0; a < 9; a++ {
-		for b := 0; b < 9; b++ {
-			dx := float64(a%3-b%3) * h
-			dy := float64(a/3-b/3) * h
-			d := 1 + dx*dx + dy*dy
-			s.kloc[9*a+b] = 1 / (d * d)
+	for dy := 0; dy < 3; dy++ {
+		for dx := 0; dx < 3; dx++ {
+			rx, ry := float64(dx)*h, float64(dy)*h
+			d := 1 + rx*rx + ry*ry
+			s.kself[dy][dx] = 1 / (d * d)
 		}
 	}
 }
@@ -418,10 +415,8 @@ func (s *fftState) taskPrep(_, t int) {
 // within each interval, so the sums do not depend on scheduling.
 func (s *fftState) taskSpread(_, t int) {
 	m, nb := s.m, s.nb
-	for c := 0; c < 4; c++ {
-		clear(s.charge[c][3*t*m : (3*t+3)*m])
-	}
-	c0, c1, c2, c3 := s.charge[0], s.charge[1], s.charge[2], s.charge[3]
+	ch := s.charge
+	clear(ch[4*3*t*m : 4*(3*t+3)*m])
 	// Charges use coordinates relative to the grid centre (shift
 	// invariance of the kernel) to keep x² + y² small.
 	cx := s.x0 + 0.5*s.h*float64(nb)
@@ -437,11 +432,12 @@ func (s *fftState) taskSpread(_, t int) {
 				row := (3*t+a)*m + 3*bx
 				for c := 0; c < 3; c++ {
 					wc := w[3+a] * w[c]
-					k := row + c
-					c0[k] += wc
-					c1[k] += wc * x
-					c2[k] += wc * y
-					c3[k] += wc * q3
+					k := 4 * (row + c)
+					q := ch[k : k+4 : k+4]
+					q[0] += wc
+					q[1] += wc * x
+					q[2] += wc * y
+					q[3] += wc * q3
 				}
 			}
 		}
@@ -555,15 +551,15 @@ func (s *fftState) taskColsFwd(w, t int) {
 	l, m := s.l, s.m
 	q, x0 := t/s.nsx, (t%s.nsx)*fftBatch
 	nc := min(fftBatch, m-x0)
-	re, im := s.charge[2*q], s.charge[2*q+1]
+	ch := s.charge[2*q:]
 	blk := s.half[q][x0*l : (x0+fftBatch)*l]
 	for y := 0; y < m; y++ {
 		row := blk[y*fftBatch : (y+1)*fftBatch]
-		k := y*m + x0
+		k := 4 * (y*m + x0)
 		for c := range row {
 			row[c] = 0
 			if c < nc {
-				row[c] = complex(re[k+c], im[k+c])
+				row[c] = complex(ch[k+4*c], ch[k+4*c+1])
 			}
 		}
 	}
@@ -630,12 +626,13 @@ func (s *fftState) taskColsInv(w, t int) {
 	blk := s.half[q][x0*l : (x0+fftBatch)*l]
 	res, _ := wk.transform(s.plan, blk, true)
 	scale := 1 / float64(l*l)
-	re, im := s.pot[2*q], s.pot[2*q+1]
+	pot := s.pot[2*q:]
 	for y := 0; y < m; y++ {
 		for c := 0; c < nc; c++ {
 			v := res[y*fftBatch+c]
-			re[y*m+x0+c] = real(v) * scale
-			im[y*m+x0+c] = imag(v) * scale
+			k := 4 * (y*m + x0 + c)
+			pot[k] = real(v) * scale
+			pot[k+1] = imag(v) * scale
 		}
 	}
 }
@@ -645,7 +642,7 @@ func (s *fftState) taskColsInv(w, t int) {
 func (s *fftState) taskGather(_, t int) {
 	lo, hi := s.taskRange(t)
 	m, nb := s.m, s.nb
-	p0, p1, p2, p3 := s.pot[0], s.pot[1], s.pot[2], s.pot[3]
+	pot := s.pot
 	cx := s.x0 + 0.5*s.h*float64(nb)
 	cy := s.y0 + 0.5*s.h*float64(nb)
 	y := s.y
@@ -660,26 +657,32 @@ func (s *fftState) taskGather(_, t int) {
 			row := (3*by+a)*m + 3*bx
 			for c := 0; c < 3; c++ {
 				wc := w[3+a] * w[c]
-				k := row + c
-				f0 += wc * p0[k]
-				f1 += wc * p1[k]
-				f2 += wc * p2[k]
-				f3 += wc * p3[k]
+				k := 4 * (row + c)
+				q := pot[k : k+4 : k+4]
+				f0 += wc * q[0]
+				f1 += wc * q[1]
+				f2 += wc * q[2]
+				f3 += wc * q[3]
 			}
 		}
 		xi, yi := y[2*i], y[2*i+1]
 		u, v := xi-cx, yi-cy
 		// The interpolated self-interaction K̃_ii (≈ 1) is removed exactly
-		// with the same weights, so the i = j term cancels in Z.
-		var self float64
-		for a := 0; a < 9; a++ {
-			wa := w[3+a/3] * w[a%3]
-			var row float64
-			for b := 0; b < 9; b++ {
-				row += s.kloc[9*a+b] * w[3+b/3] * w[b%3]
-			}
-			self += wa * row
-		}
+		// with the same weights, so the i = j term cancels in Z:
+		// K̃_ii = Σ_{a,b} W_a W_b K(node_a − node_b) with W the tensor
+		// product of the x and y weights, which is
+		// Σ_{dx,dy ∈ 0..2} K(dx, dy)·Ax(dx)·Ay(dy), where A(d) sums the
+		// products of weights d nodes apart (both orders).
+		ax0 := w[0]*w[0] + w[1]*w[1] + w[2]*w[2]
+		ax1 := 2 * (w[0]*w[1] + w[1]*w[2])
+		ax2 := 2 * (w[0] * w[2])
+		ay0 := w[3]*w[3] + w[4]*w[4] + w[5]*w[5]
+		ay1 := 2 * (w[3]*w[4] + w[4]*w[5])
+		ay2 := 2 * (w[3] * w[5])
+		k := &s.kself
+		self := ay0*(k[0][0]*ax0+k[0][1]*ax1+k[0][2]*ax2) +
+			ay1*(k[1][0]*ax0+k[1][1]*ax1+k[1][2]*ax2) +
+			ay2*(k[2][0]*ax0+k[2][1]*ax1+k[2][2]*ax2)
 		zsum += (1+u*u+v*v)*f0 - 2*(u*f1+v*f2) + f3 - self
 		s.rep[2*i] = u*f0 - f1
 		s.rep[2*i+1] = v*f0 - f2
