@@ -297,20 +297,46 @@ func (s *nndState) initFromForest(x64 []float64) {
 		copy(s.x[i*d:(i+1)*d], x[int(o)*d:int(o+1)*d])
 	}
 	x = nil
+	// Leaf by leaf, tree after tree: the leaves of one tree are disjoint,
+	// so a task owns the lists of its leaf's members, and each pair's
+	// distance is computed once from the members' rows gathered into one
+	// buffer (at 1M points, fetching the rows per point instead made this
+	// pass wait on memory: 136 s against 4 s at 100k). The lists do not
+	// depend on the order of the offers (push orders by distance, then
+	// index), so they are the same as point by point.
+	type leafBuf struct {
+		ids  []int32
+		rows []float32
+	}
+	bufs := make(chan *leafBuf, s.threads)
+	for w := 0; w < s.threads; w++ {
+		bufs <- &leafBuf{}
+	}
+	for _, tr := range trees {
+		nndParallel(len(tr.start)-1, s.threads, func(l int) {
+			b := <-bufs
+			defer func() { bufs <- b }()
+			members := tr.perm[tr.start[l]:tr.start[l+1]]
+			b.ids, b.rows = b.ids[:0], b.rows[:0]
+			for _, jo := range members {
+				j := inv[jo]
+				b.ids = append(b.ids, j)
+				b.rows = append(b.rows, s.row(j)...)
+			}
+			for a, i := range b.ids {
+				xi := b.rows[a*d : (a+1)*d]
+				for c := a + 1; c < len(b.ids); c++ {
+					dd := nndDist(xi, b.rows[c*d:(c+1)*d])
+					s.push(int(i), b.ids[c], dd)
+					s.push(int(b.ids[c]), i, dd)
+				}
+			}
+		})
+	}
 	nndParallel((n+nndTask-1)/nndTask, s.threads, func(t int) {
 		lo, hi := t*nndTask, min((t+1)*nndTask, n)
 		for i := lo; i < hi; i++ {
 			xi := s.row(int32(i))
-			o := s.order[i]
-			for _, tr := range trees {
-				l := tr.leafOf[o]
-				for _, jo := range tr.perm[tr.start[l]:tr.start[l+1]] {
-					if jo != o {
-						j := inv[jo]
-						s.push(i, j, nndDist(xi, s.row(j)))
-					}
-				}
-			}
 			for c := uint64(0); s.idx[i*k] < 0; c++ {
 				j := int32(nndHash(s.seed, uint64(i), c, 1) % uint64(n))
 				if int(j) != i {
