@@ -32,24 +32,16 @@ const ExactMaxN = 1000
 
 // FFTMinN is the smallest number of points for which AutoMethod picks the
 // FFT-interpolation gradient. The FFT's cost follows its grid, whose size
-// follows the layout's extent (about one interval per unit), not N: on the
-// converged layout of a 20,000-point 50-d Gaussian mixture (extent 112,
-// 120 intervals) one FFT evaluation took 101 ms against 96 ms for
-// Barnes-Hut (θ = 0.5) on 2 shared cores, and its error there was larger
-// (relative RMS 0.56 against 0.066 for Barnes-Hut, measured against the
-// exact gradient; near convergence attraction and repulsion almost cancel,
-// so relative errors of the total are large). Barnes-Hut grows as
-// N log N while the FFT grid grows far more slowly than N, so the FFT
-// takes over for large N; 50,000 is set from those measurements (taken
-// before the Barnes-Hut speed-ups of the leaf-group walk). Since the AVX2
-// kernels and θ = 0.8 the threshold is out of date: a whole run on a
-// 100,000-point 50-d mixture (plumb embed, NN-descent neighbours, one run
-// each on the 2-core machine, 2026-12-02) took 78 s with Barnes-Hut (KL
-// 4.479) against 125 s with the FFT (KL 4.502), and on a 1,000,000-point
-// mixture Barnes-Hut took 1,617 s (KL 6.709, peak RSS 5.3 GiB) against
-// 1,739 s for the FFT (KL 6.726, 4.9 GiB; a build an hour older, without
-// the vectorised KL logarithm). The threshold should move once both are
-// measured on one build, together with a faster FFT.
+// follows the layout's extent (about one interval per unit, capped at 576
+// a side), not N, while Barnes-Hut grows as N log N. Measured on the
+// 2-core development machine with the batched FFT and the renumbering of
+// the points (plumb embed on a 100,000-point 50-d Gaussian mixture, NN-
+// descent neighbours, one run each, 2026-12-02): Barnes-Hut 61.1 s, KL
+// 4.479; FFT 61.1 s, KL 4.496 — the two cross near 100,000 points. At
+// 1,000,000 points the FFT run took 931 s (KL 6.729) against 1,617 s for
+// Barnes-Hut on an older build (KL 6.709), so the FFT's advantage grows
+// with N. Between 50,000 and 100,000 the two are within a few per cent; the
+// threshold stays at 50,000.
 const FFTMinN = 50000
 
 // AutoMethod returns the gradient method used when Config.Method is "" or
