@@ -40,8 +40,8 @@ const ExactMaxN = 1000
 // 4.479; FFT 61.1 s, KL 4.496 — the two cross near 100,000 points. At
 // 1,000,000 points the FFT run took 931 s (KL 6.729) against 1,617 s for
 // Barnes-Hut on an older build (KL 6.709), so the FFT's advantage grows
-// with N. Between 50,000 and 100,000 the two are within a few per cent; the
-// threshold stays at 50,000.
+// with N. Between 50,000 and 100,000 Barnes-Hut may be a little faster;
+// that range is not measured, and the threshold stays at 50,000.
 const FFTMinN = 50000
 
 // AutoMethod returns the gradient method used when Config.Method is "" or
