@@ -580,19 +580,17 @@ func (s *fftState) taskRowsConv(w, t int) {
 	nr := min(fftBatch, l-k0)
 	half := s.half[q]
 	buf := wk.buf
-	for sx := 0; sx < s.nsx; sx++ {
-		blk := half[sx*fftBatch*l+k0*fftBatch:]
-		for c := 0; c < fftBatch; c++ {
-			row := buf[(sx*fftBatch+c)*fftBatch : (sx*fftBatch+c+1)*fftBatch]
-			for r := range row {
-				row[r] = 0
-				if r < nr {
-					row[r] = blk[r*fftBatch+c]
-				}
+	for x := 0; x < m; x++ {
+		blk := half[(x/fftBatch)*fftBatch*l+k0*fftBatch+x%fftBatch:]
+		row := buf[x*fftBatch : (x+1)*fftBatch]
+		for r := range row {
+			row[r] = 0
+			if r < nr {
+				row[r] = blk[r*fftBatch]
 			}
 		}
 	}
-	clear(buf[s.nsx*fftBatch*fftBatch:])
+	clear(buf[m*fftBatch:])
 	res, _ := wk.transform(s.plan, buf, false)
 	var kyf [fftBatch]int
 	for r := 0; r < nr; r++ {

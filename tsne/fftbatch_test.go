@@ -113,3 +113,21 @@ func BenchmarkFFTPlan(b *testing.B) {
 		})
 	}
 }
+
+// TestFFTTinyGrid: grids smaller than one batch of columns (a user may set
+// MinIntervals low) still work and agree with the exact gradient on a
+// compact layout (common practice: check against the exact sum).
+func TestFFTTinyGrid(t *testing.T) {
+	const n = 60
+	p := fftTestP(n, 5, 8)
+	y := fftTestLayout("uniform", n, 0.3, 9)
+	want, _ := fftRefGradient(y, p, 1)
+	for _, nb := range []int{1, 2, 3} {
+		g := NewFFT(2)
+		g.MinIntervals = nb
+		got, _ := g.Gradient(nil, y, p, 1)
+		if e := fftRelRMS(got, want); !(e < 0.05) {
+			t.Errorf("%d intervals: relative RMS error %.3g", g.s.nb, e)
+		}
+	}
+}
