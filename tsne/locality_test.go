@@ -1,44 +1,10 @@
 package tsne
 
 import (
-	"encoding/csv"
 	"math"
-	"os"
 	"slices"
-	"strconv"
 	"testing"
 )
-
-// digitsX reads the features of testdata/digits.csv (columns other than
-// id and digit).
-func digitsX(t *testing.T) (x []float64, n, d int) {
-	t.Helper()
-	f, err := os.Open("../testdata/digits.csv")
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	rows, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
-	var cols []int
-	for c, h := range rows[0] {
-		if h != "id" && h != "digit" {
-			cols = append(cols, c)
-		}
-	}
-	for _, r := range rows[1:] {
-		for _, c := range cols {
-			v, err := strconv.ParseFloat(r[c], 64)
-			if err != nil {
-				t.Fatal(err)
-			}
-			x = append(x, v)
-		}
-	}
-	return x, len(rows) - 1, len(cols)
-}
 
 // TestLocalityOrderDigits renumbers the neighbour graph of the digits data
 // (UCI optical recognition of handwritten digits, the copy shipped with
@@ -49,7 +15,7 @@ func digitsX(t *testing.T) (x []float64, n, d int) {
 // McKee 1969 — breadth-first numbering reduces a sparse matrix's
 // bandwidth).
 func TestLocalityOrderDigits(t *testing.T) {
-	x, n, d := digitsX(t)
+	x, n, d := initTestFeatures(t, "digits.csv", "digit")
 	const k = 90
 	nb, err := ExactNeighbors(x, n, d, k, 2)
 	if err != nil {
@@ -105,7 +71,7 @@ func TestLocalityOrderDigits(t *testing.T) {
 // up to rounding (the sums run in another order); the layout handed to a
 // Progress callback is in input order and the final one equals Result.Y.
 func TestEmbedLocalityInvariant(t *testing.T) {
-	x, n, d := digitsX(t)
+	x, n, d := initTestFeatures(t, "digits.csv", "digit")
 	cfg := EmbedConfig{Config: Config{Iters: 100, ExaggerationIters: 50, Method: MethodExact, Threads: 2}, Init: InitPCA, Neighbors: "exact"}
 	plain, err := Embed(x, n, d, cfg)
 	if err != nil {
