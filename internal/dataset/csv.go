@@ -74,11 +74,12 @@ func (b *builder) reserve(size, used int64) {
 	if used <= 0 || size <= used {
 		return
 	}
-	est := int(float64(b.n)*float64(size)/float64(used)*1.05) + 1
+	estF := float64(b.n)*float64(size)/float64(used)*1.05 + 1
 	d := len(b.plan.features)
-	if est > 1<<31/max(d, 1) {
+	if estF*float64(max(d, 1)) > 1<<31 {
 		return // implausible; let append decide
 	}
+	est := int(estF)
 	b.x = slices.Grow(b.x, est*d-len(b.x))
 	if b.plan.id >= 0 {
 		b.ids = slices.Grow(b.ids, est-len(b.ids))
