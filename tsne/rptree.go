@@ -20,11 +20,10 @@ import (
 //	manifolds", STOC 2008.
 
 // rptTree is one tree's partition: perm lists the points leaf by leaf,
-// leaf i is perm[start[i]:start[i+1]], and leafOf maps a point to its leaf.
+// and leaf i is perm[start[i]:start[i+1]].
 type rptTree struct {
-	perm   []int32
-	start  []int32
-	leafOf []int32
+	perm  []int32
+	start []int32
 }
 
 // rptBuild builds tree t of the forest for the n×d float32 points x.
@@ -51,13 +50,7 @@ func rptBuild(x []float32, n, d, leafSize int, seed uint64, t int) rptTree {
 		stack = append(stack, span{s.lo + mid, s.hi}, span{s.lo, s.lo + mid})
 	}
 	starts = append(starts, int32(n))
-	leafOf := make([]int32, n)
-	for l := 0; l+1 < len(starts); l++ {
-		for _, i := range perm[starts[l]:starts[l+1]] {
-			leafOf[i] = int32(l)
-		}
-	}
-	return rptTree{perm: perm, start: starts, leafOf: leafOf}
+	return rptTree{perm: perm, start: starts}
 }
 
 // rptSplit partitions idx in place by a random hyperplane and returns the
