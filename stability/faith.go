@@ -5,10 +5,9 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"runtime"
 	"slices"
-	"sync"
-	"sync/atomic"
+
+	"plumb/internal/par"
 )
 
 // Default sizes for the faithfulness scores.
@@ -304,7 +303,7 @@ func faithfulnessBatch(x []float64, d int, ys [][]float64, k int, opt Options, w
 	var trees []*kdTree
 	if w.trust || w.recall {
 		trees = make([]*kdTree, nl)
-		eachParallel(nl, opt.Threads, func(l int) { trees[l] = newKDTree(ys[l]) })
+		par.Each(nl, opt.Threads, func(l int) { trees[l] = newKDTree(ys[l]) })
 	}
 	// Sums per layout and chunk of queries, [l*nChunks+c]; each chunk is
 	// handled by one worker, which alone writes its entries.
@@ -485,38 +484,6 @@ func faithfulnessBatch(x []float64, d int, ys [][]float64, k int, opt Options, w
 		}
 	}
 	return out, nil
-}
-
-// eachParallel runs f(i) for every i in [0, n) on up to threads goroutines
-// (0 means GOMAXPROCS), handing out one item at a time. f must write only
-// to per-item outputs.
-func eachParallel(n, threads int, f func(i int)) {
-	if threads <= 0 {
-		threads = runtime.GOMAXPROCS(0)
-	}
-	nw := max(1, min(threads, n))
-	if nw == 1 {
-		for i := 0; i < n; i++ {
-			f(i)
-		}
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for w := 0; w < nw; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				i := int(next.Add(1)) - 1
-				if i >= n {
-					return
-				}
-				f(i)
-			}
-		}()
-	}
-	wg.Wait()
 }
 
 // listPenalty returns Σ_j max(0, r(i,j) − k) over the map neighbours j of

@@ -4,8 +4,8 @@ import (
 	"math"
 	"runtime"
 	"slices"
-	"sync"
-	"sync/atomic"
+
+	"plumb/internal/par"
 )
 
 // ApproxMinN is the smallest n for which ApproxNeighbors runs NN-descent;
@@ -145,33 +145,6 @@ func newNNDState(n, d, k int, seed uint64, threads int) *nndState {
 	return s
 }
 
-// nndParallel runs fn(t) for t in [0, ntask) on up to threads goroutines.
-func nndParallel(ntask, threads int, fn func(t int)) {
-	workers := max(1, min(threads, ntask))
-	if workers == 1 {
-		for t := 0; t < ntask; t++ {
-			fn(t)
-		}
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for w := 0; w < workers; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				t := int(next.Add(1) - 1)
-				if t >= ntask {
-					return
-				}
-				fn(t)
-			}
-		}()
-	}
-	wg.Wait()
-}
-
 // nndHash mixes its arguments with the SplitMix64 finaliser (Steele, Lea &
 // Flood, "Fast splittable pseudorandom number generators", OOPSLA 2014).
 func nndHash(a, b, c, e uint64) uint64 {
@@ -284,7 +257,7 @@ func (s *nndState) initFromForest(x64 []float64) {
 	ntrees := nndTrees(n)
 	leafSize := max(k, 32)
 	trees := make([]rptTree, ntrees)
-	nndParallel(ntrees, s.threads, func(t int) {
+	par.Each(ntrees, s.threads, func(t int) {
 		trees[t] = rptBuild(x, n, d, leafSize, s.seed, t)
 	})
 	s.order = trees[0].perm
@@ -313,7 +286,7 @@ func (s *nndState) initFromForest(x64 []float64) {
 		bufs <- &leafBuf{}
 	}
 	for _, tr := range trees {
-		nndParallel(len(tr.start)-1, s.threads, func(l int) {
+		par.Each(len(tr.start)-1, s.threads, func(l int) {
 			b := <-bufs
 			defer func() { bufs <- b }()
 			members := tr.perm[tr.start[l]:tr.start[l+1]]
@@ -333,7 +306,7 @@ func (s *nndState) initFromForest(x64 []float64) {
 			}
 		})
 	}
-	nndParallel((n+nndTask-1)/nndTask, s.threads, func(t int) {
+	par.Each((n+nndTask-1)/nndTask, s.threads, func(t int) {
 		lo, hi := t*nndTask, min((t+1)*nndTask, n)
 		for i := lo; i < hi; i++ {
 			xi := s.row(int32(i))
@@ -412,7 +385,7 @@ func (s *nndState) round(r int) int64 {
 	// scans every list entry (i → j) for ends in its range, so each
 	// candidate heap is filled by one goroutine in a fixed order.
 	per := (n + nndBuckets - 1) / nndBuckets
-	nndParallel(nndBuckets, s.threads, func(b int) {
+	par.Each(nndBuckets, s.threads, func(b int) {
 		lo, hi := b*per, min((b+1)*per, n)
 		for i := 0; i < n; i++ {
 			own := i >= lo && i < hi
@@ -437,7 +410,7 @@ func (s *nndState) round(r int) int64 {
 	})
 	// Entries sampled as new candidates become old.
 	m := s.maxCand
-	nndParallel((n+nndTask-1)/nndTask, s.threads, func(t int) {
+	par.Each((n+nndTask-1)/nndTask, s.threads, func(t int) {
 		lo, hi := t*nndTask, min((t+1)*nndTask, n)
 		for i := lo; i < hi; i++ {
 			cand := s.newC[i*m : i*m+int(s.newCnt[i])]
@@ -456,7 +429,7 @@ func (s *nndState) round(r int) int64 {
 	for b0 := 0; b0 < n; b0 += nndBatch {
 		b1 := min(b0+nndBatch, n)
 		ntask := (b1 - b0 + nndTask - 1) / nndTask
-		nndParallel(ntask, s.threads, func(t int) {
+		par.Each(ntask, s.threads, func(t int) {
 			buf := &s.upd[t]
 			for q := range buf {
 				buf[q] = buf[q][:0]
@@ -478,7 +451,7 @@ func (s *nndState) round(r int) int64 {
 				}
 			}
 		})
-		nndParallel(nndBuckets, s.threads, func(q int) {
+		par.Each(nndBuckets, s.threads, func(q int) {
 			var c int64
 			for t := 0; t < ntask; t++ {
 				for _, u := range s.upd[t][q] {
@@ -518,7 +491,7 @@ func (s *nndState) output(x []float64) *Neighbors {
 		sq float64
 		j  int32
 	}
-	nndParallel((n+nndTask-1)/nndTask, s.threads, func(t int) {
+	par.Each((n+nndTask-1)/nndTask, s.threads, func(t int) {
 		lo, hi := t*nndTask, min((t+1)*nndTask, n)
 		rows := make([]pair, k)
 		for i := lo; i < hi; i++ {
