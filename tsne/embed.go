@@ -80,9 +80,7 @@ func Embed(x []float64, n, d int, cfg EmbedConfig) (*Result, error) {
 		// The callback sees the layout in input order.
 		buf := make([]float64, 2*n)
 		cfg.Progress = func(pr Progress) bool {
-			for r, o := range order {
-				buf[2*o], buf[2*o+1] = pr.Y[2*r], pr.Y[2*r+1]
-			}
+			unpermuteInto(buf, pr.Y, order)
 			pr.Y = buf
 			return user(pr)
 		}

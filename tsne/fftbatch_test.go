@@ -15,10 +15,7 @@ import (
 // (Coefficients) and inverse (Sequence), to 1e-12 relative RMS.
 func TestFFTPlanMatchesGonum(t *testing.T) {
 	r := rand.New(rand.NewPCG(3, 9))
-	for _, n := range []int{1, 2, 3, 4, 6, 8, 9, 12, 16, 27, 48, 64, 96, 300 / 3 * 3, 324, 384, 1296, 3456} {
-		if !fftPlanOK(n) {
-			continue
-		}
+	for _, n := range []int{1, 2, 3, 4, 6, 8, 9, 12, 16, 27, 48, 64, 96, 324, 384, 1296, 3456} {
 		pl := newFFTPlan(n)
 		ref := fourier.NewCmplxFFT(n)
 		x := make([]complex128, n*fftBatch)
@@ -116,7 +113,10 @@ func BenchmarkFFTPlan(b *testing.B) {
 
 // TestFFTTinyGrid: grids smaller than one batch of columns (a user may set
 // MinIntervals low) still work and agree with the exact gradient on a
-// compact layout (common practice: check against the exact sum).
+// compact layout (common practice: check against the exact sum). Measured
+// relative RMS errors 2.6e-2, 3.8e-3 and 1.2e-3 for 1, 2 and 3 intervals;
+// the bound 0.05 is the worst of them rounded up (no source). Before the
+// row pass gathered only the grid's columns, these grids panicked.
 func TestFFTTinyGrid(t *testing.T) {
 	const n = 60
 	p := fftTestP(n, 5, 8)
@@ -126,7 +126,9 @@ func TestFFTTinyGrid(t *testing.T) {
 		g := NewFFT(2)
 		g.MinIntervals = nb
 		got, _ := g.Gradient(nil, y, p, 1)
-		if e := fftRelRMS(got, want); !(e < 0.05) {
+		e := fftRelRMS(got, want)
+		t.Logf("%d intervals: relative RMS error %.3g", g.s.nb, e)
+		if !(e < 0.05) {
 			t.Errorf("%d intervals: relative RMS error %.3g", g.s.nb, e)
 		}
 	}

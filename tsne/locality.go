@@ -121,12 +121,17 @@ func PermuteLayout(y []float64, order []int32) []float64 {
 // UnpermuteLayout undoes PermuteLayout: point order[r] of the result is
 // point r of y.
 func UnpermuteLayout(y []float64, order []int32) []float64 {
-	if len(y) != 2*len(order) {
+	out := make([]float64, len(y))
+	unpermuteInto(out, y, order)
+	return out
+}
+
+// unpermuteInto writes UnpermuteLayout(y, order) into dst.
+func unpermuteInto(dst, y []float64, order []int32) {
+	if len(y) != 2*len(order) || len(dst) != len(y) {
 		panic("tsne: layout and permutation sizes differ")
 	}
-	out := make([]float64, len(y))
 	for r, o := range order {
-		out[2*o], out[2*o+1] = y[2*r], y[2*r+1]
+		dst[2*o], dst[2*o+1] = y[2*r], y[2*r+1]
 	}
-	return out
 }
