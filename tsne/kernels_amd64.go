@@ -6,8 +6,10 @@ package tsne
 // selects them (kernels_amd64.s). Tests switch useAVX2 off to compare them
 // with the generic Go code.
 var (
-	asmOK   = hasAVX2()
-	useAVX2 = asmOK
+	asmOK     = hasAVX2()
+	useAVX2   = asmOK
+	avx512OK  = asmOK && hasAVX512()
+	useAVX512 = avx512OK
 )
 
 // hasAVX2 reports whether the CPU and the operating system support AVX2
@@ -30,11 +32,27 @@ func hasAVX2() bool {
 	return ebx7&(1<<5) != 0
 }
 
+// hasAVX512 reports whether the CPU and the operating system support
+// AVX-512 Foundation (CPUID leaf 7 EBX bit 16, and the opmask and ZMM
+// states enabled in XCR0 besides SSE and AVX). Call only when hasAVX2 is
+// true.
+func hasAVX512() bool {
+	_, ebx7, _, _ := cpuid(7, 0)
+	if ebx7&(1<<16) == 0 {
+		return false
+	}
+	xcr0, _ := xgetbv()
+	return xcr0&0xe6 == 0xe6
+}
+
 func cpuid(leaf, sub uint32) (eax, ebx, ecx, edx uint32)
 func xgetbv() (eax, edx uint32)
 
 //go:noescape
-func direct4AVX2(xi, yi float64, ys []float64) (z, rx, ry float64)
+func direct8AVX2(xi, yi float64, ys []float64) (z, rx, ry float64)
+
+//go:noescape
+func direct8AVX512(xi, yi float64, ys []float64) (z, rx, ry float64)
 
 //go:noescape
 func attract4AVX2(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64)
@@ -49,9 +67,14 @@ func sqDistRowAVX2(q, x, out []float64)
 func klRow4AVX2(y []float64, col []int32, val []float64, xi, yi float64) float64
 
 //go:noescape
-func cells4AVX2(xi, yi float64, blk []float64) (z, rx, ry float64)
+func cells8AVX2(xi, yi float64, blk []float64) (z, rx, ry float64)
+
+//go:noescape
+func cells8AVX512(xi, yi float64, blk []float64) (z, rx, ry float64)
 
 func sqDist32AVX2(a, b []float32) float32
 
-// hasAsmKernels reports whether the assembly kernels can run here.
-func hasAsmKernels() bool { return asmOK }
+// hasAsmKernels reports whether the assembly kernels can run here;
+// hasAVX512Kernels whether the AVX-512 ones can too.
+func hasAsmKernels() bool    { return asmOK }
+func hasAVX512Kernels() bool { return avx512OK }

@@ -71,6 +71,16 @@ GLOBL kfour<>(SB), RODATA|NOPTR, $32
 	VMOVSD X4, rx+48(FP) \
 	VMOVSD X5, ry+56(FP)
 
+// HALVES3 adds the upper four lanes of Z3, Z4, Z5 to their lower four
+// (lane l + 4 to lane l), leaving the sums in Y3, Y4, Y5.
+#define HALVES3 \
+	VEXTRACTF64X4 $1, Z3, Y6 \
+	VADDPD        Y6, Y3, Y3 \
+	VEXTRACTF64X4 $1, Z4, Y6 \
+	VADDPD        Y6, Y4, Y4 \
+	VEXTRACTF64X4 $1, Z5, Y6 \
+	VADDPD        Y6, Y5, Y5
+
 // func cpuid(leaf, sub uint32) (eax, ebx, ecx, edx uint32)
 TEXT ·cpuid(SB), NOSPLIT, $0-24
 	MOVL leaf+0(FP), AX
@@ -88,47 +98,6 @@ TEXT ·xgetbv(SB), NOSPLIT, $0-8
 	XGETBV
 	MOVL AX, eax+0(FP)
 	MOVL DX, edx+4(FP)
-	RET
-
-// func direct4AVX2(xi, yi float64, ys []float64) (z, rx, ry float64)
-// len(ys) is a multiple of 8 (whole blocks of four points).
-TEXT ·direct4AVX2(SB), NOSPLIT, $0-64
-	VBROADCASTSD xi+0(FP), Y0
-	VBROADCASTSD yi+8(FP), Y1
-	VMOVUPD      kone<>(SB), Y2
-	VXORPD       Y3, Y3, Y3        // z
-	VXORPD       Y4, Y4, Y4        // rx
-	VXORPD       Y5, Y5, Y5        // ry
-	MOVQ         ys_base+16(FP), SI
-	MOVQ         ys_len+24(FP), CX
-	SHRQ         $3, CX
-	JZ           ddone
-
-dloop:
-	VMOVUPD   0(SI), Y6            // x0 y0 x1 y1
-	VMOVUPD   32(SI), Y7           // x2 y2 x3 y3
-	VUNPCKLPD Y7, Y6, Y8           // x0 x2 x1 x3
-	VUNPCKHPD Y7, Y6, Y9           // y0 y2 y1 y3
-	VSUBPD    Y8, Y0, Y8           // dx = xi − x
-	VSUBPD    Y9, Y1, Y9           // dy = yi − y
-	VMULPD    Y8, Y8, Y10
-	VADDPD    Y10, Y2, Y10         // 1 + dx²
-	VMULPD    Y9, Y9, Y11
-	VADDPD    Y11, Y10, Y10        // (1 + dx²) + dy²
-	VDIVPD    Y10, Y2, Y10         // w = 1/u
-	VADDPD    Y10, Y3, Y3          // z += w
-	VMULPD    Y10, Y10, Y10        // w²
-	VMULPD    Y10, Y8, Y8
-	VADDPD    Y8, Y4, Y4           // rx += w²·dx
-	VMULPD    Y10, Y9, Y9
-	VADDPD    Y9, Y5, Y5           // ry += w²·dy
-	ADDQ      $64, SI
-	DECQ      CX
-	JNZ       dloop
-
-ddone:
-	REDUCE3
-	VZEROUPPER
 	RET
 
 // func attract4AVX2(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64)
@@ -167,79 +136,287 @@ adone:
 	VZEROUPPER
 	RET
 
-// func cells4AVX2(xi, yi float64, blk []float64) (z, rx, ry float64)
-// blk holds whole blocks of 28 float64s: cx, cy, mass, tr, mxx, mxy, myy,
-// four lanes each (see cellList).
-TEXT ·cells4AVX2(SB), NOSPLIT, $0-64
+// DIRECT4(OFF, Z, X, Y) adds the direct sums of four points of the block
+// at SI to the lanes of Z, X, Y (xi, yi in Y0, Y1; 1.0 in Y2; Y6–Y11
+// scratch): the points at byte offsets OFF and OFF + 64, so that the lanes
+// hold block positions (0, 4, 1, 5) for OFF = 0 and (2, 6, 3, 7) for
+// OFF = 32, as in the AVX-512 kernel's halves.
+#define DIRECT4(OFF, Z, X, Y) \
+	VMOVUPD   OFF(SI), Y6 \
+	VMOVUPD   (OFF+64)(SI), Y7 \
+	VUNPCKLPD Y7, Y6, Y8 \
+	VUNPCKHPD Y7, Y6, Y9 \
+	VSUBPD    Y8, Y0, Y8 \
+	VSUBPD    Y9, Y1, Y9 \
+	VMULPD    Y8, Y8, Y10 \
+	VADDPD    Y10, Y2, Y10 \
+	VMULPD    Y9, Y9, Y11 \
+	VADDPD    Y11, Y10, Y10 \
+	VDIVPD    Y10, Y2, Y10 \
+	VADDPD    Y10, Z, Z \
+	VMULPD    Y10, Y10, Y10 \
+	VMULPD    Y10, Y8, Y8 \
+	VADDPD    Y8, X, X \
+	VMULPD    Y10, Y9, Y9 \
+	VADDPD    Y9, Y, Y
+
+// func direct8AVX2(xi, yi float64, ys []float64) (z, rx, ry float64)
+// len(ys) is a multiple of 16 (whole blocks of eight points). Two sets of
+// four lanes, added lane by lane before the reduction (see direct8Generic).
+TEXT ·direct8AVX2(SB), NOSPLIT, $0-64
 	VBROADCASTSD xi+0(FP), Y0
 	VBROADCASTSD yi+8(FP), Y1
-	VXORPD       Y3, Y3, Y3        // z
+	VMOVUPD      kone<>(SB), Y2
+	VXORPD       Y3, Y3, Y3        // z, positions 0 4 1 5
 	VXORPD       Y4, Y4, Y4        // rx
 	VXORPD       Y5, Y5, Y5        // ry
-	MOVQ         blk_base+16(FP), SI
-	MOVQ         blk_len+24(FP), AX
-	XORQ         DX, DX
-	MOVQ         $28, CX
-	DIVQ         CX                // AX = number of blocks
-	MOVQ         AX, CX
-	TESTQ        CX, CX
-	JZ           cdone
+	VXORPD       Y12, Y12, Y12     // z, positions 2 6 3 7
+	VXORPD       Y13, Y13, Y13
+	VXORPD       Y14, Y14, Y14
+	MOVQ         ys_base+16(FP), SI
+	MOVQ         ys_len+24(FP), CX
+	SHRQ         $4, CX
+	JZ           d8done
 
-cloop:
-	VMOVUPD 0(SI), Y6
-	VSUBPD  Y6, Y0, Y6             // dx = xi − cx
-	VMOVUPD 32(SI), Y7
-	VSUBPD  Y7, Y1, Y7             // dy = yi − cy
-	VMULPD  Y6, Y6, Y8
-	VADDPD  kone<>(SB), Y8, Y8     // 1 + dx²
-	VMULPD  Y7, Y7, Y9
-	VADDPD  Y9, Y8, Y8             // u
-	VMOVUPD kone<>(SB), Y9
-	VDIVPD  Y8, Y9, Y8             // w = 1/u
-	VMULPD  Y8, Y8, Y9             // w2
-	VMULPD  Y8, Y9, Y10            // w3 = w2·w
-	VMULPD  128(SI), Y6, Y12       // mxx·dx
-	VMULPD  160(SI), Y7, Y13       // mxy·dy
-	VADDPD  Y13, Y12, Y12          // mdx
-	VMULPD  160(SI), Y6, Y13       // mxy·dx
-	VMULPD  192(SI), Y7, Y14       // myy·dy
-	VADDPD  Y14, Y13, Y13          // mdy
-	VMULPD  Y12, Y6, Y14           // dx·mdx
-	VMULPD  Y13, Y7, Y2            // dy·mdy
-	VADDPD  Y2, Y14, Y14
-	VMULPD  kfour<>(SB), Y14, Y14  // 4·(…)
-	VMULPD  Y10, Y14, Y14          // q = 4·(…)·w3
-	VMULPD  kfour<>(SB), Y10, Y10  // f = 4·w3
-	VMULPD  64(SI), Y8, Y2         // mass·w
-	VMULPD  96(SI), Y9, Y11        // tr·w2
-	VSUBPD  Y11, Y2, Y2
-	VADDPD  Y14, Y2, Y2
-	VADDPD  Y2, Y3, Y3             // z += mass·w − tr·w2 + q
-	VMOVUPD 96(SI), Y11
-	VMULPD  ktwo<>(SB), Y11, Y11   // 2·tr
-	VMULPD  Y8, Y11, Y11           // 2·tr·w
-	VMOVUPD 64(SI), Y2
-	VSUBPD  Y11, Y2, Y2            // mass − 2·tr·w
-	VMULPD  Y2, Y9, Y2             // w2·(…)
-	VMULPD  kthree<>(SB), Y14, Y11 // 3·q
-	VMULPD  Y8, Y11, Y11           // 3·q·w
-	VADDPD  Y11, Y2, Y2            // s
-	VMULPD  Y6, Y2, Y11            // s·dx
-	VMULPD  Y10, Y12, Y12          // f·mdx
-	VSUBPD  Y12, Y11, Y11
-	VADDPD  Y11, Y4, Y4            // rx += s·dx − f·mdx
-	VMULPD  Y7, Y2, Y11            // s·dy
-	VMULPD  Y10, Y13, Y13          // f·mdy
-	VSUBPD  Y13, Y11, Y11
-	VADDPD  Y11, Y5, Y5            // ry += s·dy − f·mdy
-	ADDQ    $224, SI
-	DECQ    CX
-	JNZ     cloop
+d8loop:
+	DIRECT4(0, Y3, Y4, Y5)
+	DIRECT4(32, Y12, Y13, Y14)
+	ADDQ $128, SI
+	DECQ CX
+	JNZ  d8loop
 
-cdone:
+d8done:
+	VADDPD Y12, Y3, Y3
+	VADDPD Y13, Y4, Y4
+	VADDPD Y14, Y5, Y5
 	REDUCE3
 	VZEROUPPER
 	RET
+
+// func direct8AVX512(xi, yi float64, ys []float64) (z, rx, ry float64)
+// As direct8AVX2 with the eight lanes in one register (positions 0, 4, 1,
+// 5, 2, 6, 3, 7); the upper half is added to the lower before the
+// four-lane reduction.
+TEXT ·direct8AVX512(SB), NOSPLIT, $0-64
+	VBROADCASTSD xi+0(FP), Z0
+	VBROADCASTSD yi+8(FP), Z1
+	VBROADCASTSD kone<>(SB), Z2
+	VXORPD       Z3, Z3, Z3
+	VXORPD       Z4, Z4, Z4
+	VXORPD       Z5, Z5, Z5
+	MOVQ         ys_base+16(FP), SI
+	MOVQ         ys_len+24(FP), CX
+	SHRQ         $4, CX
+	JZ           z8done
+
+z8loop:
+	VMOVUPD   0(SI), Z6            // points 0–3
+	VMOVUPD   64(SI), Z7           // points 4–7
+	VUNPCKLPD Z7, Z6, Z8           // x0 x4 x1 x5 x2 x6 x3 x7
+	VUNPCKHPD Z7, Z6, Z9           // y in the same order
+	VSUBPD    Z8, Z0, Z8
+	VSUBPD    Z9, Z1, Z9
+	VMULPD    Z8, Z8, Z10
+	VADDPD    Z10, Z2, Z10
+	VMULPD    Z9, Z9, Z11
+	VADDPD    Z11, Z10, Z10
+	VDIVPD    Z10, Z2, Z10
+	VADDPD    Z10, Z3, Z3
+	VMULPD    Z10, Z10, Z10
+	VMULPD    Z10, Z8, Z8
+	VADDPD    Z8, Z4, Z4
+	VMULPD    Z10, Z9, Z9
+	VADDPD    Z9, Z5, Z5
+	ADDQ      $128, SI
+	DECQ      CX
+	JNZ       z8loop
+
+z8done:
+	HALVES3
+	REDUCE3
+	VZEROUPPER
+	RET
+
+// CELLS4(OFF) adds the expansions of four cells of the block at SI, the
+// lanes at byte offset OFF of each 64-byte field, to Y3 (z), Y4 (rx) and
+// Y5 (ry) (xi, yi in Y0, Y1; Y2, Y6–Y14 scratch). Block layout as in
+// cellList: cx, cy, mass, tr, mxx, mxy, myy at 0, 64, …, 384.
+#define CELLS4(OFF) \
+	VMOVUPD (OFF)(SI), Y6 \
+	VSUBPD  Y6, Y0, Y6 \
+	VMOVUPD (OFF+64)(SI), Y7 \
+	VSUBPD  Y7, Y1, Y7 \
+	VMULPD  Y6, Y6, Y8 \
+	VADDPD  kone<>(SB), Y8, Y8 \
+	VMULPD  Y7, Y7, Y9 \
+	VADDPD  Y9, Y8, Y8 \
+	VMOVUPD kone<>(SB), Y9 \
+	VDIVPD  Y8, Y9, Y8 \
+	VMULPD  Y8, Y8, Y9 \
+	VMULPD  Y8, Y9, Y10 \
+	VMULPD  (OFF+256)(SI), Y6, Y12 \
+	VMULPD  (OFF+320)(SI), Y7, Y13 \
+	VADDPD  Y13, Y12, Y12 \
+	VMULPD  (OFF+320)(SI), Y6, Y13 \
+	VMULPD  (OFF+384)(SI), Y7, Y14 \
+	VADDPD  Y14, Y13, Y13 \
+	VMULPD  Y12, Y6, Y14 \
+	VMULPD  Y13, Y7, Y2 \
+	VADDPD  Y2, Y14, Y14 \
+	VMULPD  kfour<>(SB), Y14, Y14 \
+	VMULPD  Y10, Y14, Y14 \
+	VMULPD  kfour<>(SB), Y10, Y10 \
+	VMULPD  (OFF+128)(SI), Y8, Y2 \
+	VMULPD  (OFF+192)(SI), Y9, Y11 \
+	VSUBPD  Y11, Y2, Y2 \
+	VADDPD  Y14, Y2, Y2 \
+	VADDPD  Y2, Y3, Y3 \
+	VMOVUPD (OFF+192)(SI), Y11 \
+	VMULPD  ktwo<>(SB), Y11, Y11 \
+	VMULPD  Y8, Y11, Y11 \
+	VMOVUPD (OFF+128)(SI), Y2 \
+	VSUBPD  Y11, Y2, Y2 \
+	VMULPD  Y2, Y9, Y2 \
+	VMULPD  kthree<>(SB), Y14, Y11 \
+	VMULPD  Y8, Y11, Y11 \
+	VADDPD  Y11, Y2, Y2 \
+	VMULPD  Y6, Y2, Y11 \
+	VMULPD  Y10, Y12, Y12 \
+	VSUBPD  Y12, Y11, Y11 \
+	VADDPD  Y11, Y4, Y4 \
+	VMULPD  Y7, Y2, Y11 \
+	VMULPD  Y10, Y13, Y13 \
+	VSUBPD  Y13, Y11, Y11 \
+	VADDPD  Y11, Y5, Y5
+
+// func cells8AVX2(xi, yi float64, blk []float64) (z, rx, ry float64)
+// blk holds whole blocks of 56 float64s (see cellList). Lanes 0–3 of every
+// block are summed first, then lanes 4–7 (the registers do not hold both
+// sets of accumulators); the two sets are added lane by lane before the
+// reduction (see cells8Generic). Per cell and lane the operations are
+// those of cells8Generic: mdx = mxx·dx + mxy·dy, q = 4·(dx·mdx + dy·mdy)·w³,
+// z += (mass·w − tr·w²) + q, s = w²·(mass − 2·tr·w) + 3·q·w,
+// r += s·Δ − 4·w³·MΔ.
+TEXT ·cells8AVX2(SB), NOSPLIT, $96-64
+	VBROADCASTSD xi+0(FP), Y0
+	VBROADCASTSD yi+8(FP), Y1
+	MOVQ         blk_base+16(FP), SI
+	MOVQ         blk_len+24(FP), AX
+	XORQ         DX, DX
+	MOVQ         $56, CX
+	DIVQ         CX                // AX = number of blocks
+	MOVQ         AX, BX
+	VXORPD       Y3, Y3, Y3
+	VXORPD       Y4, Y4, Y4
+	VXORPD       Y5, Y5, Y5
+	TESTQ        BX, BX
+	JZ           c8done
+	MOVQ         BX, CX
+
+c8lo:
+	CELLS4(0)
+	ADDQ $448, SI
+	DECQ CX
+	JNZ  c8lo
+	VMOVUPD Y3, lo_z-96(SP)
+	VMOVUPD Y4, lo_x-64(SP)
+	VMOVUPD Y5, lo_y-32(SP)
+	VXORPD  Y3, Y3, Y3
+	VXORPD  Y4, Y4, Y4
+	VXORPD  Y5, Y5, Y5
+	MOVQ    blk_base+16(FP), SI
+	MOVQ    BX, CX
+
+c8hi:
+	CELLS4(32)
+	ADDQ $448, SI
+	DECQ CX
+	JNZ  c8hi
+	VADDPD lo_z-96(SP), Y3, Y3
+	VADDPD lo_x-64(SP), Y4, Y4
+	VADDPD lo_y-32(SP), Y5, Y5
+
+c8done:
+	REDUCE3
+	VZEROUPPER
+	RET
+
+// func cells8AVX512(xi, yi float64, blk []float64) (z, rx, ry float64)
+// As cells8AVX2 with the eight lanes of a block in one register.
+TEXT ·cells8AVX512(SB), NOSPLIT, $0-64
+	VBROADCASTSD xi+0(FP), Z0
+	VBROADCASTSD yi+8(FP), Z1
+	VBROADCASTSD kone<>(SB), Z19
+	VBROADCASTSD ktwo<>(SB), Z16
+	VBROADCASTSD kthree<>(SB), Z17
+	VBROADCASTSD kfour<>(SB), Z18
+	VXORPD       Z3, Z3, Z3
+	VXORPD       Z4, Z4, Z4
+	VXORPD       Z5, Z5, Z5
+	MOVQ         blk_base+16(FP), SI
+	MOVQ         blk_len+24(FP), AX
+	XORQ         DX, DX
+	MOVQ         $56, CX
+	DIVQ         CX
+	MOVQ         AX, CX
+	TESTQ        CX, CX
+	JZ           cz8done
+
+cz8loop:
+	VMOVUPD 0(SI), Z6
+	VSUBPD  Z6, Z0, Z6             // dx = xi − cx
+	VMOVUPD 64(SI), Z7
+	VSUBPD  Z7, Z1, Z7             // dy = yi − cy
+	VMULPD  Z6, Z6, Z8
+	VADDPD  Z19, Z8, Z8            // 1 + dx²
+	VMULPD  Z7, Z7, Z9
+	VADDPD  Z9, Z8, Z8             // u
+	VDIVPD  Z8, Z19, Z8            // w = 1/u
+	VMULPD  Z8, Z8, Z9             // w2
+	VMULPD  Z8, Z9, Z10            // w3 = w2·w
+	VMULPD  256(SI), Z6, Z12       // mxx·dx
+	VMULPD  320(SI), Z7, Z13       // mxy·dy
+	VADDPD  Z13, Z12, Z12          // mdx
+	VMULPD  320(SI), Z6, Z13       // mxy·dx
+	VMULPD  384(SI), Z7, Z14       // myy·dy
+	VADDPD  Z14, Z13, Z13          // mdy
+	VMULPD  Z12, Z6, Z14           // dx·mdx
+	VMULPD  Z13, Z7, Z2            // dy·mdy
+	VADDPD  Z2, Z14, Z14
+	VMULPD  Z18, Z14, Z14          // 4·(…)
+	VMULPD  Z10, Z14, Z14          // q = 4·(…)·w3
+	VMULPD  Z18, Z10, Z10          // f = 4·w3
+	VMULPD  128(SI), Z8, Z2        // mass·w
+	VMULPD  192(SI), Z9, Z11       // tr·w2
+	VSUBPD  Z11, Z2, Z2
+	VADDPD  Z14, Z2, Z2
+	VADDPD  Z2, Z3, Z3             // z += mass·w − tr·w2 + q
+	VMULPD  192(SI), Z16, Z11      // 2·tr
+	VMULPD  Z8, Z11, Z11           // 2·tr·w
+	VMOVUPD 128(SI), Z2
+	VSUBPD  Z11, Z2, Z2            // mass − 2·tr·w
+	VMULPD  Z2, Z9, Z2             // w2·(…)
+	VMULPD  Z17, Z14, Z11          // 3·q
+	VMULPD  Z8, Z11, Z11           // 3·q·w
+	VADDPD  Z11, Z2, Z2            // s
+	VMULPD  Z6, Z2, Z11            // s·dx
+	VMULPD  Z10, Z12, Z12          // f·mdx
+	VSUBPD  Z12, Z11, Z11
+	VADDPD  Z11, Z4, Z4            // rx += s·dx − f·mdx
+	VMULPD  Z7, Z2, Z11            // s·dy
+	VMULPD  Z10, Z13, Z13          // f·mdy
+	VSUBPD  Z13, Z11, Z11
+	VADDPD  Z11, Z5, Z5            // ry += s·dy − f·mdy
+	ADDQ    $448, SI
+	DECQ    CX
+	JNZ     cz8loop
+
+cz8done:
+	HALVES3
+	REDUCE3
+	VZEROUPPER
+	RET
+
 
 // func sqDist8AVX2(a, b []float64, bound float64) (s0, s1, s2, s3 float64, over bool)
 // len(a) = len(b) is a multiple of 8. Lane l accumulates features l and

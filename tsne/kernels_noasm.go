@@ -4,10 +4,14 @@ package tsne
 
 // useAVX2 is false where the assembly kernels are not built; the generic
 // Go kernels in kernels.go run instead.
-var useAVX2 = false
+var useAVX2, useAVX512 = false, false
 
-func direct4AVX2(xi, yi float64, ys []float64) (z, rx, ry float64) {
-	return direct4Generic(xi, yi, ys)
+func direct8AVX2(xi, yi float64, ys []float64) (z, rx, ry float64) {
+	return direct8Generic(xi, yi, ys)
+}
+
+func direct8AVX512(xi, yi float64, ys []float64) (z, rx, ry float64) {
+	return direct8Generic(xi, yi, ys)
 }
 
 func attract4AVX2(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64) {
@@ -24,11 +28,17 @@ func klRow4AVX2(y []float64, col []int32, val []float64, xi, yi float64) float64
 	return klRow4Generic(y, col, val, xi, yi)
 }
 
-func cells4AVX2(xi, yi float64, blk []float64) (z, rx, ry float64) {
-	return cells4Generic(xi, yi, blk)
+func cells8AVX2(xi, yi float64, blk []float64) (z, rx, ry float64) {
+	return cells8Generic(xi, yi, blk)
 }
 
-// hasAsmKernels reports whether the assembly kernels can run here.
+func cells8AVX512(xi, yi float64, blk []float64) (z, rx, ry float64) {
+	return cells8Generic(xi, yi, blk)
+}
+
 func sqDist32AVX2(a, b []float32) float32 { return sqDist32Generic(a, b) }
 
-func hasAsmKernels() bool { return false }
+// hasAsmKernels reports whether the assembly kernels can run here;
+// hasAVX512Kernels whether the AVX-512 ones can too.
+func hasAsmKernels() bool    { return false }
+func hasAVX512Kernels() bool { return false }

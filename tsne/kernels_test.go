@@ -3,6 +3,7 @@ package tsne
 import (
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 )
 
@@ -59,16 +60,15 @@ func TestKernelsMatchGeneric(t *testing.T) {
 			lo := 2 * r.IntN(n)
 			hi := lo + 2*r.IntN(n-lo/2+1)
 			seg := y[lo:hi]
-			m := len(seg) &^ 7
+			m := len(seg) &^ 15
 
 			// Direct sums.
-			gz, gx, gy := direct4Generic(xi, yi, seg[:m])
-			az, ax, ay := gz, gx, gy
-			if asm {
-				az, ax, ay = direct4AVX2(xi, yi, seg[:m])
-			}
-			if !sameBits(gz, az) || !sameBits(gx, ax) || !sameBits(gy, ay) {
-				t.Fatalf("%s direct: assembly (%v %v %v) != generic (%v %v %v)", name, az, ax, ay, gz, gx, gy)
+			gz, gx, gy := direct8Generic(xi, yi, seg[:m])
+			for _, k := range asmKernels() {
+				az, ax, ay := k.direct(xi, yi, seg[:m])
+				if !sameBits(gz, az) || !sameBits(gx, ax) || !sameBits(gy, ay) {
+					t.Fatalf("%s direct: %s (%v %v %v) != generic (%v %v %v)", name, k.name, az, ax, ay, gz, gx, gy)
+				}
 			}
 			z, rx, ry := sumDirect(xi, yi, seg)
 			var wz, wx, wy float64
@@ -130,11 +130,11 @@ func TestKernelsMatchGeneric(t *testing.T) {
 				ref[1] += sc*dx - 4*w*w*w*mdx
 				ref[2] += sc*dy - 4*w*w*w*mdy
 			}
-			if nc > 0 && asm {
-				c1, c2, c3 := cells4Generic(xi, yi, cl.buf)
-				d1, d2, d3 := cells4AVX2(xi, yi, cl.buf)
+			c1, c2, c3 := cells8Generic(xi, yi, cl.buf)
+			for _, k := range asmKernels() {
+				d1, d2, d3 := k.cells(xi, yi, cl.buf)
 				if !sameBits(c1, d1) || !sameBits(c2, d2) || !sameBits(c3, d3) {
-					t.Fatalf("%s cells: assembly (%v %v %v) != generic (%v %v %v)", name, d1, d2, d3, c1, c2, c3)
+					t.Fatalf("%s cells: %s (%v %v %v) != generic (%v %v %v)", name, k.name, d1, d2, d3, c1, c2, c3)
 				}
 			}
 			cz, cx, cy := sumCells(xi, yi, &cl)
@@ -143,6 +143,28 @@ func TestKernelsMatchGeneric(t *testing.T) {
 			}
 		}
 	}
+}
+
+// asmKernels lists the assembly versions of the eight-lane kernels this
+// machine can run.
+func asmKernels() []struct {
+	name   string
+	direct func(xi, yi float64, ys []float64) (z, rx, ry float64)
+	cells  func(xi, yi float64, blk []float64) (z, rx, ry float64)
+} {
+	type kset = struct {
+		name   string
+		direct func(xi, yi float64, ys []float64) (z, rx, ry float64)
+		cells  func(xi, yi float64, blk []float64) (z, rx, ry float64)
+	}
+	var out []kset
+	if hasAsmKernels() {
+		out = append(out, kset{"AVX2", direct8AVX2, cells8AVX2})
+	}
+	if hasAVX512Kernels() {
+		out = append(out, kset{"AVX-512", direct8AVX512, cells8AVX512})
+	}
+	return out
 }
 
 func closeRel(a, b, tol float64) bool {
@@ -427,6 +449,57 @@ func TestLogAndKLRow(t *testing.T) {
 			if math.Abs(got-want) > 1e-13*math.Abs(want)+2.3e-16*sp {
 				t.Fatalf("%s: klRow %v, plain sum %v", name, got, want)
 			}
+		}
+	}
+}
+
+// TestFarPointAddsNothing: a padding point at (farPoint, farPoint) leaves
+// every direct sum bit for bit unchanged, on every code path (common
+// practice: padding must not change a sum).
+func TestFarPointAddsNothing(t *testing.T) {
+	r := rand.New(rand.NewPCG(4, 4))
+	for trial := 0; trial < 50; trial++ {
+		pts := make([]float64, 0, 32)
+		for q := 0; q < 11; q++ {
+			pts = append(pts, 60*(r.Float64()-0.5), 60*(r.Float64()-0.5))
+		}
+		xi, yi := 50*r.NormFloat64(), 50*r.NormFloat64()
+		z0, x0, y0 := sumDirect(xi, yi, pts)
+		// Pad the first run to whole blocks: the tail then goes through
+		// the vector lanes instead of the scalar loop, so compare with a
+		// list whose real points fill the lanes in the same positions.
+		padded := append(slices.Clone(pts), farPoint, farPoint)
+		for len(padded)&15 != 0 {
+			padded = append(padded, farPoint, farPoint)
+		}
+		want := func(ys []float64) [3]float64 {
+			a, b, c := direct8Generic(xi, yi, ys)
+			return [3]float64{a, b, c}
+		}
+		got := want(padded)
+		for _, k := range asmKernels() {
+			a, b, c := k.direct(xi, yi, padded)
+			if g := [3]float64{a, b, c}; g != got {
+				t.Fatalf("%s: padded sums %v, generic %v", k.name, g, got)
+			}
+		}
+		// The same points without padding, summed lane by lane.
+		var zs, xs, ysum [8]float64
+		for q := 0; q+2 <= len(pts); q += 2 {
+			l := (q / 2) & 7
+			dx, dy := xi-pts[q], yi-pts[q+1]
+			w := 1 / (1 + dx*dx + dy*dy)
+			zs[l] += w
+			w *= w
+			xs[l] += w * dx
+			ysum[l] += w * dy
+		}
+		ref := [3]float64{reduceDirect8(&zs), reduceDirect8(&xs), reduceDirect8(&ysum)}
+		if got != ref {
+			t.Fatalf("padding changed the sums: %v, unpadded lanes %v", got, ref)
+		}
+		if !closeRel(z0, got[0], 1e-13) || !closeAbs(x0, got[1], 1e-13*z0) || !closeAbs(y0, got[2], 1e-13*z0) {
+			t.Fatalf("padded (%v) and scalar-tail (%v %v %v) sums disagree beyond rounding", got, z0, x0, y0)
 		}
 	}
 }
