@@ -34,11 +34,14 @@ import "math"
 // 64 on a 20,000-point mixture at θ = 0.8 (ties on digits; one machine,
 // 2026-12-02).
 // θ = 0 opens every cell (exact sums through the tree); larger θ is faster
-// and coarser. The tree is built sequentially by recursive splitting into
-// quadrants (O(N log N)); the per-point traversals run in parallel over fixed
-// chunks and Z is reduced in index order, so the bits do not depend on the
-// thread count. Cells stop splitting at depth 48, which keeps coincident
-// points (duplicates) in one leaf where they exert no force on each other.
+// and coarser. The tree is built sequentially from the points sorted by
+// Morton key (see build; 5,000 clustered points: 78 µs from the previous
+// order, 120 µs from scratch, against 140 µs for the recursive
+// quadrant-by-quadrant split it replaced); the per-point traversals run in
+// parallel over fixed chunks and Z is reduced in index order, so the bits
+// do not depend on the thread count. Cells stop splitting at depth 24,
+// which keeps coincident points (duplicates) in one leaf where they exert
+// no force on each other.
 //
 // Cost per evaluation: O(N log N) for the tree and traversal plus O(nnz(P)).
 //
@@ -57,11 +60,12 @@ type BarnesHut struct {
 	dst   []float64
 
 	nodes []bhNode
-	perm  []int32   // points in tree order
+	perm  []int32  // points in tree order
+	permN int      // len(perm) of the last build: perm is a permutation of it
+	keys  []uint64 // the points' Morton keys, in tree order
+	perm2 []int32  // the radix sort's second buffers
+	keys2 []uint64
 	ys    []float64 // coordinates in tree order
-	perm2 []int32   // the build's second buffers (odd depths)
-	ys2   []float64
-	quad  []uint8 // the build's quadrant of each point
 	rep   []float64
 	zRow  []float64
 
@@ -105,7 +109,8 @@ type bhNode struct {
 const (
 	bhLeafChunk = 4 // leaves (groups) per parallel chunk
 	bhLeafSize  = 32
-	bhMaxDepth  = 48
+	bhKeyBits   = 24 // bits of each quantised coordinate in a key
+	bhMaxDepth  = bhKeyBits
 )
 
 // NewBarnesHut returns a Barnes-Hut gradient with opening angle theta
@@ -136,19 +141,19 @@ func (g *BarnesHut) Reset(n int) {
 		g.zRow = make([]float64, n)
 		g.rep = make([]float64, 2*n)
 		g.perm = make([]int32, n)
-		g.ys = make([]float64, 2*n)
+		g.keys = make([]uint64, n)
 		g.perm2 = make([]int32, n)
-		g.ys2 = make([]float64, 2*n)
-		g.quad = make([]uint8, n)
+		g.keys2 = make([]uint64, n)
+		g.ys = make([]float64, 2*n)
 		g.nodes = make([]bhNode, 0, 2*n+64)
 	}
 	g.zRow = g.zRow[:n]
 	g.rep = g.rep[:2*n]
 	g.perm = g.perm[:n]
-	g.ys = g.ys[:2*n]
+	g.keys = g.keys[:n]
 	g.perm2 = g.perm2[:n]
-	g.ys2 = g.ys2[:2*n]
-	g.quad = g.quad[:n]
+	g.keys2 = g.keys2[:n]
+	g.ys = g.ys[:2*n]
 	g.nodes = g.nodes[:0]
 	g.leaves = g.leaves[:0]
 }
@@ -176,37 +181,178 @@ func (g *BarnesHut) Gradient(dst, y []float64, p *Sparse, exaggeration float64) 
 	return dst, z
 }
 
-// build constructs the quadtree over y.
+// build constructs the quadtree over y. Each point gets a key that
+// interleaves the bits of its coordinates quantised to bhKeyBits bits over
+// the root square (a Morton code, y bits above x bits), so that sorting
+// the points by (key, index) lists them in tree order: the quadrants of a
+// cell in the order x < mid and y < mid, x ≥ mid and y < mid, x < mid and
+// y ≥ mid, then the rest, and a cell's points contiguous. Layouts move
+// little between iterations, so the sort starts from the previous call's
+// order with an insertion sort, or, when that would move more than a few
+// points per point, with a radix sort. Either way the order is the same,
+// a function of the layout alone. Points whose
+// keys agree (closer than the root side / 2^24) share a leaf.
 func (g *BarnesHut) build(y []float64) {
 	n := len(y) / 2
 	minX, minY := math.Inf(1), math.Inf(1)
 	maxX, maxY := math.Inf(-1), math.Inf(-1)
 	for i := 0; i < n; i++ {
+		// Plain comparisons (the min and max builtins order NaN and ±0
+		// and cost twice as much here): a NaN coordinate is skipped and
+		// its key clamped below.
 		x, v := y[2*i], y[2*i+1]
-		minX, maxX = min(minX, x), max(maxX, x)
-		minY, maxY = min(minY, v), max(maxY, v)
-		g.perm[i] = int32(i)
+		if x < minX {
+			minX = x
+		}
+		if x > maxX {
+			maxX = x
+		}
+		if v < minY {
+			minY = v
+		}
+		if v > maxY {
+			maxY = v
+		}
 	}
-	// The coordinates move with perm, so that every pass of the build
-	// reads them in order and they end in tree order.
-	copy(g.ys, y)
 	side := max(maxX-minX, maxY-minY)
+	if !(side >= 0) { // no finite coordinate
+		minX, minY, side = 0, 0, 1
+	}
 	side = side*(1+1e-9) + 1e-300
+	scale := (1 << bhKeyBits) / side
+	perm, keys := g.perm, g.keys
+	if g.permN != n {
+		for i := range perm {
+			perm[i] = int32(i)
+		}
+		g.permN = n
+	}
+	descents := 0
+	prev := uint64(0)
+	for k, i := range perm {
+		key := bhKey((y[2*i]-minX)*scale, (y[2*i+1]-minY)*scale)
+		keys[k] = key
+		if key < prev {
+			descents++
+		}
+		prev = key
+	}
+	// Late in a run the previous order is nearly right and the insertion
+	// sort moves under one point per point; early on points pass each
+	// other by the hundred, and a radix sort is cheaper.
+	if descents > n/16 || !insertionSortKeys(keys, perm, 4*n+64) {
+		radixSortKeys(keys, perm, g.keys2, g.perm2, 2*bhKeyBits)
+	}
+	ys := g.ys
+	for k, i := range perm {
+		ys[2*k], ys[2*k+1] = y[2*i], y[2*i+1]
+	}
 	g.nodes = append(g.nodes, bhNode{})
-	g.split(0, 0, int32(n), minX, minY, side, 0)
+	g.split(0, 0, int32(n), side, 0)
 }
 
-// split fills node idx for points perm[lo:hi] (never empty) in the square
-// cell with lower-left corner (x0, y0) and the given side, recursing into
+// bhKey returns the Morton key of a point whose coordinates, scaled to the
+// root square, are fx and fy (in [0, 2^bhKeyBits); values outside, and
+// NaN, are clamped).
+func bhKey(fx, fy float64) uint64 {
+	return spreadBits(bhQuant(fx)) | spreadBits(bhQuant(fy))<<1
+}
+
+func bhQuant(f float64) uint64 {
+	const top = 1<<bhKeyBits - 1
+	if !(f < top) { // NaN included
+		return top
+	}
+	if !(f > 0) {
+		return 0
+	}
+	return uint64(f)
+}
+
+// spreadBits moves bit b of v (v < 2^24) to bit 2b.
+func spreadBits(v uint64) uint64 {
+	return uint64(spreadByte[v&255]) | uint64(spreadByte[v>>8&255])<<16 | uint64(spreadByte[v>>16&255])<<32
+}
+
+// spreadByte[v] has bit b of v at bit 2b.
+var spreadByte = func() (t [256]uint16) {
+	for v := range t {
+		for b := 0; b < 8; b++ {
+			t[v] |= uint16(v>>b&1) << (2 * b)
+		}
+	}
+	return t
+}()
+
+// insertionSortKeys sorts keys with perm by (key, perm) and reports true,
+// or gives up once it has moved more than budget elements in total and
+// reports false (the order is then partly sorted).
+func insertionSortKeys(keys []uint64, perm []int32, budget int) bool {
+	for k := 1; k < len(keys); k++ {
+		key, p := keys[k], perm[k]
+		j := k
+		for j > 0 && (keys[j-1] > key || keys[j-1] == key && perm[j-1] > p) {
+			keys[j], perm[j] = keys[j-1], perm[j-1]
+			j--
+		}
+		keys[j], perm[j] = key, p
+		if budget -= k - j; budget < 0 {
+			return false
+		}
+	}
+	return true
+}
+
+// radixSortKeys sorts keys with perm by (key, perm), the keys' bits below
+// shift (a multiple of 8) being the only ones that may differ: a stable
+// counting sort on the top byte of those bits through the buffers keys2
+// and perm2, then each bucket likewise on the next byte, and buckets of at
+// most 32 points by insertion.
+func radixSortKeys(keys []uint64, perm []int32, keys2 []uint64, perm2 []int32, shift uint) {
+	for {
+		if len(keys) <= 32 || shift == 0 {
+			insertionSortKeys(keys, perm, math.MaxInt)
+			return
+		}
+		shift -= 8
+		var cnt [256]int32
+		for _, k := range keys {
+			cnt[k>>shift&255]++
+		}
+		if int(cnt[keys[0]>>shift&255]) == len(keys) {
+			continue // one bucket: on to the next byte
+		}
+		var off [256]int32
+		o := int32(0)
+		for b, c := range cnt {
+			off[b] = o
+			o += c
+		}
+		for e, k := range keys {
+			b := k >> shift & 255
+			d := off[b]
+			off[b] = d + 1
+			keys2[d], perm2[d] = k, perm[e]
+		}
+		copy(keys, keys2[:len(keys)])
+		copy(perm, perm2[:len(perm)])
+		lo := int32(0)
+		for _, c := range cnt {
+			if c > 1 {
+				radixSortKeys(keys[lo:lo+c], perm[lo:lo+c], keys2, perm2, shift)
+			}
+			lo += c
+		}
+		return
+	}
+}
+
+// split fills node idx for points perm[lo:hi] (never empty, sorted by key)
+// in a square cell of the given side at the given depth, recursing into
 // the non-empty quadrants; empty quadrants get no node.
-func (g *BarnesHut) split(idx int, lo, hi int32, x0, y0, side float64, depth int) {
+func (g *BarnesHut) split(idx int, lo, hi int32, side float64, depth int) {
 	crit := side * side / (g.theta * g.theta)
 	if hi-lo <= bhLeafSize || depth >= bhMaxDepth {
-		if depth%2 == 1 {
-			// Odd depths keep their points in the second buffers.
-			copy(g.perm[lo:hi], g.perm2[lo:hi])
-			copy(g.ys[2*lo:2*hi], g.ys2[2*lo:2*hi])
-		}
 		ys := g.ys
 		var sx, sy float64
 		for k := lo; k < hi; k++ {
@@ -228,10 +374,26 @@ func (g *BarnesHut) split(idx int, lo, hi int32, x0, y0, side float64, depth int
 		g.leaves = append(g.leaves, int32(idx))
 		return
 	}
+	// The keys of the cell agree above this depth's two bits, so the
+	// quadrants are runs of the sorted keys; each starts at the first key
+	// whose two bits reach the quadrant number.
+	shift := uint(2 * (bhKeyBits - 1 - depth))
+	keys := g.keys
+	var bounds [5]int32
+	bounds[0], bounds[4] = lo, hi
+	for q := uint64(1); q < 4; q++ {
+		a, b := bounds[q-1], hi
+		for a < b {
+			m := int32(uint32(a+b) >> 1)
+			if keys[m]>>shift&3 < q {
+				a = m + 1
+			} else {
+				b = m
+			}
+		}
+		bounds[q] = a
+	}
 	h := side / 2
-	mx, my := x0+h, y0+h
-	bounds := g.split4(lo, hi, mx, my, depth)
-	corners := [4][2]float64{{x0, y0}, {mx, y0}, {x0, my}, {mx, my}}
 	nc := 0
 	for q := 0; q < 4; q++ {
 		if bounds[q] < bounds[q+1] {
@@ -245,7 +407,7 @@ func (g *BarnesHut) split(idx int, lo, hi int32, x0, y0, side float64, depth int
 	c := child
 	for q := 0; q < 4; q++ {
 		if bounds[q] < bounds[q+1] {
-			g.split(c, bounds[q], bounds[q+1], corners[q][0], corners[q][1], h, depth+1)
+			g.split(c, bounds[q], bounds[q+1], h, depth+1)
 			c++
 		}
 	}
@@ -265,46 +427,6 @@ func (g *BarnesHut) split(idx int, lo, hi int32, x0, y0, side float64, depth int
 		nd.myy += ch.myy + ch.mass*dy*dy
 	}
 	g.nodes[idx] = nd
-}
-
-// split4 moves the points perm[lo:hi] of a node at the given depth, with
-// their coordinates, into the order of their quadrants about (mx, my):
-// x < mx and y < my, then x ≥ mx and y < my, then x < mx and y ≥ my, then
-// the rest (NaN coordinates count as ≥). It is a stable counting sort from
-// the depth's buffers (perm and ys at even depths, perm2 and ys2 at odd
-// ones) into the other pair, without data-dependent branches, and returns
-// the quadrants' bounds.
-func (g *BarnesHut) split4(lo, hi int32, mx, my float64, depth int) [5]int32 {
-	sp, sy, dp, dy := g.perm, g.ys, g.perm2, g.ys2
-	if depth%2 == 1 {
-		sp, sy, dp, dy = dp, dy, sp, sy
-	}
-	q := g.quad[lo:hi]
-	var cnt [4]int32
-	for k := range q {
-		i := 2 * (int(lo) + k)
-		b := b2u8(!(sy[i] < mx)) | b2u8(!(sy[i+1] < my))<<1
-		q[k] = b
-		cnt[b&3]++
-	}
-	off := [4]int32{lo, lo + cnt[0], lo + cnt[0] + cnt[1], lo + cnt[0] + cnt[1] + cnt[2]}
-	bounds := [5]int32{off[0], off[1], off[2], off[3], hi}
-	for k, b := range q {
-		i := int(lo) + k
-		d := off[b&3]
-		off[b&3] = d + 1
-		dp[d] = sp[i]
-		dy[2*d], dy[2*d+1] = sy[2*i], sy[2*i+1]
-	}
-	return bounds
-}
-
-// b2u8 is 1 for true and 0 for false.
-func b2u8(b bool) uint8 {
-	if b {
-		return 1
-	}
-	return 0
 }
 
 // rows runs the traversal for one chunk of leaves. The points of a leaf

@@ -1,12 +1,14 @@
 package tsne
 
 import (
+	"cmp"
 	"encoding/json"
 	"math"
 	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"runtime"
+	"slices"
 	"testing"
 )
 
@@ -251,6 +253,108 @@ func TestDefaultThetaAccuracy(t *testing.T) {
 			l.Name, DefaultTheta, e, relErr(half, want), l.Error["0.5"])
 		if ref := l.Error["0.5"]; !(ref > 0) || !(e <= ref) {
 			t.Errorf("%s: error at the default θ = %.1f is %.3g, scikit-learn's at θ = 0.5 is %.3g", l.Name, DefaultTheta, e, ref)
+		}
+	}
+}
+
+// BenchmarkBarnesHutBuild: the quadtree build alone, on a clustered layout
+// in locality order (as the optimiser sees it), starting from the order of
+// the same layout (sorted: the insertion sort only checks) or from index
+// order.
+func BenchmarkBarnesHutBuild(b *testing.B) {
+	for _, n := range []int{5000, 50000} {
+		b.Run("n="+itoa(n), func(b *testing.B) {
+			rng := rand.New(rand.NewPCG(uint64(n), 3))
+			mixed := bhTestClustered(n, 2, 3, rng)
+			// Point i belongs to cluster i mod 8: list the clusters one
+			// after the other, as a locality order would.
+			y := make([]float64, 0, 2*n)
+			for c := 0; c < 8; c++ {
+				for i := c; i < n; i += 8 {
+					y = append(y, mixed[2*i], mixed[2*i+1])
+				}
+			}
+			for _, fresh := range []bool{false, true} {
+				name := "sorted"
+				if fresh {
+					name = "unsorted"
+				}
+				b.Run(name, func(b *testing.B) {
+					g := NewBarnesHut(DefaultTheta, 1)
+					for b.Loop() {
+						g.Reset(n)
+						if fresh {
+							g.permN = 0 // start from index order
+						}
+						g.build(y)
+					}
+				})
+			}
+		})
+	}
+}
+
+// TestBarnesHutBuildOrder: the tree order is the sort of the points by
+// (Morton key, index) whatever order the previous build left (insertion
+// sort from a nearby layout, radix sort from an unrelated one), so the
+// tree is a function of the layout alone (common practice: a quadtree
+// lists its points in Morton order).
+func TestBarnesHutBuildOrder(t *testing.T) {
+	rng := rand.New(rand.NewPCG(12, 21))
+	n := 3000
+	a := bhTestClustered(n, 2, 3, rng)
+	b := bhTestClustered(n, 2, 3, rng) // unrelated: the insertion sort gives up
+	near := slices.Clone(a)            // a nudged: the insertion sort finishes
+	for i := range near {
+		near[i] += 0.01 * rng.NormFloat64()
+	}
+	for i := 0; i < 40; i++ { // duplicates share keys; ties go by index
+		b[2*(n-1-i)], b[2*(n-1-i)+1] = b[2*i], b[2*i+1]
+		near[2*(n-1-i)], near[2*(n-1-i)+1] = near[2*i], near[2*i+1]
+	}
+	for _, tc := range []struct {
+		name        string
+		first, then []float64
+	}{{"unrelated", a, b}, {"nudged", a, near}} {
+		warm := NewBarnesHut(DefaultTheta, 1)
+		warm.Reset(n)
+		warm.build(tc.first)
+		warm.Reset(n)
+		warm.build(tc.then)
+		fresh := NewBarnesHut(DefaultTheta, 1)
+		fresh.Reset(n)
+		fresh.build(tc.then)
+		if !slices.Equal(warm.perm, fresh.perm) || !slices.Equal(warm.nodes, fresh.nodes) {
+			t.Fatalf("%s: the tree depends on the previous build", tc.name)
+		}
+		idx := make([]int32, n)
+		for i := range idx {
+			idx[i] = int32(i)
+		}
+		minX, minY := math.Inf(1), math.Inf(1)
+		maxX, maxY := math.Inf(-1), math.Inf(-1)
+		for i := 0; i < n; i++ {
+			minX, maxX = min(minX, tc.then[2*i]), max(maxX, tc.then[2*i])
+			minY, maxY = min(minY, tc.then[2*i+1]), max(maxY, tc.then[2*i+1])
+		}
+		scale := (1 << bhKeyBits) / (max(maxX-minX, maxY-minY)*(1+1e-9) + 1e-300)
+		keyOf := func(i int32) uint64 {
+			x, y := tc.then[2*i], tc.then[2*i+1]
+			return bhKey((x-minX)*scale, (y-minY)*scale)
+		}
+		slices.SortFunc(idx, func(p, q int32) int {
+			if c := cmp.Compare(keyOf(p), keyOf(q)); c != 0 {
+				return c
+			}
+			return cmp.Compare(p, q)
+		})
+		if !slices.Equal(fresh.perm, idx) {
+			t.Fatalf("%s: tree order is not the (key, index) order", tc.name)
+		}
+		for _, l := range fresh.leaves {
+			if nd := fresh.nodes[l]; nd.hi-nd.lo > bhLeafSize {
+				t.Fatalf("%s: leaf of %d points", tc.name, nd.hi-nd.lo)
+			}
 		}
 	}
 }
