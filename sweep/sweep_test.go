@@ -358,7 +358,11 @@ func TestLocalityRenumberingInvisible(t *testing.T) {
 		for _, c := range []string{"x", "y"} {
 			va, vb := ta.Column(c).Values.([]float64), tb.Column(c).Values.([]float64)
 			for i := range va {
-				if math.Abs(va[i]-vb[i]) > 1e-9*(1+math.Abs(va[i])) {
+				// Rounding differs with the order of the sums and grows
+				// over the 60 iterations: measured 1.6e-9 at worst (6.8e-10
+				// with four-lane kernels); a wrong renumbering moves points
+				// by O(1).
+				if math.Abs(va[i]-vb[i]) > 1e-8*(1+math.Abs(va[i])) {
 					t.Fatalf("%s: %s[%d] = %v renumbered, %v plain", name, c, i, vb[i], va[i])
 				}
 			}
