@@ -217,14 +217,14 @@ func BenchmarkKernels(b *testing.B) {
 		cl.add(&nd)
 	}
 	for _, path := range []struct {
-		name string
-		avx  bool
-	}{{"generic", false}, {"asm", true}} {
-		if path.avx && !hasAsmKernels() {
+		name         string
+		avx2, avx512 bool
+	}{{"generic", false, false}, {"asm", true, false}, {"avx512", true, true}} {
+		if path.avx2 && !hasAsmKernels() || path.avx512 && !hasAVX512Kernels() {
 			continue
 		}
-		saved := useAVX2
-		useAVX2 = path.avx
+		saved2, saved512 := useAVX2, useAVX512
+		useAVX2, useAVX512 = path.avx2, path.avx512
 		b.Run("direct64/"+path.name, func(b *testing.B) {
 			for b.Loop() {
 				kernelSink, _, _ = sumDirect(1, 2, y[:128])
@@ -247,7 +247,7 @@ func BenchmarkKernels(b *testing.B) {
 				kernelSink, _, _ = sumCells(1, 2, &cl)
 			}
 		})
-		useAVX2 = saved
+		useAVX2, useAVX512 = saved2, saved512
 	}
 }
 
@@ -338,7 +338,12 @@ func TestGradientsSameWithoutAsm(t *testing.T) {
 	x := bhTestClustered(n, 5, 1, rng)
 	p := gradTestKNNP(x, n, 5, 20)
 	y := bhTestClustered(n, 2, 3, rng)
-	defer func(v bool) { useAVX2 = v }(useAVX2)
+	defer func(a, b bool) { useAVX2, useAVX512 = a, b }(useAVX2, useAVX512)
+	// The code paths: AVX-512 where the CPU has it, AVX2, plain Go.
+	paths := [][2]bool{{true, false}, {false, false}}
+	if hasAVX512Kernels() {
+		paths = append([][2]bool{{true, true}}, paths...)
+	}
 	for _, g := range []struct {
 		name string
 		make func() Gradient
@@ -347,16 +352,18 @@ func TestGradientsSameWithoutAsm(t *testing.T) {
 		{"barnes-hut", func() Gradient { return NewBarnesHut(DefaultTheta, 2) }},
 		{"fft", func() Gradient { return NewFFT(2) }},
 	} {
-		useAVX2 = true
+		useAVX2, useAVX512 = paths[0][0], paths[0][1]
 		a, za := g.make().Gradient(nil, y, p, 12)
-		useAVX2 = false
-		b, zb := g.make().Gradient(nil, y, p, 12)
-		if !sameBits(za, zb) {
-			t.Errorf("%s: Z %v with assembly, %v without", g.name, za, zb)
-		}
-		for k := range a {
-			if !sameBits(a[k], b[k]) {
-				t.Fatalf("%s: coordinate %d is %v with assembly, %v without", g.name, k, a[k], b[k])
+		for _, path := range paths[1:] {
+			useAVX2, useAVX512 = path[0], path[1]
+			b, zb := g.make().Gradient(nil, y, p, 12)
+			if !sameBits(za, zb) {
+				t.Errorf("%s: Z %v on the first path, %v with (AVX2, AVX-512) = %v", g.name, za, zb, path)
+			}
+			for k := range a {
+				if !sameBits(a[k], b[k]) {
+					t.Fatalf("%s: coordinate %d is %v on the first path, %v with (AVX2, AVX-512) = %v", g.name, k, a[k], b[k], path)
+				}
 			}
 		}
 	}
