@@ -2,6 +2,7 @@ package stability
 
 import (
 	"fmt"
+	"math"
 	"math/rand/v2"
 	"testing"
 )
@@ -175,4 +176,82 @@ func BenchmarkDistanceCorrelation(b *testing.B) {
 			sinkF = s.Value
 		}
 	})
+}
+
+// sweepLike returns a clustered input (n points, d = 50: ten clusters, each
+// a random 2-d sheet plus noise) and L layouts shaped like t-SNE maps of
+// it: the clusters placed in random order on a circle, each sheet rotated,
+// map noise growing from layout to layout, and 1% of the points torn away
+// to a random cluster. Seeded; used by the benchmarks and the rank tests.
+func sweepLike(seed uint64, n, L int) (x []float64, d int, ys [][]float64) {
+	const clusters = 10
+	d = 50
+	rng := rand.New(rand.NewPCG(seed, 1))
+	centre := gauss(rng, clusters*d)
+	sheet := gauss(rng, clusters*d*2)
+	for i := range centre {
+		centre[i] *= 6
+	}
+	lab := make([]int, n)
+	z := gauss(rng, 2*n)
+	x = make([]float64, n*d)
+	for i := 0; i < n; i++ {
+		c := rng.IntN(clusters)
+		lab[i] = c
+		for a := 0; a < d; a++ {
+			x[i*d+a] = centre[c*d+a] + sheet[(c*d+a)*2]*z[2*i] + sheet[(c*d+a)*2+1]*z[2*i+1] + 0.1*rng.NormFloat64()
+		}
+	}
+	for l := 0; l < L; l++ {
+		noise := 0.05 + 0.6*float64(l)/float64(max(1, L-1))
+		// Cluster c on a circle of radius 25, in a random order.
+		pos := make([]float64, 2*clusters)
+		for c, s := range rng.Perm(clusters) {
+			pos[2*c], pos[2*c+1] = math.Sincos(2 * math.Pi * float64(s) / clusters)
+		}
+		rot := make([]float64, clusters)
+		for c := range rot {
+			rot[c] = 2 * math.Pi * rng.Float64()
+		}
+		y := make([]float64, 2*n)
+		for i := 0; i < n; i++ {
+			c := lab[i]
+			if rng.IntN(100) == 0 {
+				c = rng.IntN(clusters)
+			}
+			s, co := math.Sincos(rot[c])
+			y[2*i] = 25*pos[2*c] + 2*(co*z[2*i]-s*z[2*i+1]) + noise*rng.NormFloat64()
+			y[2*i+1] = 25*pos[2*c+1] + 2*(s*z[2*i]+co*z[2*i+1]) + noise*rng.NormFloat64()
+		}
+		ys = append(ys, y)
+	}
+	return x, d, ys
+}
+
+// BenchmarkFaithfulnessSweep: one batch of a sweep's scoring, n = 5000,
+// k = 15, with the exact input neighbour list (K = 90, as the engine keeps
+// for perplexity 30). layouts=sweep are eight sweepLike maps; layouts=random
+// are two Gaussian clouds (chance level, the worst case for continuity).
+func BenchmarkFaithfulnessSweep(b *testing.B) {
+	n, K := 5000, 90
+	x, d, ys := sweepLike(12, n, 8)
+	rng := rand.New(rand.NewPCG(13, 14))
+	nb := exactInputNeighbors(x, n, d, K)
+	for _, tc := range []struct {
+		name string
+		ys   [][]float64
+	}{{"sweep", ys}, {"random", [][]float64{gauss(rng, 2*n), gauss(rng, 2*n)}}} {
+		b.Run("layouts="+tc.name, func(b *testing.B) {
+			b.ReportAllocs()
+			for i := 0; i < b.N; i++ {
+				f, err := FaithfulnessBatch(x, d, tc.ys, 15, Options{InputNeighbors: nb, InputK: K})
+				if err != nil {
+					b.Fatal(err)
+				}
+				sinkBatch = f
+			}
+			b.ReportMetric(sinkBatch[0].Continuity.Value, "C0")
+			b.ReportMetric(sinkBatch[len(sinkBatch)-1].Continuity.Value, "Clast")
+		})
+	}
 }

@@ -122,6 +122,12 @@ func TrustworthinessWith(x []float64, d int, y []float64, k int, opt Options) (S
 // scikit-learn 1.2.1's trustworthiness(y, x, n_neighbors=k) when neither
 // space has tied distances. Requires 1 ≤ k < N/2. Penalises points that
 // are close in the input but torn apart in the map.
+//
+// Cost O(Q·N·d) to find the input neighbours (none with an InputNeighbors
+// list) plus the map ranks, which a 2-d k-d tree of the layout counts
+// without computing every map distance: a neighbour among i's k nearest
+// in the map costs nothing, another about the points near its circle
+// around i: little for a faithful layout, O(N) per query at worst.
 func Continuity(x []float64, d int, y []float64, k int) (float64, error) {
 	s, err := ContinuityWith(x, d, y, k, Options{})
 	return s.Value, err
@@ -162,16 +168,23 @@ func FaithfulnessAt(x []float64, d int, y []float64, k int, opt Options) (Faithf
 // is scored on the same query points, and a query point's input distances
 // (a row of N, O(N·d) to compute, the dominant cost of FaithfulnessAt) are
 // computed at most once for the whole batch and used by every layout that
-// needs them. The per-layout work, O(N) per query point and layout, is as
-// in FaithfulnessAt. Every layout must hold the same N points (2 values per
-// point). An empty ys gives an empty result.
+// needs them; the trustworthiness ranks of all those layouts' map
+// neighbours are then counted in one O(N log(L·k)) pass over the row.
+// Continuity ranks input neighbours by map distance with each layout's
+// k-d tree, counting only the points near the neighbours' circles: little
+// for a neighbour kept close, O(N) at worst (a layout unrelated to its
+// input). Every layout must hold the same N points (2 values per point).
+// An empty ys gives an empty result.
 //
-// Cost O(Q·N·d + L·Q·N) for L layouts and Q query points, against
-// O(L·Q·N·d) for L calls of FaithfulnessAt; with an InputNeighbors list a
-// query point's distances are computed only if some layout needs them.
-// Besides the layouts it holds a 2-d k-d tree per layout (about 12 bytes
-// per point), and per thread five rows of N values and 32·L·k neighbour
-// indices. Results do not depend on Threads. Defaults as in Options.
+// Cost O(Q·N·d + Q·N·log(L·k)) plus the continuity counts, at most
+// O(L·Q·N), for L layouts and Q query points, against O(L·Q·N·d) for L
+// calls of FaithfulnessAt; with an InputNeighbors list a query point's
+// distances are computed only if some layout needs them. Besides the
+// layouts it holds a 2-d k-d tree per layout (about 28 bytes per point),
+// and per thread four rows of N values (five if a caller's neighbour list
+// repeats a point or names the query itself), 32·L·k neighbour indices
+// and L·k (distance, index) pairs. Results do not depend on Threads.
+// Defaults as in Options.
 func FaithfulnessBatch(x []float64, d int, ys [][]float64, k int, opt Options) ([]Faithfulness, error) {
 	return faithfulnessBatch(x, d, ys, k, opt, which{true, true, true}, true)
 }
@@ -301,7 +314,7 @@ func faithfulnessBatch(x []float64, d int, ys [][]float64, k int, opt Options, w
 	}
 	nl := len(ys)
 	var trees []*kdTree
-	if w.trust || w.recall {
+	if w.trust || w.recall || w.cont {
 		trees = make([]*kdTree, nl)
 		par.Each(nl, opt.Threads, func(l int) { trees[l] = newKDTree(ys[l]) })
 	}
@@ -315,9 +328,12 @@ func faithfulnessBatch(x []float64, d int, ys [][]float64, k int, opt Options, w
 	searchIn := inNb == nil && (w.cont || w.recall)
 	type scratch struct {
 		dx [group][]float64
+		// dy holds one query's map distances when contPenalty falls back
+		// to them; allocated on first use.
 		dy []float64
 		h  nbHeap
 		rk *ranker
+		tr sharedRanks
 		// mapRows holds the map neighbours of the chunk's queries, layout
 		// by layout: row m of layout l at (l*chunk+m)*k.
 		mapRows []int32
@@ -338,9 +354,6 @@ func faithfulnessBatch(x []float64, d int, ys [][]float64, k int, opt Options, w
 					sc.dx[g] = make([]float64, n)
 				}
 			}
-			if w.cont {
-				sc.dy = make([]float64, n)
-			}
 			if trees != nil {
 				sc.mapRows = make([]int32, chunk*nl*k)
 			}
@@ -350,7 +363,7 @@ func faithfulnessBatch(x []float64, d int, ys [][]float64, k int, opt Options, w
 			pool[wk] = sc
 		}
 		sc := pool[wk]
-		dx, dy, rk, h := &sc.dx, sc.dy, sc.rk, &sc.h
+		dx, rk, tr, h := &sc.dx, sc.rk, &sc.tr, &sc.h
 		c := lo / chunk
 		query := func(m int) int {
 			if queries != nil {
@@ -392,8 +405,7 @@ func faithfulnessBatch(x []float64, d int, ys [][]float64, k int, opt Options, w
 					i := query(m)
 					row := inNb[i*inK : (i+1)*inK]
 					if w.cont {
-						mapDistances(dy, y, i)
-						cpen += rk.penalty(dy, i, row[:k])
+						cpen += contPenalty(rk, trees[l], y, i, row[:k], mapRow(l, m), &sc.dy)
 					}
 					if w.recall {
 						hits += int64(overlap(row[:k], mapRow(l, m)))
@@ -435,9 +447,18 @@ func faithfulnessBatch(x []float64, d int, ys [][]float64, k int, opt Options, w
 			for g := g0; g < g1; g++ {
 				m, i, dxi := pending[g], qs[g-g0], dx[g-g0]
 				if w.trust {
+					// The map neighbours of every layout that needs this
+					// query, ranked together in one pass over its row.
+					tr.reset()
 					for l := range nl {
 						if need[(m-lo)*nl+l] {
-							trustSum[l*nChunks+c] += rk.penalty(dxi, i, mapRow(l, m))
+							tr.add(dxi, mapRow(l, m))
+						}
+					}
+					tr.rank(dxi, i)
+					for l := range nl {
+						if need[(m-lo)*nl+l] {
+							trustSum[l*nChunks+c] += tr.penalty(dxi, mapRow(l, m), k)
 						}
 					}
 				}
@@ -455,8 +476,7 @@ func faithfulnessBatch(x []float64, d int, ys [][]float64, k int, opt Options, w
 					i := query(m)
 					inRow := sc.inRows[(m-lo)*k : (m-lo+1)*k]
 					if w.cont {
-						mapDistances(dy, y, i)
-						cpen += rk.penalty(dy, i, inRow)
+						cpen += contPenalty(rk, trees[l], y, i, inRow, mapRow(l, m), &sc.dy)
 					}
 					if w.recall {
 						hits += int64(overlap(inRow, mapRow(l, m)))
@@ -484,6 +504,130 @@ func faithfulnessBatch(x []float64, d int, ys [][]float64, k int, opt Options, w
 		}
 	}
 	return out, nil
+}
+
+// contPenalty is the continuity penalty of query i in layout y (tree t,
+// map neighbours mapRow) for its input neighbours targets: by the tree,
+// or, for a neighbour list that repeats a point or names i, from all map
+// distances (written into *dy, allocated on first use).
+func contPenalty(rk *ranker, t *kdTree, y []float64, i int, targets, mapRow []int32, dy *[]float64) int64 {
+	if pen, ok := rk.mapPenalty(t, i, targets, mapRow); ok {
+		return pen
+	}
+	if *dy == nil {
+		*dy = make([]float64, len(y)/2)
+	}
+	mapDistances(*dy, y, i)
+	return rk.penalty(*dy, i, targets)
+}
+
+// sharedRanks ranks the map neighbours of one query point in several
+// layouts by input distance, all in one pass over the query's row of input
+// distances: r(i,j) = 1 + #{l ≠ i : (dist_l, l) < (dist_j, j)}, as penalty
+// computes it for one layout, whose O(N) pass it replaces by one per
+// query. Map neighbours are distinct and never i, so the ranks are the
+// same.
+type sharedRanks struct {
+	key  []rankKey
+	hist []int64
+	kd   []float64 // key[t].d
+}
+
+type rankKey struct {
+	d float64
+	j int32
+}
+
+func (a rankKey) less(b rankKey) bool { return a.d < b.d || (a.d == b.d && a.j < b.j) }
+
+func (r *sharedRanks) reset() { r.key = r.key[:0] }
+
+// add adds the points of row to the set to rank.
+func (r *sharedRanks) add(dist []float64, row []int32) {
+	for _, j := range row {
+		r.key = append(r.key, rankKey{dist[j], j})
+	}
+}
+
+// rank sorts and deduplicates the set and counts, for each member, the
+// points other than i before it; the count of key[t] is then
+// Σ_{u ≤ t} hist[u]. Each point before the last member is placed among
+// the members by binary search; cost O(N log M) at worst for M members.
+func (r *sharedRanks) rank(dist []float64, i int) {
+	slices.SortFunc(r.key, func(a, b rankKey) int {
+		if a.less(b) {
+			return -1
+		}
+		if b.less(a) {
+			return 1
+		}
+		return 0
+	})
+	r.key = slices.CompactFunc(r.key, func(a, b rankKey) bool { return a.j == b.j })
+	key := r.key
+	mk := len(key)
+	if cap(r.hist) < mk+1 {
+		r.hist = make([]int64, mk+1)
+		r.kd = make([]float64, mk)
+	}
+	hist := r.hist[:mk+1]
+	clear(hist)
+	kd := r.kd[:mk]
+	for t, e := range key {
+		kd[t] = e.d
+	}
+	last := key[mk-1]
+	for l, v := range dist {
+		li := int32(l)
+		if v > last.d || (v == last.d && li >= last.j) || l == i {
+			continue
+		}
+		// p = number of members at or before (v, l); l counts for the
+		// members from p on. First the members nearer than v, by a
+		// binary search without branches on the data, then the members
+		// at distance v with a smaller index.
+		base, size := 0, mk
+		for size > 1 {
+			half := size >> 1
+			if kd[base+half-1] < v {
+				base += half
+			}
+			size -= half
+		}
+		if kd[base] < v {
+			base++
+		}
+		for base < mk && kd[base] == v && key[base].j <= li {
+			base++
+		}
+		hist[base]++
+	}
+	var c int64
+	for t := range key {
+		c += hist[t]
+		hist[t] = c
+	}
+}
+
+// penalty returns Σ_j max(0, r(i,j) − k) over row, whose points were added
+// before rank.
+func (r *sharedRanks) penalty(dist []float64, row []int32, k int) int64 {
+	var pen int64
+	for _, j := range row {
+		t, _ := slices.BinarySearchFunc(r.key, rankKey{dist[j], j}, func(a, b rankKey) int {
+			if a.less(b) {
+				return -1
+			}
+			if b.less(a) {
+				return 1
+			}
+			return 0
+		})
+		if rank := 1 + r.hist[t]; rank > int64(k) {
+			pen += rank - int64(k)
+		}
+	}
+	return pen
 }
 
 // listPenalty returns Σ_j max(0, r(i,j) − k) over the map neighbours j of
@@ -607,8 +751,7 @@ func inputDistances4(dst *[group][]float64, x []float64, d int, q *[group]int) {
 func mapDistances(dst, y []float64, i int) {
 	qx, qy := y[2*i], y[2*i+1]
 	for l := range dst {
-		dx, dy := y[2*l]-qx, y[2*l+1]-qy
-		dst[l] = dx*dx + dy*dy
+		dst[l] = sqDist(y[2*l], y[2*l+1], qx, qy)
 	}
 }
 
@@ -635,10 +778,66 @@ type ranker struct {
 	tgt  []int32
 	td   []float64
 	hist []int64
+	// cnt and stack are scratch for mapPenalty.
+	cnt   []int64
+	stack []rankFrame
 }
 
 func newRanker(k int) *ranker {
-	return &ranker{k: k, tgt: make([]int32, k), td: make([]float64, k), hist: make([]int64, k+1)}
+	return &ranker{k: k, tgt: make([]int32, k), td: make([]float64, k), hist: make([]int64, k+1), cnt: make([]int64, k)}
+}
+
+// mapPenalty is penalty for the map distances of the layout t was built
+// on, without computing them all: Σ_j max(0, r̂(i,j) − k) over the targets
+// j, r̂ the rank by map distance, given mapRow, the k nearest other points
+// of i in that map. A target at or before the last of mapRow in (distance,
+// index) order has rank at most k and costs nothing; the ranks of the
+// others are counted with the tree (kdTree.countBefore), touching only the
+// points near their circles. The result equals penalty's, ties included.
+// ok is false, and nothing is computed, when the targets repeat a point or
+// contain i (possible only in a caller's neighbour list); use penalty then.
+func (r *ranker) mapPenalty(t *kdTree, i int, targets, mapRow []int32) (pen int64, ok bool) {
+	k := r.k
+	tg, td := r.tgt, r.td
+	y := t.y
+	qx, qy := y[2*i], y[2*i+1]
+	for s, j := range targets {
+		if int(j) == i {
+			return 0, false
+		}
+		v := sqDist(y[2*j], y[2*j+1], qx, qy)
+		m := s
+		for ; m > 0 && (td[m-1] > v || (td[m-1] == v && tg[m-1] > j)); m-- {
+			td[m], tg[m] = td[m-1], tg[m-1]
+		}
+		if m > 0 && tg[m-1] == j {
+			return 0, false
+		}
+		td[m], tg[m] = v, j
+	}
+	// With distinct targets other than i, r̂ of target t is 1 plus the
+	// number of points other than i before it: the targets before it
+	// included, as penalty counts them (its t).
+	last := mapRow[k-1]
+	lastD := sqDist(y[2*last], y[2*last+1], qx, qy)
+	first := 0
+	for first < k && (td[first] < lastD || (td[first] == lastD && tg[first] <= last)) {
+		first++
+	}
+	if first == k {
+		return 0, true
+	}
+	t.countBefore(qx, qy, td, tg, first, r.cnt, r.hist, &r.stack)
+	for s := first; s < k; s++ {
+		rank := 1 + r.cnt[s]
+		if td[s] > 0 || tg[s] > int32(i) {
+			rank-- // i itself, at distance 0, was counted
+		}
+		if rank > int64(k) {
+			pen += rank - int64(k)
+		}
+	}
+	return pen, true
 }
 
 // penalty sorts the targets by (dist, index); for every other point l it

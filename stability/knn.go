@@ -10,6 +10,9 @@ import (
 // k-d tree (Bentley 1975) whose queries return the k nearest other points
 // sorted by ascending squared distance, ties broken by the smaller index, so
 // results do not depend on the tree's shape or on thread count.
+//
+// The same tree counts, for continuity, how many points are nearer a query
+// than each of several targets (countBefore).
 
 const leafSize = 16
 
@@ -21,8 +24,11 @@ type kdNode struct {
 }
 
 type kdTree struct {
-	y     []float64
-	idx   []int32
+	y   []float64
+	idx []int32
+	// xy holds the points in tree order, xy[2m], xy[2m+1] = the
+	// coordinates of point idx[m], so that a leaf reads contiguous memory.
+	xy    []float64
 	nodes []kdNode
 }
 
@@ -34,7 +40,19 @@ func newKDTree(y []float64) *kdTree {
 	}
 	t.nodes = make([]kdNode, 0, 2*n/leafSize+2)
 	t.build(0, n)
+	t.xy = make([]float64, 2*n)
+	for m, p := range t.idx {
+		t.xy[2*m], t.xy[2*m+1] = y[2*p], y[2*p+1]
+	}
 	return t
+}
+
+// sqDist is the squared map distance of (x, y) from (qx, qy): the one
+// expression the neighbour searches and ranks compute map distances with,
+// so that a tie compares equal wherever it is met.
+func sqDist(x, y, qx, qy float64) float64 {
+	dx, dy := x-qx, y-qy
+	return dx*dx + dy*dy
 }
 
 func (t *kdTree) build(lo, hi int) int32 {
@@ -172,12 +190,16 @@ func (t *kdTree) query(q int, k int, h *nbHeap, dst []int32) {
 			continue
 		}
 		if nd.left < 0 {
-			for _, p := range t.idx[nd.lo:nd.hi] {
+			xy := t.xy[2*nd.lo : 2*nd.hi]
+			for m, p := range t.idx[nd.lo:nd.hi] {
 				if int(p) == q {
 					continue
 				}
-				dx, dy := t.y[2*p]-qx, t.y[2*p+1]-qy
-				h.push(dx*dx+dy*dy, p)
+				v := sqDist(xy[2*m], xy[2*m+1], qx, qy)
+				if h.full() && !worse(h.d2[0], h.ix[0], v, p) {
+					continue
+				}
+				h.push(v, p)
 			}
 			continue
 		}
@@ -195,6 +217,92 @@ func boxDist2(nd *kdNode, qx, qy float64) float64 {
 	dx := max(nd.minX-qx, 0, qx-nd.maxX)
 	dy := max(nd.minY-qy, 0, qy-nd.maxY)
 	return dx*dx + dy*dy
+}
+
+// boxMaxDist2 is the squared distance from (qx, qy) to the farthest corner
+// of nd's box. Rounding is monotone, so for every point p in the box
+// boxDist2 ≤ sqDist(p) ≤ boxMaxDist2 holds for the rounded values too:
+// |fl(x−qx)| lies between the rounded differences of the box's sides.
+func boxMaxDist2(nd *kdNode, qx, qy float64) float64 {
+	dx := max(qx-nd.minX, nd.maxX-qx)
+	dy := max(qy-nd.minY, nd.maxY-qy)
+	return dx*dx + dy*dy
+}
+
+// rankFrame is a node of the tree still to visit with the range [a, b) of
+// targets whose radius cuts its box.
+type rankFrame struct{ node, a, b int32 }
+
+// countBefore counts, for every target t in [first, len(td)), the points l
+// of the tree with (sqDist(l), l) < (td[t], tg[t]) — the query point
+// itself included — and writes the count into cnt[t]. The targets must be
+// sorted by (td, tg). One walk serves all targets: a box entirely inside a
+// target's radius adds its point count to that target and every larger
+// one (a difference array, diff[t] − diff[end]), a box entirely outside is
+// skipped, and only boxes some radius cuts are opened; in a leaf each
+// point is placed among the targets still open there. Cost about the
+// number of points near the targets' circles, O(N) at worst. diff needs
+// len(td)+1 entries and stack is reused scratch.
+func (t *kdTree) countBefore(qx, qy float64, td []float64, tg []int32, first int, cnt, diff []int64, stack *[]rankFrame) {
+	k := len(td)
+	clear(diff[first : k+1])
+	st := append((*stack)[:0], rankFrame{0, int32(first), int32(k)})
+	for len(st) > 0 {
+		f := st[len(st)-1]
+		st = st[:len(st)-1]
+		nd := &t.nodes[f.node]
+		a, b := int(f.a), int(f.b)
+		// Targets closer than the whole box: none of its points precede
+		// them.
+		near := boxDist2(nd, qx, qy)
+		for a < b && td[a] < near {
+			a++
+		}
+		if a == b {
+			continue
+		}
+		// Targets farther than the whole box: all its points precede them.
+		far := boxMaxDist2(nd, qx, qy)
+		s := b
+		for s > a && td[s-1] > far {
+			s--
+		}
+		if s < b {
+			c := int64(nd.hi - nd.lo)
+			diff[s] += c
+			diff[b] -= c
+		}
+		if a == s {
+			continue
+		}
+		if nd.left >= 0 {
+			st = append(st, rankFrame{nd.left, int32(a), int32(s)}, rankFrame{nd.right, int32(a), int32(s)})
+			continue
+		}
+		lastD, lastI := td[s-1], tg[s-1]
+		xy := t.xy[2*nd.lo : 2*nd.hi]
+		var placed int64
+		for m, p := range t.idx[nd.lo:nd.hi] {
+			v := sqDist(xy[2*m], xy[2*m+1], qx, qy)
+			if v > lastD || (v == lastD && p >= lastI) {
+				continue // after every open target
+			}
+			// First open target after (v, p).
+			u := a
+			for td[u] < v || (td[u] == v && tg[u] <= p) {
+				u++
+			}
+			diff[u]++
+			placed++
+		}
+		diff[s] -= placed
+	}
+	*stack = st
+	var c int64
+	for s := first; s < k; s++ {
+		c += diff[s]
+		cnt[s] = c
+	}
 }
 
 // mapNeighbors returns the k nearest other points of each query point
