@@ -6,13 +6,12 @@ import "math"
 // points, attraction over a row of P and the expansions of summarised cells
 // (the Barnes-Hut and exact gradients), the squared distances of the exact
 // neighbour search, and the KL divergence's row sums. Each processes its
-// input in blocks of lanes (eight for direct sums, cells and attraction,
-// four for the others): the generic Go code below spells the lanes out, and on amd64 an
+// input in blocks of lanes (eight for direct sums and cells, four for the
+// others): the generic Go code below spells the lanes out, and on amd64 an
 // assembly version (kernels_amd64.s) does the same operations in vector
 // registers, with AVX2, or with AVX-512 for the eight-lane kernels where
 // the CPU has it (on a 2-core AMD EPYC of 2026 the AVX-512 direct sum took
-// 0.24 ns a pair against 0.44 ns for AVX2, the attraction 0.37 ns an entry
-// against 0.47 ns). All paths perform the same
+// 0.24 ns a pair against 0.44 ns for AVX2). All paths perform the same
 // IEEE operations in the same order (no fused multiply-add; true
 // divisions), so their results are bit-identical and a layout does not
 // depend on which one ran; TestKernelsMatchGeneric and its neighbours
@@ -82,57 +81,55 @@ func reduceDirect8(s *[8]float64) float64 {
 }
 
 // attraction returns Σ_j p_ij w_ij (y_i − y_j) over the stored entries of
-// row i of P, with (xi, yi) = y_i: the whole blocks of eight entries in
-// eight lanes, then the remaining entries as one more block, padded with
-// entries of value 0 at column i (which add exactly nothing), whose sum is
-// added last.
+// row i of P, with (xi, yi) = y_i.
 func attraction(y []float64, p *Sparse, i int, xi, yi float64) (ax, ay float64) {
 	e, end := p.RowPtr[i], p.RowPtr[i+1]
 	col, val := p.Col[e:end], p.Val[e:end]
-	m := len(col) &^ 7
+	m := len(col) &^ 3
 	if m > 0 {
-		ax, ay = attract8(y, col[:m], val[:m], xi, yi)
+		if useAVX2 {
+			ax, ay = attract4AVX2(y, col[:m], val[:m], xi, yi)
+		} else {
+			ax, ay = attract4Generic(y, col[:m], val[:m], xi, yi)
+		}
 	}
-	if m < len(col) {
-		tc := [8]int32{int32(i), int32(i), int32(i), int32(i), int32(i), int32(i), int32(i), int32(i)}
-		var tv [8]float64
-		copy(tc[:], col[m:])
-		copy(tv[:], val[m:])
-		bx, by := attract8(y, tc[:], tv[:], xi, yi)
-		ax += bx
-		ay += by
+	for k := m; k < len(col); k++ {
+		j := int(col[k])
+		dx, dy := xi-y[2*j], yi-y[2*j+1]
+		pw := val[k] / (1 + dx*dx + dy*dy)
+		ax += pw * dx
+		ay += pw * dy
 	}
 	return ax, ay
 }
 
-func attract8(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64) {
-	switch {
-	case useAVX512:
-		return attract8AVX512(y, col, val, xi, yi)
-	case useAVX2:
-		return attract8AVX2(y, col, val, xi, yi)
+// attract4Generic is attraction over whole blocks of four entries
+// (len(col) = len(val), a multiple of 4); lane l holds entry l of a block.
+// Every index in col must address a point of y.
+func attract4Generic(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64) {
+	var ax0, ax1, ax2, ax3, ay0, ay1, ay2, ay3 float64
+	for k := 0; k+4 <= len(col); k += 4 {
+		c := col[k : k+4 : k+4]
+		v := val[k : k+4 : k+4]
+		j0, j1, j2, j3 := int(c[0]), int(c[1]), int(c[2]), int(c[3])
+		dx0, dy0 := xi-y[2*j0], yi-y[2*j0+1]
+		dx1, dy1 := xi-y[2*j1], yi-y[2*j1+1]
+		dx2, dy2 := xi-y[2*j2], yi-y[2*j2+1]
+		dx3, dy3 := xi-y[2*j3], yi-y[2*j3+1]
+		pw0 := v[0] / (1 + dx0*dx0 + dy0*dy0)
+		pw1 := v[1] / (1 + dx1*dx1 + dy1*dy1)
+		pw2 := v[2] / (1 + dx2*dx2 + dy2*dy2)
+		pw3 := v[3] / (1 + dx3*dx3 + dy3*dy3)
+		ax0 += pw0 * dx0
+		ax1 += pw1 * dx1
+		ax2 += pw2 * dx2
+		ax3 += pw3 * dx3
+		ay0 += pw0 * dy0
+		ay1 += pw1 * dy1
+		ay2 += pw2 * dy2
+		ay3 += pw3 * dy3
 	}
-	return attract8Generic(y, col, val, xi, yi)
-}
-
-// attract8Generic is attraction over whole blocks of eight entries
-// (len(col) = len(val), a multiple of 8); lane l holds entry l of a block,
-// and the lanes are combined as in cells8Generic. Every index in col must
-// address a point of y.
-func attract8Generic(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64) {
-	var xs, ys [8]float64
-	for k := 0; k+8 <= len(col); k += 8 {
-		c := col[k : k+8 : k+8]
-		v := val[k : k+8 : k+8]
-		for l := 0; l < 8; l++ {
-			j := int(c[l])
-			dx, dy := xi-y[2*j], yi-y[2*j+1]
-			pw := v[l] / (1 + dx*dx + dy*dy)
-			xs[l] += pw * dx
-			ys[l] += pw * dy
-		}
-	}
-	return reduceCells8(&xs), reduceCells8(&ys)
+	return (ax0 + ax2) + (ax1 + ax3), (ay0 + ay2) + (ay1 + ay3)
 }
 
 // cellBlockLen is the number of float64s in one block of eight cells.

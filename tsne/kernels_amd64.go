@@ -55,10 +55,7 @@ func direct8AVX2(xi, yi float64, ys []float64) (z, rx, ry float64)
 func direct8AVX512(xi, yi float64, ys []float64) (z, rx, ry float64)
 
 //go:noescape
-func attract8AVX2(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64)
-
-//go:noescape
-func attract8AVX512(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64)
+func attract4AVX2(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64)
 
 //go:noescape
 func sqDist8AVX2(a, b []float64, bound float64) (s0, s1, s2, s3 float64, over bool)

@@ -100,26 +100,9 @@ TEXT ·xgetbv(SB), NOSPLIT, $0-8
 	MOVL DX, edx+4(FP)
 	RET
 
-// ATTRACT4(COFF, VOFF, AX, AY) adds the attraction of four entries of the
-// block at SI (column indices, byte offset COFF) and DX (values, byte
-// offset VOFF) to the lanes of AX, AY, lane l for entry l (GATHER4's
-// registers; Y11 scratch).
-#define ATTRACT4(COFF, VOFF, AX, AY) \
-	ADDQ        $COFF, SI \
-	GATHER4 \
-	SUBQ        $COFF, SI \
-	VMOVUPD     VOFF(DX), Y11 \
-	VDIVPD      Y10, Y11, Y10 \
-	VMULPD      Y10, Y8, Y8 \
-	VADDPD      Y8, AX, AX \
-	VMULPD      Y10, Y9, Y9 \
-	VADDPD      Y9, AY, AY
-
-// func attract8AVX2(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64)
-// len(col) = len(val) is a multiple of 8; every index addresses a point of
-// y. Entries 0–3 and 4–7 of each block go to two sets of four lanes, added
-// lane by lane before the reduction (see attract8Generic).
-TEXT ·attract8AVX2(SB), NOSPLIT, $0-104
+// func attract4AVX2(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64)
+// len(col) = len(val) is a multiple of 4; every index addresses a point of y.
+TEXT ·attract4AVX2(SB), NOSPLIT, $0-104
 	MOVQ         y_base+0(FP), DI
 	MOVQ         col_base+24(FP), SI
 	MOVQ         col_len+32(FP), CX
@@ -127,95 +110,25 @@ TEXT ·attract8AVX2(SB), NOSPLIT, $0-104
 	VBROADCASTSD xi+72(FP), Y0
 	VBROADCASTSD yi+80(FP), Y1
 	VMOVUPD      kone<>(SB), Y2
-	VXORPD       Y3, Y3, Y3        // ax, entries 0–3
+	VXORPD       Y3, Y3, Y3        // ax
 	VXORPD       Y4, Y4, Y4        // ay
-	VXORPD       Y12, Y12, Y12     // ax, entries 4–7
-	VXORPD       Y13, Y13, Y13     // ay
-	SHRQ         $3, CX
-	JZ           a8done
+	SHRQ         $2, CX
+	JZ           adone
 
-a8loop:
-	ATTRACT4(0, 0, Y3, Y4)
-	ATTRACT4(16, 32, Y12, Y13)
-	ADDQ $32, SI
-	ADDQ $64, DX
-	DECQ CX
-	JNZ  a8loop
+aloop:
+	GATHER4                                   // dx Y8, dy Y9, u Y10
+	VMOVUPD     0(DX), Y11                    // p
+	VDIVPD      Y10, Y11, Y10                 // p/u
+	VMULPD      Y10, Y8, Y8
+	VADDPD      Y8, Y3, Y3
+	VMULPD      Y10, Y9, Y9
+	VADDPD      Y9, Y4, Y4
+	ADDQ        $16, SI
+	ADDQ        $32, DX
+	DECQ        CX
+	JNZ         aloop
 
-a8done:
-	VADDPD Y12, Y3, Y3
-	VADDPD Y13, Y4, Y4
-	REDUCE(Y3, X3, X6)
-	REDUCE(Y4, X4, X7)
-	VMOVSD X3, ax+88(FP)
-	VMOVSD X4, ay+96(FP)
-	VZEROUPPER
-	RET
-
-// LOADPT(OFF, R) leaves in R the byte offset of the point whose int32
-// index is at OFF(SI).
-#define LOADPT(OFF, R) \
-	MOVL OFF(SI), R \
-	SHLQ $4, R
-
-// func attract8AVX512(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64)
-// As attract8AVX2 with the eight entries of a block in one register, lane l
-// for entry l. The points are loaded 16 bytes at a time and inserted (on
-// the AMD EPYC this was written on, VGATHERDPD took 4.5× as long).
-TEXT ·attract8AVX512(SB), NOSPLIT, $0-104
-	MOVQ         y_base+0(FP), DI
-	MOVQ         col_base+24(FP), SI
-	MOVQ         col_len+32(FP), CX
-	MOVQ         val_base+48(FP), DX
-	VBROADCASTSD xi+72(FP), Z0
-	VBROADCASTSD yi+80(FP), Z1
-	VBROADCASTSD kone<>(SB), Z2
-	VXORPD       Z3, Z3, Z3
-	VXORPD       Z4, Z4, Z4
-	SHRQ         $3, CX
-	JZ           az8done
-
-az8loop:
-	LOADPT(0, R8)
-	LOADPT(8, R9)
-	LOADPT(16, R10)
-	LOADPT(24, R11)
-	VMOVUPD      (DI)(R8*1), X10
-	VINSERTF64X2 $1, (DI)(R9*1), Z10, Z10
-	VINSERTF64X2 $2, (DI)(R10*1), Z10, Z10
-	VINSERTF64X2 $3, (DI)(R11*1), Z10, Z10   // points 0 2 4 6
-	LOADPT(4, R8)
-	LOADPT(12, R9)
-	LOADPT(20, R10)
-	LOADPT(28, R11)
-	VMOVUPD      (DI)(R8*1), X11
-	VINSERTF64X2 $1, (DI)(R9*1), Z11, Z11
-	VINSERTF64X2 $2, (DI)(R10*1), Z11, Z11
-	VINSERTF64X2 $3, (DI)(R11*1), Z11, Z11   // points 1 3 5 7
-	VUNPCKLPD    Z11, Z10, Z6                 // x0 … x7
-	VUNPCKHPD    Z11, Z10, Z7                 // y0 … y7
-	VSUBPD       Z6, Z0, Z6                   // dx
-	VSUBPD       Z7, Z1, Z7                   // dy
-	VMULPD       Z6, Z6, Z8
-	VADDPD       Z8, Z2, Z8
-	VMULPD       Z7, Z7, Z9
-	VADDPD       Z9, Z8, Z8                   // u
-	VMOVUPD      0(DX), Z9
-	VDIVPD       Z8, Z9, Z8                   // p/u
-	VMULPD       Z8, Z6, Z6
-	VADDPD       Z6, Z3, Z3
-	VMULPD       Z8, Z7, Z7
-	VADDPD       Z7, Z4, Z4
-	ADDQ         $32, SI
-	ADDQ         $64, DX
-	DECQ         CX
-	JNZ          az8loop
-
-az8done:
-	VEXTRACTF64X4 $1, Z3, Y6
-	VADDPD        Y6, Y3, Y3
-	VEXTRACTF64X4 $1, Z4, Y6
-	VADDPD        Y6, Y4, Y4
+adone:
 	REDUCE(Y3, X3, X6)
 	REDUCE(Y4, X4, X7)
 	VMOVSD X3, ax+88(FP)

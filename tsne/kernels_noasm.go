@@ -14,12 +14,8 @@ func direct8AVX512(xi, yi float64, ys []float64) (z, rx, ry float64) {
 	return direct8Generic(xi, yi, ys)
 }
 
-func attract8AVX2(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64) {
-	return attract8Generic(y, col, val, xi, yi)
-}
-
-func attract8AVX512(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64) {
-	return attract8Generic(y, col, val, xi, yi)
+func attract4AVX2(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64) {
+	return attract4Generic(y, col, val, xi, yi)
 }
 
 func sqDist8AVX2(a, b []float64, bound float64) (s0, s1, s2, s3 float64, over bool) {

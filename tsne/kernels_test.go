@@ -86,13 +86,14 @@ func TestKernelsMatchGeneric(t *testing.T) {
 			// Attraction over a random row of entries.
 			col, val := randomRow(r, n)
 			k := len(col)
-			mk := k &^ 7
-			g1, g2 := attract8Generic(y, col[:mk], val[:mk], xi, yi)
-			for _, ks := range asmKernels() {
-				a1, a2 := ks.attract(y, col[:mk], val[:mk], xi, yi)
-				if !sameBits(g1, a1) || !sameBits(g2, a2) {
-					t.Fatalf("%s attraction: %s (%v %v) != generic (%v %v)", name, ks.name, a1, a2, g1, g2)
-				}
+			mk := k &^ 3
+			g1, g2 := attract4Generic(y, col[:mk], val[:mk], xi, yi)
+			a1, a2 := g1, g2
+			if asm {
+				a1, a2 = attract4AVX2(y, col[:mk], val[:mk], xi, yi)
+			}
+			if !sameBits(g1, a1) || !sameBits(g2, a2) {
+				t.Fatalf("%s attraction: assembly (%v %v) != generic (%v %v)", name, a1, a2, g1, g2)
 			}
 			p := &Sparse{N: 1, RowPtr: []int{0, k}, Col: col, Val: val}
 			fx, fy := attraction(y, p, 0, xi, yi)
@@ -147,23 +148,21 @@ func TestKernelsMatchGeneric(t *testing.T) {
 // asmKernels lists the assembly versions of the eight-lane kernels this
 // machine can run.
 func asmKernels() []struct {
-	name    string
-	direct  func(xi, yi float64, ys []float64) (z, rx, ry float64)
-	cells   func(xi, yi float64, blk []float64) (z, rx, ry float64)
-	attract func(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64)
+	name   string
+	direct func(xi, yi float64, ys []float64) (z, rx, ry float64)
+	cells  func(xi, yi float64, blk []float64) (z, rx, ry float64)
 } {
 	type kset = struct {
-		name    string
-		direct  func(xi, yi float64, ys []float64) (z, rx, ry float64)
-		cells   func(xi, yi float64, blk []float64) (z, rx, ry float64)
-		attract func(y []float64, col []int32, val []float64, xi, yi float64) (ax, ay float64)
+		name   string
+		direct func(xi, yi float64, ys []float64) (z, rx, ry float64)
+		cells  func(xi, yi float64, blk []float64) (z, rx, ry float64)
 	}
 	var out []kset
 	if hasAsmKernels() {
-		out = append(out, kset{"AVX2", direct8AVX2, cells8AVX2, attract8AVX2})
+		out = append(out, kset{"AVX2", direct8AVX2, cells8AVX2})
 	}
 	if hasAVX512Kernels() {
-		out = append(out, kset{"AVX-512", direct8AVX512, cells8AVX512, attract8AVX512})
+		out = append(out, kset{"AVX-512", direct8AVX512, cells8AVX512})
 	}
 	return out
 }
