@@ -272,12 +272,13 @@ func (o *optimizer) step() (bool, error) {
 	for k, gk := range o.g {
 		u := o.update[k]
 		gain := o.gains[k]
-		if u*gk < 0 {
-			gain += 0.2
-		} else {
-			gain *= 0.8
-		}
-		gain = max(gain, 0.01)
+		// gain + 0.2 where the step reverses the last update, gain·0.8
+		// elsewhere, at least 0.01: chosen by bit masks (conditional
+		// moves), since the sign test is close to a coin toss for a
+		// branch predictor.
+		inc, dec := gain+0.2, gain*0.8
+		gain = selectFloat(u*gk < 0, inc, dec)
+		gain = selectFloat(gain < 0.01, 0.01, gain)
 		o.gains[k] = gain
 		u = mom*u - eta*gain*gk
 		o.update[k] = u
@@ -371,4 +372,13 @@ func (o *optimizer) result() *Result {
 		res.Theta = o.cfg.Theta
 	}
 	return res
+}
+
+// selectFloat returns a if c, else b, without a branch.
+func selectFloat(c bool, a, b float64) float64 {
+	var m uint64
+	if c {
+		m = ^uint64(0)
+	}
+	return math.Float64frombits(math.Float64bits(a)&m | math.Float64bits(b)&^m)
 }
