@@ -21,7 +21,7 @@ import "math"
 // quadrupole term removes that bias and cuts the gradient error at θ = 0.5
 // by roughly a factor of 7 on a random layout for a few extra flops per cell.
 //
-// Other cells are opened; leaves hold up to 32 points and sum exactly.
+// Other cells are opened; leaves hold up to 64 points and sum exactly.
 // The points of one leaf share a walk (the group walk of Barnes, J. Comp.
 // Phys. 87, 1990): the criterion is tested with d the distance from c to
 // the group's bounding box, a lower bound on every member's distance, so
@@ -30,9 +30,11 @@ import "math"
 // lists are evaluated per point without tests: the accepted cells as a
 // list of eight-lane blocks (sumCells), the points to sum exactly copied
 // into one run padded to whole blocks of eight (sumDirect), both
-// vectorised with AVX2 or AVX-512 (see kernels.go). The leaf size of 32 was the fastest of 16, 24, 32, 48 and
-// 64 on a 20,000-point mixture at θ = 0.8 (ties on digits; one machine,
-// 2026-12-02).
+// vectorised with AVX2 or AVX-512 (see kernels.go). With those kernels a
+// leaf size of 64 was the fastest of 32, 48, 64, 96 and 128: 8% less CPU
+// than 32 on 8 runs of a 5,000-point mixture at θ = 0.8, 10% on one run of
+// 20,000 points (one machine, 2026-12-02; with four-lane AVX2 kernels 32
+// had been the fastest).
 // θ = 0 opens every cell (exact sums through the tree); larger θ is faster
 // and coarser. The tree is built sequentially from the points sorted by
 // Morton key (see build; 5,000 clustered points: 78 µs from the previous
@@ -88,11 +90,11 @@ var _ Gradient = (*BarnesHut)(nil)
 // DefaultTheta is the default Barnes-Hut opening angle. With the quadrupole
 // term and the group walk, this tree is far more accurate at a given θ than
 // the plain monopole tree of van der Maaten (2014): at θ = 0.5 its relative
-// RMS repulsion error on three digits layouts is 1.2e-4 to 6.4e-4, against
+// RMS repulsion error on three digits layouts is 5.2e-5 to 5.4e-4, against
 // 6.1e-3 to 1.8e-2 for scikit-learn 1.2.1 at its default θ = 0.5. The
 // default is the largest θ in steps of 0.1 whose error stays at or below
-// scikit-learn's on all three layouts (0.8: 1.5e-3 to 5.3e-3; 0.9 exceeds
-// it on the compact layout, 1.0e-2). TestDefaultThetaAccuracy checks this against
+// scikit-learn's on all three layouts (0.8: 4.1e-4 to 4.1e-3; 0.9 exceeds
+// it on the compact layout, 8.2e-3; leaves of 64 points, 2026-12-02). TestDefaultThetaAccuracy checks this against
 // the fixture in testdata/sklearn_bh.
 const DefaultTheta = 0.8
 
@@ -108,7 +110,7 @@ type bhNode struct {
 
 const (
 	bhLeafChunk = 4 // leaves (groups) per parallel chunk
-	bhLeafSize  = 32
+	bhLeafSize  = 64
 	bhKeyBits   = 24 // bits of each quantised coordinate in a key
 	bhMaxDepth  = bhKeyBits
 )
