@@ -6,6 +6,7 @@ import (
 	"math"
 
 	"plumb/internal/dataset"
+	"plumb/internal/par"
 	"plumb/stability"
 	"plumb/tsne"
 )
@@ -141,6 +142,24 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 			batchLayouts = append(batchLayouts, sr.layouts...)
 		}
 		faith := sc.batch(batchLayouts)
+		// Each run's own scores, the runs of the batch in parallel (they
+		// share only read-only inputs); used below in plan order, so the
+		// first failing run still reports its error.
+		type runResult struct {
+			rs  RunScore
+			yr  *stability.DistanceRanks
+			err error
+		}
+		results := make([]runResult, len(batchLayouts))
+		sc.prepare()
+		par.Each(len(batchLayouts), threads, func(q int) {
+			var f *stability.Faithfulness
+			if faith != nil {
+				f = &faith[q]
+			}
+			r := &results[q]
+			r.rs, r.yr, r.err = sc.score(batchLayouts[q], f)
+		})
 		at := 0
 		for b, sr := range batch {
 			s := sr.setting
@@ -151,12 +170,8 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 				if err := ctx.Err(); err != nil {
 					return nil, fmt.Errorf("score: %w", err)
 				}
-				var f *stability.Faithfulness
-				if faith != nil {
-					f = &faith[at]
-				}
+				rs, yr, err := results[at].rs, results[at].yr, results[at].err
 				at++
-				rs, yr, err := sc.score(sr.layouts[i], f)
 				if err != nil {
 					return nil, fmt.Errorf("score: run %s: %w", r.ID, err)
 				}
@@ -377,13 +392,7 @@ func (sc *runScorer) score(y []float64, f *stability.Faithfulness) (RunScore, *s
 // or error.
 func (sc *runScorer) distanceSpearman(y []float64) (float64, *stability.DistanceRanks, error) {
 	ds := sc.ds
-	if !sc.inDone {
-		sc.inDone = true
-		sc.inFlat = NoVariance(ds.X, ds.N, ds.D)
-		if in, err := stability.NewDistanceRanks(ds.X, ds.D, 0, scoreSeed); err == nil {
-			sc.in = in
-		}
-	}
+	sc.prepare()
 	var yr *stability.DistanceRanks
 	if !NoVariance(y, len(y)/2, 2) {
 		var err error
@@ -409,6 +418,19 @@ func (sc *runScorer) distanceSpearman(y []float64) (float64, *stability.Distance
 		return 0, nil, err
 	}
 	return dc, yr, nil
+}
+
+// prepare ranks the input's pair distances once, for every run; call it
+// before runs are scored concurrently (score only reads what it made).
+func (sc *runScorer) prepare() {
+	if sc.inDone {
+		return
+	}
+	sc.inDone = true
+	sc.inFlat = NoVariance(sc.ds.X, sc.ds.N, sc.ds.D)
+	if in, err := stability.NewDistanceRanks(sc.ds.X, sc.ds.D, 0, scoreSeed); err == nil {
+		sc.in = in
+	}
 }
 
 // pairSpearman is distanceSpearman(a, 2, b) for two layouts, from their
