@@ -13,16 +13,16 @@ var (
 )
 
 // hasAVX2 reports whether the CPU and the operating system support AVX2
-// (CPUID leaf 7 EBX bit 5, AVX and OSXSAVE in leaf 1 ECX, and the YMM
-// state enabled in XCR0).
+// and FMA (CPUID leaf 7 EBX bit 5, AVX, FMA and OSXSAVE in leaf 1 ECX, and
+// the YMM state enabled in XCR0).
 func hasAVX2() bool {
 	maxLeaf, _, _, _ := cpuid(0, 0)
 	if maxLeaf < 7 {
 		return false
 	}
 	_, _, ecx1, _ := cpuid(1, 0)
-	const osxsave, avx = 1 << 27, 1 << 28
-	if ecx1&osxsave == 0 || ecx1&avx == 0 {
+	const fma, osxsave, avx = 1 << 12, 1 << 27, 1 << 28
+	if ecx1&osxsave == 0 || ecx1&avx == 0 || ecx1&fma == 0 {
 		return false
 	}
 	if xcr0, _ := xgetbv(); xcr0&6 != 6 {

@@ -146,19 +146,16 @@ adone:
 	VMOVUPD   (OFF+64)(SI), Y7 \
 	VUNPCKLPD Y7, Y6, Y8 \
 	VUNPCKHPD Y7, Y6, Y9 \
-	VSUBPD    Y8, Y0, Y8 \
-	VSUBPD    Y9, Y1, Y9 \
-	VMULPD    Y8, Y8, Y10 \
-	VADDPD    Y10, Y2, Y10 \
-	VMULPD    Y9, Y9, Y11 \
-	VADDPD    Y11, Y10, Y10 \
-	VDIVPD    Y10, Y2, Y10 \
-	VADDPD    Y10, Z, Z \
-	VMULPD    Y10, Y10, Y10 \
-	VMULPD    Y10, Y8, Y8 \
-	VADDPD    Y8, X, X \
-	VMULPD    Y10, Y9, Y9 \
-	VADDPD    Y9, Y, Y
+	VSUBPD      Y8, Y0, Y8 \
+	VSUBPD      Y9, Y1, Y9 \
+	VMOVAPD     Y2, Y10 \
+	VFMADD231PD Y8, Y8, Y10 \
+	VFMADD231PD Y9, Y9, Y10 \
+	VDIVPD      Y10, Y2, Y10 \
+	VADDPD      Y10, Z, Z \
+	VMULPD      Y10, Y10, Y10 \
+	VFMADD231PD Y10, Y8, X \
+	VFMADD231PD Y10, Y9, Y
 
 // func direct8AVX2(xi, yi float64, ys []float64) (z, rx, ry float64)
 // len(ys) is a multiple of 16 (whole blocks of eight points). Two sets of
@@ -214,22 +211,19 @@ z8loop:
 	VMOVUPD   64(SI), Z7           // points 4–7
 	VUNPCKLPD Z7, Z6, Z8           // x0 x4 x1 x5 x2 x6 x3 x7
 	VUNPCKHPD Z7, Z6, Z9           // y in the same order
-	VSUBPD    Z8, Z0, Z8
-	VSUBPD    Z9, Z1, Z9
-	VMULPD    Z8, Z8, Z10
-	VADDPD    Z10, Z2, Z10
-	VMULPD    Z9, Z9, Z11
-	VADDPD    Z11, Z10, Z10
-	VDIVPD    Z10, Z2, Z10
-	VADDPD    Z10, Z3, Z3
-	VMULPD    Z10, Z10, Z10
-	VMULPD    Z10, Z8, Z8
-	VADDPD    Z8, Z4, Z4
-	VMULPD    Z10, Z9, Z9
-	VADDPD    Z9, Z5, Z5
-	ADDQ      $128, SI
-	DECQ      CX
-	JNZ       z8loop
+	VSUBPD      Z8, Z0, Z8
+	VSUBPD      Z9, Z1, Z9
+	VMOVAPD     Z2, Z10
+	VFMADD231PD Z8, Z8, Z10        // 1 + dx², fused
+	VFMADD231PD Z9, Z9, Z10        // u = (1 + dx²) + dy², fused
+	VDIVPD      Z10, Z2, Z10       // w = 1/u
+	VADDPD      Z10, Z3, Z3        // z += w
+	VMULPD      Z10, Z10, Z10      // w²
+	VFMADD231PD Z10, Z8, Z4        // rx += w²·dx, fused
+	VFMADD231PD Z10, Z9, Z5        // ry += w²·dy, fused
+	ADDQ        $128, SI
+	DECQ        CX
+	JNZ         z8loop
 
 z8done:
 	HALVES3

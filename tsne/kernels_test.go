@@ -495,11 +495,11 @@ func TestFarPointAddsNothing(t *testing.T) {
 		for q := 0; q+2 <= len(pts); q += 2 {
 			l := (q / 2) & 7
 			dx, dy := xi-pts[q], yi-pts[q+1]
-			w := 1 / (1 + dx*dx + dy*dy)
+			w := 1 / math.FMA(dy, dy, math.FMA(dx, dx, 1))
 			zs[l] += w
 			w *= w
-			xs[l] += w * dx
-			ysum[l] += w * dy
+			xs[l] = math.FMA(w, dx, xs[l])
+			ysum[l] = math.FMA(w, dy, ysum[l])
 		}
 		ref := [3]float64{reduceDirect8(&zs), reduceDirect8(&xs), reduceDirect8(&ysum)}
 		if got != ref {
