@@ -192,8 +192,8 @@ func (g *BarnesHut) Gradient(dst, y []float64, p *Sparse, exaggeration float64) 
 // little between iterations, so the sort starts from the previous call's
 // order with an insertion sort, or, when that would move more than a few
 // points per point, with a radix sort. Either way the order is the same,
-// a function of the layout alone. Points whose
-// keys agree (closer than the root side / 2^24) share a leaf.
+// a function of the layout alone. Points whose keys agree (closer than
+// the root side / 2^24) share a leaf.
 func (g *BarnesHut) build(y []float64) {
 	n := len(y) / 2
 	minX, minY := math.Inf(1), math.Inf(1)
