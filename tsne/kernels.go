@@ -14,8 +14,8 @@ import "math"
 // 0.24 ns a pair against 0.44 ns for AVX2). All paths perform the same
 // IEEE operations in the same order (true divisions; fused multiply-adds
 // only in the direct sums, where math.FMA gives the Go code the same
-// single rounding), so their results are bit-identical and a layout does not
-// depend on which one ran; TestKernelsMatchGeneric and its neighbours
+// single rounding), so their results are bit-identical and a layout does
+// not depend on which one ran; TestKernelsMatchGeneric and its neighbours
 // check this. Build with the purego tag to leave the assembly out.
 //
 // Four-lane sums are combined as (l0 + l2) + (l1 + l3), the order of the
@@ -59,10 +59,10 @@ const farPoint = 1e300
 // direct8Generic is sumDirect over whole blocks of eight points (len(ys) a
 // multiple of 16), with fused multiply-adds where marked in the assembly
 // (u = fma(dy, dy, fma(dx, dx, 1)), r = fma(w², d, r); 22% faster there
-// than separate operations); lane l sums block position l, and the lanes are combined
-// as ((s0 + s2) + (s1 + s3)) + ((s4 + s6) + (s5 + s7)), the order of the
-// assembly's reductions (its registers hold the positions as 0, 4, 1, 5,
-// 2, 6, 3, 7).
+// than separate operations). Lane l sums block position l, and the lanes
+// are combined as ((s0 + s2) + (s1 + s3)) + ((s4 + s6) + (s5 + s7)), the
+// order of the assembly's reductions (its registers hold the positions as
+// 0, 4, 1, 5, 2, 6, 3, 7).
 func direct8Generic(xi, yi float64, ys []float64) (z, rx, ry float64) {
 	var zs, xs, ysum [8]float64
 	for q := 0; q+16 <= len(ys); q += 16 {
