@@ -302,23 +302,52 @@ func BenchmarkBarnesHutBuild(b *testing.B) {
 func TestBarnesHutBuildOrder(t *testing.T) {
 	rng := rand.New(rand.NewPCG(12, 21))
 	n := 3000
+	dup := func(y []float64) { // duplicates share keys; ties go by index
+		for i := 0; i < 40; i++ {
+			y[2*(n-1-i)], y[2*(n-1-i)+1] = y[2*i], y[2*i+1]
+		}
+	}
 	a := bhTestClustered(n, 2, 3, rng)
-	b := bhTestClustered(n, 2, 3, rng) // unrelated: the insertion sort gives up
-	near := slices.Clone(a)            // a nudged: the insertion sort finishes
+	dup(a)
+	b := bhTestClustered(n, 2, 3, rng)
+	dup(b)
+	near := slices.Clone(a)
 	for i := range near {
-		near[i] += 0.01 * rng.NormFloat64()
+		near[i] += 1e-3 * rng.NormFloat64()
 	}
-	for i := 0; i < 40; i++ { // duplicates share keys; ties go by index
-		b[2*(n-1-i)], b[2*(n-1-i)+1] = b[2*i], b[2*i+1]
-		near[2*(n-1-i)], near[2*(n-1-i)+1] = near[2*i], near[2*i+1]
-	}
+	dup(near)
 	for _, tc := range []struct {
 		name        string
 		first, then []float64
-	}{{"unrelated", a, b}, {"nudged", a, near}} {
+		insertion   bool // the warm build's insertion sort finishes
+	}{{"unrelated", a, b, false}, {"nudged", a, near, true}} {
+		minX, minY := math.Inf(1), math.Inf(1)
+		maxX, maxY := math.Inf(-1), math.Inf(-1)
+		for i := 0; i < n; i++ {
+			minX, maxX = min(minX, tc.then[2*i]), max(maxX, tc.then[2*i])
+			minY, maxY = min(minY, tc.then[2*i+1]), max(maxY, tc.then[2*i+1])
+		}
+		scale := (1 << bhKeyBits) / (max(maxX-minX, maxY-minY)*(1+1e-9) + 1e-300)
+		keyOf := func(i int32) uint64 {
+			x, y := tc.then[2*i], tc.then[2*i+1]
+			return bhKey((x-minX)*scale, (y-minY)*scale)
+		}
+
 		warm := NewBarnesHut(DefaultTheta, 1)
 		warm.Reset(n)
 		warm.build(tc.first)
+		// Which sort the next build takes, by build's own rule.
+		keys, perm := make([]uint64, n), slices.Clone(warm.perm)
+		descents := 0
+		for k, i := range perm {
+			keys[k] = keyOf(i)
+			if k > 0 && keys[k] < keys[k-1] {
+				descents++
+			}
+		}
+		if got := descents <= n/16 && insertionSortKeys(keys, perm, 4*n+64); got != tc.insertion {
+			t.Fatalf("%s: insertion sort finishes = %v, want %v (%d descents)", tc.name, got, tc.insertion, descents)
+		}
 		warm.Reset(n)
 		warm.build(tc.then)
 		fresh := NewBarnesHut(DefaultTheta, 1)
@@ -330,17 +359,6 @@ func TestBarnesHutBuildOrder(t *testing.T) {
 		idx := make([]int32, n)
 		for i := range idx {
 			idx[i] = int32(i)
-		}
-		minX, minY := math.Inf(1), math.Inf(1)
-		maxX, maxY := math.Inf(-1), math.Inf(-1)
-		for i := 0; i < n; i++ {
-			minX, maxX = min(minX, tc.then[2*i]), max(maxX, tc.then[2*i])
-			minY, maxY = min(minY, tc.then[2*i+1]), max(maxY, tc.then[2*i+1])
-		}
-		scale := (1 << bhKeyBits) / (max(maxX-minX, maxY-minY)*(1+1e-9) + 1e-300)
-		keyOf := func(i int32) uint64 {
-			x, y := tc.then[2*i], tc.then[2*i+1]
-			return bhKey((x-minX)*scale, (y-minY)*scale)
 		}
 		slices.SortFunc(idx, func(p, q int32) int {
 			if c := cmp.Compare(keyOf(p), keyOf(q)); c != 0 {
