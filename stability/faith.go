@@ -540,6 +540,17 @@ type rankKey struct {
 
 func (a rankKey) less(b rankKey) bool { return a.d < b.d || (a.d == b.d && a.j < b.j) }
 
+// cmpRankKey orders keys by (d, j), for the slices functions.
+func cmpRankKey(a, b rankKey) int {
+	if a.less(b) {
+		return -1
+	}
+	if b.less(a) {
+		return 1
+	}
+	return 0
+}
+
 func (r *sharedRanks) reset() { r.key = r.key[:0] }
 
 // add adds the points of row to the set to rank.
@@ -554,15 +565,7 @@ func (r *sharedRanks) add(dist []float64, row []int32) {
 // Σ_{u ≤ t} hist[u]. Each point before the last member is placed among
 // the members by binary search; cost O(N log M) at worst for M members.
 func (r *sharedRanks) rank(dist []float64, i int) {
-	slices.SortFunc(r.key, func(a, b rankKey) int {
-		if a.less(b) {
-			return -1
-		}
-		if b.less(a) {
-			return 1
-		}
-		return 0
-	})
+	slices.SortFunc(r.key, cmpRankKey)
 	r.key = slices.CompactFunc(r.key, func(a, b rankKey) bool { return a.j == b.j })
 	key := r.key
 	mk := len(key)
@@ -614,15 +617,7 @@ func (r *sharedRanks) rank(dist []float64, i int) {
 func (r *sharedRanks) penalty(dist []float64, row []int32, k int) int64 {
 	var pen int64
 	for _, j := range row {
-		t, _ := slices.BinarySearchFunc(r.key, rankKey{dist[j], j}, func(a, b rankKey) int {
-			if a.less(b) {
-				return -1
-			}
-			if b.less(a) {
-				return 1
-			}
-			return 0
-		})
+		t, _ := slices.BinarySearchFunc(r.key, rankKey{dist[j], j}, cmpRankKey)
 		if rank := 1 + r.hist[t]; rank > int64(k) {
 			pen += rank - int64(k)
 		}

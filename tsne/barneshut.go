@@ -94,8 +94,9 @@ var _ Gradient = (*BarnesHut)(nil)
 // 6.1e-3 to 1.8e-2 for scikit-learn 1.2.1 at its default θ = 0.5. The
 // default is the largest θ in steps of 0.1 whose error stays at or below
 // scikit-learn's on all three layouts (0.8: 4.1e-4 to 4.1e-3; 0.9 exceeds
-// it on the compact layout, 8.2e-3; leaves of 64 points, 2026-12-02). TestDefaultThetaAccuracy checks this against
-// the fixture in testdata/sklearn_bh.
+// it on the compact layout, 8.2e-3; leaves of 64 points, 2026-12-02).
+// TestDefaultThetaAccuracy checks this against the fixture in
+// testdata/sklearn_bh.
 const DefaultTheta = 0.8
 
 type bhNode struct {
