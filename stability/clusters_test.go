@@ -102,8 +102,8 @@ func TestMapClustersBlobs(t *testing.T) {
 	if mc.Labels[600] != -1 || mc.Groups[600] < 0 {
 		t.Errorf("lone point: label %d group %d, want noise attached to a cluster", mc.Labels[600], mc.Groups[600])
 	}
-	if mc.Noise < 1 || mc.Noise > 10 {
-		t.Errorf("got %d noise points, want the lone point and at most a few tail points", mc.Noise)
+	if mc.Noise < 1 || mc.Noise > 30 {
+		t.Errorf("got %d noise points, want the lone point and at most 5 %% (Gaussian tails are sparse)", mc.Noise)
 	}
 	if mc.MinPoints != stability.DefaultMinPoints || !(mc.Radius > 0) {
 		t.Errorf("got MinPoints %d radius %g", mc.MinPoints, mc.Radius)
