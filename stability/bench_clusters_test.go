@@ -75,7 +75,7 @@ func BenchmarkMapClusters(b *testing.B) {
 				}
 				k = mc.K
 			}
-			b.ReportMetric((cpuTime() - c0).Seconds()/float64(b.N), "cpu-s/op")
+			b.ReportMetric((cpuTime()-c0).Seconds()/float64(b.N), "cpu-s/op")
 			b.ReportMetric(float64(k), "clusters")
 		})
 	}
