@@ -30,7 +30,7 @@ var embedCache sync.Map // key string → []plantedRun
 // subset of round(frac·N) rows (rand.NewPCG(seed, 11)). Runs share two
 // goroutines, one each.
 func embedRuns(t testing.TB, name string, d *planted.Data, seeds int, frac float64) []plantedRun {
-	key := name + "/" + string(rune(seeds)) + "/" + string(rune(int(frac*1000)))
+	key := fmt.Sprintf("%s/%d/%g", name, seeds, frac)
 	if v, ok := embedCache.Load(key); ok {
 		return v.([]plantedRun)
 	}
