@@ -211,11 +211,10 @@ func ClusterStability(runs []RunClusters, n int, reference int, labels []string)
 		out[c] = ClusterReading{Cluster: int32(c), Min: nan()}
 	}
 	sum := make([]float64, ref.k)
-	for row, l := range ref.lab {
+	for _, l := range ref.lab {
 		if l >= 0 {
 			out[l].Size++
 		}
-		_ = row
 	}
 	for s := range runs {
 		if s == reference {
