@@ -218,7 +218,7 @@ func TestReadingOf(t *testing.T) {
 
 // TestCoAssignmentByHand: identical runs score 1 everywhere and flag
 // nothing; a point that joins the other group in one of three runs scores
-// by hand (1/3)(1 + 0 + 0)·… as below.
+// as computed by hand below.
 func TestCoAssignmentByHand(t *testing.T) {
 	same := stability.RunClusters{Labels: []int32{0, 0, 0, 1, 1, 1}}
 	ps, err := stability.CoAssignment([]stability.RunClusters{same, same, same}, 6, 0)
@@ -248,6 +248,16 @@ func TestCoAssignmentByHand(t *testing.T) {
 	}
 	if ps.NumFlagged != 1 || !ps.Flagged[2] || ps.Threshold != stability.DefaultCoAssignmentThreshold {
 		t.Errorf("got %d flagged (%v) at %g, want only point 2 at 0.75", ps.NumFlagged, ps.Flagged, ps.Threshold)
+	}
+	// A label −1 (a run without core points) shares no group: row 0 is −1
+	// in the second of two runs, so its only pair scores 0.
+	lost := stability.RunClusters{Labels: []int32{-1, 0, 0, 1, 1, 1}}
+	ps, err = stability.CoAssignment([]stability.RunClusters{same, lost}, 6, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if ps.Score[0] != 0 || !ps.Flagged[0] || math.Abs(ps.Score[1]-2.0/3) > 1e-15 {
+		t.Errorf("noise row: got scores %v, want 0 for row 0 and 2/3 for row 1", ps.Score)
 	}
 	// A row embedded by one run only has no score.
 	part := stability.RunClusters{Rows: []int32{0, 1, 2, 3, 4}, Labels: []int32{0, 0, 0, 1, 1}}
