@@ -271,11 +271,10 @@ func TestCoAssignmentByHand(t *testing.T) {
 }
 
 // TestLabelStabilityByHand: two runs of four points labelled x, x, y, y;
-// run 1 groups {0,1} {2,3}, run 2 groups {0,1,2} {3}. x's points have
-// mates: run 1 one x each; run 2 one x and one y each: shares x (1 + 1 +
-// ½ + ½)/4 = 0.75, y 0.25. y: point 2 mates y (run 1), x x (run 2); point
-// 3 mate y (run 1), none (run 2): over 3 (point, run) pairs y (1+0+1)/3,
-// x 2/3·…; see below.
+// run 1 groups {0,1} {2,3}, run 2 groups {0,1,2} {3}. The x points' mates:
+// in run 1 one x each, in run 2 one x and one y each, so over their four
+// (point, run) pairs x has share (1 + 1 + ½ + ½)/4 = 0.75 and y 0.25 (by
+// hand); the y shares are worked out beside their check.
 func TestLabelStabilityByHand(t *testing.T) {
 	runs := []stability.RunClusters{{Labels: []int32{0, 0, 1, 1}}, {Labels: []int32{0, 0, 0, 1}}}
 	labels := []string{"x", "x", "y", "y"}
