@@ -149,9 +149,9 @@ func MapClusters(layout []float64, cfg MapClusterConfig) (*MapClustering, error)
 	nearest := make([]int32, n) // for non-core points: nearest core point within ε, or −1
 	for lo := 0; lo < n; lo += block {
 		hi := min(lo+block, n)
-		par.Each((hi-lo+chunk-1)/chunk, cfg.Threads, func(c int) {
+		par.Chunks(hi-lo, chunk, cfg.Threads, func(_, a, b int) {
 			var stack []int32
-			for i := lo + c*chunk; i < min(lo+(c+1)*chunk, hi); i++ {
+			for i := lo + a; i < lo+b; i++ {
 				qx, qy := layout[2*i], layout[2*i+1]
 				if core[i] {
 					list := near[i-lo][:0]
@@ -241,10 +241,10 @@ func MapClusters(layout []float64, cfg MapClusterConfig) (*MapClustering, error)
 		}
 		if len(coreIdx) > 0 {
 			ct := newKDTree(cy)
-			par.Each((len(noise)+chunk-1)/chunk, cfg.Threads, func(c int) {
+			par.Chunks(len(noise), chunk, cfg.Threads, func(_, a, b int) {
 				var h nbHeap
 				var one [1]int32
-				for _, i := range noise[c*chunk : min((c+1)*chunk, len(noise))] {
+				for _, i := range noise[a:b] {
 					ct.nearestTo(layout[2*i], layout[2*i+1], &h, one[:])
 					mc.Groups[i] = mc.Labels[coreIdx[one[0]]]
 				}
