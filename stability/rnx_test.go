@@ -1,7 +1,11 @@
 package stability
 
 import (
+	"encoding/json"
+	"fmt"
 	"math"
+	"os"
+	"path/filepath"
 	"math/rand/v2"
 	"sort"
 	"testing"
@@ -122,6 +126,170 @@ func TestRNXMatchesDefinition(t *testing.T) {
 			if math.Abs(c.AUC-auc) > 1e-12 {
 				t.Errorf("AUC: got %.15g want %.15g", c.AUC, auc)
 			}
+		})
+	}
+}
+
+// rnxReference mirrors testdata/rnx/reference.json, written by
+// make_reference.py beside it from the co-ranking matrix (numpy 1.24.2,
+// scikit-learn 1.2.1 for the iris PCA layout; versions in the file).
+type rnxReference struct {
+	Versions map[string]string `json:"versions"`
+	Cases    map[string]struct {
+		N      int       `json:"n"`
+		AUC    float64   `json:"auc"`
+		K      []int     `json:"k"`
+		QNX    []float64 `json:"qnx"`
+		BNX    []float64 `json:"bnx"`
+		RNX    []float64 `json:"rnx"`
+		X      []float64 `json:"x"`
+		Layout []float64 `json:"layout"`
+	} `json:"cases"`
+}
+
+func TestRNXReference(t *testing.T) {
+	b, err := os.ReadFile(filepath.Join("..", "testdata", "rnx", "reference.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref rnxReference
+	if err := json.Unmarshal(b, &ref); err != nil {
+		t.Fatal(err)
+	}
+	tr, dd := loadReference(t)
+	inputs := map[string]struct {
+		x []float64
+		d int
+		y []float64
+	}{
+		// Raw digits (integers 0..16) and the "pca_noise" layout of
+		// testdata/sklearn_trustworthiness.
+		"digits_pca_noise": {dd.raw, 64, tr.Layouts["pca_noise"]},
+		// Iris × 10, rounded (integers) and its scikit-learn PCA layout,
+		// both stored in the fixture.
+		"iris_pca": {ref.Cases["iris_pca"].X, 4, ref.Cases["iris_pca"].Layout},
+	}
+	for name, in := range inputs {
+		c := ref.Cases[name]
+		t.Run(name, func(t *testing.T) {
+			got, err := RNX(in.x, in.d, in.y, RNXOptions{Queries: -1})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if got.N != c.N || !got.Exact() {
+				t.Fatalf("got N %d exact %v want N %d exact", got.N, got.Exact(), c.N)
+			}
+			// The co-ranking counts are integers on both sides; 1e-12
+			// absorbs the rounding of the divisions and of the AUC's
+			// sums (common practice).
+			const tol = 1e-12
+			var worst float64
+			for m, k := range c.K {
+				for _, p := range [][2]float64{{got.QNX[k-1], c.QNX[m]}, {got.BNX[k-1], c.BNX[m]}, {got.RNX[k-1], c.RNX[m]}} {
+					worst = math.Max(worst, math.Abs(p[0]-p[1]))
+				}
+			}
+			if worst > tol {
+				t.Errorf("largest |difference| over Q_NX, B_NX, R_NX at %d K: %.3g, want ≤ %g", len(c.K), worst, tol)
+			}
+			if d := math.Abs(got.AUC - c.AUC); d > tol {
+				t.Errorf("AUC: got %.15f want %.15f (numpy reference)", got.AUC, c.AUC)
+			}
+			t.Logf("AUC %.12f (reference %.12f), largest curve difference %.3g", got.AUC, c.AUC, worst)
+		})
+	}
+}
+
+// Batches, thread counts and subsamples: RNXBatch equals separate RNX
+// calls, bit for bit, whatever the thread count; a point sample ranks
+// among the sample only, and is the same sample for every layout.
+func TestRNXBatchThreadsAndSamples(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 1))
+	n, d := 300, 5
+	x := make([]float64, n*d)
+	for i := range x {
+		x[i] = rng.NormFloat64()
+	}
+	ys := make([][]float64, 3)
+	for l := range ys {
+		ys[l] = make([]float64, 2*n)
+		for i := range ys[l] {
+			ys[l][i] = x[(i/2)*d+i%2] + float64(l)*0.3*rng.NormFloat64()
+		}
+	}
+	for _, opt := range []RNXOptions{
+		{Queries: -1},
+		{Queries: 70, Seed: 5},
+		{Points: 120, Queries: 50, Seed: 9},
+	} {
+		one := RNXOptions{Queries: opt.Queries, Points: opt.Points, Seed: opt.Seed, Threads: 1}
+		opt.Threads = 4
+		batch, err := RNXBatch(x, d, ys, opt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for l, y := range ys {
+			c, err := RNX(x, d, y, one)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if c.AUC != batch[l].AUC || c.N != batch[l].N || c.Queries != batch[l].Queries {
+				t.Errorf("%+v layout %d: batch AUC %v (N %d, %d queries) single %v (N %d, %d queries)", opt, l, batch[l].AUC, batch[l].N, batch[l].Queries, c.AUC, c.N, c.Queries)
+			}
+		}
+		if opt.Points > 0 {
+			// The sampled curve is the exact curve of the sampled points.
+			pts := samplePoints(n, opt.Points, opt.Seed, 3)
+			xs, ys0 := make([]float64, 0, len(pts)*d), make([]float64, 0, 2*len(pts))
+			for _, i := range pts {
+				xs = append(xs, x[i*d:(i+1)*d]...)
+				ys0 = append(ys0, ys[0][2*i], ys[0][2*i+1])
+			}
+			_, _, _, auc := naiveCoranking(xs, d, ys0, samplePoints(len(pts), opt.Queries, opt.Seed, 4))
+			if math.Abs(batch[0].AUC-auc) > 1e-12 || batch[0].Total != n || batch[0].N != opt.Points {
+				t.Errorf("point sample: got AUC %.15g (N %d of %d) want %.15g", batch[0].AUC, batch[0].N, batch[0].Total, auc)
+			}
+		}
+	}
+	// A better layout scores higher: less noise, higher AUC.
+	c, _ := RNXBatch(x, d, ys, RNXOptions{})
+	if !(c[0].AUC > c[1].AUC && c[1].AUC > c[2].AUC) {
+		t.Errorf("AUC by noise level 0, 0.3, 0.6: got %.4f %.4f %.4f, want decreasing", c[0].AUC, c[1].AUC, c[2].AUC)
+	}
+	if _, err := RNX(x[:3*d], d, ys[0][:6], RNXOptions{}); err == nil {
+		t.Error("3 points: got no error")
+	}
+	if _, err := RNX(x, d, ys[0][:10], RNXOptions{}); err == nil {
+		t.Error("mismatched sizes: got no error")
+	}
+}
+
+func BenchmarkRNX(b *testing.B) {
+	for _, n := range []int{2000, 5000, 20000} {
+		b.Run(fmt.Sprintf("n=%d", n), func(b *testing.B) {
+			rng := rand.New(rand.NewPCG(1, 2))
+			d := 50
+			x := make([]float64, n*d)
+			for i := range x {
+				x[i] = rng.NormFloat64()
+			}
+			ys := [][]float64{make([]float64, 2*n), make([]float64, 2*n)}
+			for _, y := range ys {
+				for i := range y {
+					y[i] = x[(i/2)*d+i%2] + rng.NormFloat64()
+				}
+			}
+			b.ReportAllocs()
+			b.ResetTimer()
+			var sink float64
+			for it := 0; it < b.N; it++ {
+				c, err := RNXBatch(x, d, ys, RNXOptions{Threads: 1})
+				if err != nil {
+					b.Fatal(err)
+				}
+				sink += c[0].AUC
+			}
+			_ = sink
 		})
 	}
 }
