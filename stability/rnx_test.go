@@ -4,9 +4,9 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
-	"math/rand/v2"
 	"sort"
 	"testing"
 )
