@@ -1,0 +1,36 @@
+package recommend_test
+
+import (
+	"fmt"
+
+	"plumb/cmd/plumb/internal/recommend"
+)
+
+// A pca setting whose seeds are identical, and two random-start settings
+// at perplexities 30 and 300 whose KL divergences cannot be compared.
+func ExampleRecommend() {
+	table := []recommend.Setting{
+		{ID: "pca-30", Perplexity: 30, Runs: 5, Varied: "", AUC: 0.551, Disparity: 0, Jaccard: 1, Arrangements: 1, KL: 1.10},
+		{ID: "rnd-30", Perplexity: 30, Runs: 5, Varied: "seed", AUC: 0.548, Disparity: 0.03, Jaccard: 0.70, Arrangements: 1, KL: 1.12},
+		{ID: "rnd-300", Perplexity: 300, Runs: 5, Varied: "seed", AUC: 0.512, Disparity: 0.01, Jaccard: 0.80, Arrangements: 1, KL: 0.60},
+	}
+	rec, err := recommend.Recommend(table, recommend.Rule{})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Println("chosen:", rec.Chosen.ID, "runner-up:", rec.RunnerUp.ID)
+	fmt.Println("decided by:", rec.DecidedBy)
+	fmt.Println("ranking:", rec.Ranking)
+	// Output:
+	// chosen: rnd-30 runner-up: pca-30
+	// decided by: stability measured
+	// ranking: [rnd-30 pca-30 rnd-300]
+}
+
+func ExampleRule_Words() {
+	w := recommend.Rule{}.Words()
+	fmt.Println(w[:89])
+	// Output:
+	// Every setting with at least one finished run and a defined faithfulness score takes part.
+}
