@@ -293,3 +293,45 @@ func BenchmarkRNX(b *testing.B) {
 		})
 	}
 }
+
+// With a sample of query points the AUC is an unbiased estimate of the
+// exact one: over 20 samples of 300 of the 1797 digits points, the mean
+// lies within 4 standard errors of the numpy reference, and the spread is
+// logged (it is what RNXOptions.Queries trades for speed).
+func TestRNXSampledQueriesDigits(t *testing.T) {
+	b, err := os.ReadFile(filepath.Join("..", "testdata", "rnx", "reference.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref rnxReference
+	if err := json.Unmarshal(b, &ref); err != nil {
+		t.Fatal(err)
+	}
+	want := ref.Cases["digits_pca_noise"].AUC // numpy, co-ranking matrix
+	tr, dd := loadReference(t)
+	var v []float64
+	for seed := uint64(1); seed <= 20; seed++ {
+		c, err := RNX(dd.raw, 64, tr.Layouts["pca_noise"], RNXOptions{Queries: 300, Seed: seed})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if c.Queries != 300 || c.N != 1797 || c.Exact() {
+			t.Fatalf("got %d queries of %d points (exact %v), want 300 of 1797", c.Queries, c.N, c.Exact())
+		}
+		v = append(v, c.AUC)
+	}
+	var m, ss float64
+	for _, a := range v {
+		m += a
+	}
+	m /= float64(len(v))
+	for _, a := range v {
+		ss += (a - m) * (a - m)
+	}
+	sd := math.Sqrt(ss / float64(len(v)-1))
+	se := sd / math.Sqrt(float64(len(v)))
+	t.Logf("300 queries: AUC mean %.5f, sd %.5f over 20 samples; exact %.5f", m, sd, want)
+	if math.Abs(m-want) > 4*se {
+		t.Errorf("mean of sampled AUCs %.5f is more than 4 standard errors (%.5f) from the exact %.5f", m, se, want)
+	}
+}

@@ -26,9 +26,10 @@ type Setting struct {
 	// log-K axis (stability.RNXCurve.AUC); AUCIQR its interquartile range.
 	AUC, AUCIQR float64
 	// Disparity and Jaccard are the medians over pairs of runs of the
-	// Procrustes disparity and the map-neighbour Jaccard overlap; NaN when
-	// not measured.
-	Disparity, Jaccard float64
+	// Procrustes disparity and the map-neighbour Jaccard overlap, and
+	// DisparityIQR the interquartile range of the disparity; NaN when not
+	// measured.
+	Disparity, DisparityIQR, Jaccard float64
 	// Arrangements is the number of distinct arrangements the runs fall
 	// into (stability.Arrange); 0 when not measured.
 	Arrangements int
@@ -119,8 +120,10 @@ func (r Rule) Words() string {
 		"(6) KL divergence is compared only between settings of the same perplexity (KL against different affinities P is not comparable): "+
 		"keep those whose median final KL is within %g%% of the lowest at their perplexity. "+
 		"(7) Pick the highest median R_NX AUC; an exact tie goes to the first setting id in sort order. "+
-		"The runner-up is what the same rule picks once the chosen setting is set aside; the report names the step that separated them and the margin on that step's score.",
-		r.AUCTolerance, r.DisparityTolerance, r.JaccardTolerance, 100*r.KLTolerance)
+		"The runner-up is what the same rule picks once the chosen setting is set aside; the report names the step that separated them and the margin on that step's score. "+
+		"A setting counts as indistinguishable from the chosen one when its median R_NX AUC is within %g of the chosen one's or the ranges median ± IQR/2 overlap, "+
+		"and, if both were measured under the same perturbation, the same holds for the median disparity (tolerance %g).",
+		r.AUCTolerance, r.DisparityTolerance, r.JaccardTolerance, 100*r.KLTolerance, r.AUCTolerance, r.DisparityTolerance)
 }
 
 // Exclusion names a setting left out of the rule and why.
@@ -147,6 +150,12 @@ type Recommendation struct {
 	// StabilityMeasured is false when the chosen setting's stability was
 	// not measured: the pick then rests on faithfulness alone.
 	StabilityMeasured bool
+	// Indistinguishable lists the ids of the settings that cannot be told
+	// apart from the chosen one: their median R_NX AUC is within the
+	// tolerance of the chosen one's or the ranges median ± IQR/2 overlap,
+	// and, when both were measured under the same perturbation, the same
+	// holds for the median disparity.
+	Indistinguishable []string
 	// Excluded lists the settings that did not take part.
 	Excluded []Exclusion
 }
@@ -192,6 +201,16 @@ func Recommend(settings []Setting, rule Rule) (*Recommendation, error) {
 		rec.RunnerUp = &ru
 		rec.DecidedBy, rec.Margin, rec.Why = first.reason(ru, chosen, rule)
 	}
+	for _, s := range pool {
+		if s.ID == chosen.ID || !near(s.AUC, s.AUCIQR, chosen.AUC, chosen.AUCIQR, rule.AUCTolerance) {
+			continue
+		}
+		if s.Measured() && chosen.Measured() && s.Varied == chosen.Varied &&
+			!near(s.Disparity, s.DisparityIQR, chosen.Disparity, chosen.DisparityIQR, rule.DisparityTolerance) {
+			continue
+		}
+		rec.Indistinguishable = append(rec.Indistinguishable, s.ID)
+	}
 	return rec, nil
 }
 
@@ -202,6 +221,21 @@ func find(ss []Setting, id string) Setting {
 		}
 	}
 	panic("recommend: setting vanished")
+}
+
+// near reports whether two medians are within tol or their ranges
+// median ± IQR/2 overlap (a missing IQR counts as 0).
+func near(a, aIQR, b, bIQR, tol float64) bool {
+	if math.Abs(a-b) <= tol {
+		return true
+	}
+	if !finite(aIQR) {
+		aIQR = 0
+	}
+	if !finite(bIQR) {
+		bIQR = 0
+	}
+	return a-aIQR/2 <= b+bIQR/2 && b-bIQR/2 <= a+aIQR/2
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }

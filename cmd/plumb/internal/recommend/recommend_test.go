@@ -200,6 +200,28 @@ func TestRecommendExclusions(t *testing.T) {
 	}
 }
 
+func TestRecommendIndistinguishable(t *testing.T) {
+	in := []Setting{
+		{ID: "a", Perplexity: 30, Runs: 5, Varied: "seed", AUC: 0.550, AUCIQR: 0.004, Disparity: 0.030, DisparityIQR: 0.02, Jaccard: 0.7, Arrangements: 1, KL: 1},
+		// AUC 0.015 below (beyond 0.01) but 0.535 ± 0.015 reaches 0.550:
+		// overlap; disparity within 0.01.
+		{ID: "b", Perplexity: 50, Runs: 5, Varied: "seed", AUC: 0.535, AUCIQR: 0.030, Disparity: 0.035, DisparityIQR: 0.01, Jaccard: 0.7, Arrangements: 1, KL: 1},
+		// As faithful, but far less stable under the same perturbation.
+		{ID: "c", Perplexity: 10, Runs: 5, Varied: "seed", AUC: 0.548, Disparity: 0.300, Jaccard: 0.7, Arrangements: 1, KL: 1},
+		// As faithful, unmeasured: its stability cannot be compared.
+		{ID: "d", Perplexity: 30, Runs: 5, Varied: "", AUC: 0.549, Disparity: 0, Jaccard: 1, Arrangements: 1, KL: 1},
+		// Clearly less faithful.
+		{ID: "e", Perplexity: 5, Runs: 5, Varied: "seed", AUC: 0.400, AUCIQR: 0.001, Disparity: 0.030, Jaccard: 0.7, Arrangements: 1, KL: 1},
+	}
+	rec, err := Recommend(in, Rule{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rec.Chosen.ID != "a" || !reflect.DeepEqual(rec.Indistinguishable, []string{"b", "d"}) {
+		t.Errorf("got chosen %s indistinguishable %v, want a and [b d]", rec.Chosen.ID, rec.Indistinguishable)
+	}
+}
+
 func TestRuleWords(t *testing.T) {
 	w := Rule{AUCTolerance: 0.02, DisparityTolerance: 0.005}.Words()
 	for _, s := range []string{"within 0.02 of the best", "within 0.005 of the lowest", "Lee & Verleysen 2009",
