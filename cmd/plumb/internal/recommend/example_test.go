@@ -2,6 +2,7 @@ package recommend_test
 
 import (
 	"fmt"
+	"math"
 
 	"plumb/cmd/plumb/internal/recommend"
 )
@@ -33,4 +34,13 @@ func ExampleRule_Words() {
 	fmt.Println(w[:89])
 	// Output:
 	// Every setting with at least one finished run and a defined faithfulness score takes part.
+}
+
+func ExampleSetting_Measured() {
+	pca := recommend.Setting{ID: "pca", Runs: 5, Varied: "", Disparity: 0, Jaccard: 1, Arrangements: 1}
+	rnd := recommend.Setting{ID: "rnd", Runs: 5, Varied: "seed", Disparity: 0.04, Jaccard: 0.7, Arrangements: 1}
+	one := recommend.Setting{ID: "one", Runs: 1, Varied: "seed", Disparity: math.NaN(), Jaccard: math.NaN()}
+	fmt.Println(pca.Measured(), rnd.Measured(), one.Measured())
+	// Output:
+	// false true false
 }
