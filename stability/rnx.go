@@ -198,9 +198,9 @@ func rnxBatch(x []float64, d int, ys [][]float64, opt RNXOptions, numbered bool)
 		keys []uint64
 		tmp  []uint64
 		rin  []int32
-		// hits[l*n+m] counts pairs with max(ρ, r) = m of layout l;
-		// sign[l*n+m] their intrusions minus extrusions.
-		hits, sign []int64
+		// cnt[2(l·n+m)] counts the pairs with max(ρ, r) = m of layout
+		// l, cnt[2(l·n+m)+1] their intrusions minus extrusions.
+		cnt []int64
 	}
 	nw := workers(nq, opt.Threads)
 	pool := make([]*scratch, nw)
@@ -208,7 +208,7 @@ func rnxBatch(x []float64, d int, ys [][]float64, opt RNXOptions, numbered bool)
 		if pool[w] == nil {
 			pool[w] = &scratch{
 				dist: make([]float64, n), keys: make([]uint64, n-1), tmp: make([]uint64, n-1),
-				rin: make([]int32, n), hits: make([]int64, nl*n), sign: make([]int64, nl*n),
+				rin: make([]int32, n), cnt: make([]int64, 2*nl*n),
 			}
 		}
 		sc := pool[w]
@@ -225,20 +225,19 @@ func rnxBatch(x []float64, d int, ys [][]float64, opt RNXOptions, numbered bool)
 			for l, y := range lys {
 				mapDistances(sc.dist, y, i)
 				sortRow(sc.keys, sc.tmp, sc.dist, i)
-				hits, sign := sc.hits[l*n:(l+1)*n], sc.sign[l*n:(l+1)*n]
+				cnt := sc.cnt[2*l*n : 2*(l+1)*n]
+				rin := sc.rin
 				for p, key := range sc.keys {
 					r := int32(p + 1)
-					rho := sc.rin[uint32(key)]
-					switch {
-					case rho > r: // intrusion: nearer in the map
-						hits[rho]++
-						sign[rho]++
-					case rho < r: // extrusion
-						hits[r]++
-						sign[r]--
-					default:
-						hits[r]++
-					}
+					rho := rin[uint32(key)]
+					// The pair counts for K ≥ max(ρ, r); sign(ρ − r) is +1
+					// for an intrusion (nearer in the map), −1 for an
+					// extrusion. Branch-free: the comparison is random.
+					m := max(rho, r)
+					diff := rho - r
+					sgn := int64(diff>>31) | int64(uint32(-diff)>>31)
+					cnt[2*m]++
+					cnt[2*m+1] += sgn
 				}
 			}
 		}
@@ -257,8 +256,8 @@ func rnxBatch(x []float64, d int, ys [][]float64, opt RNXOptions, numbered bool)
 		for k := 1; k <= n-2; k++ {
 			for _, sc := range pool {
 				if sc != nil {
-					hit += sc.hits[l*n+k]
-					sgn += sc.sign[l*n+k]
+					hit += sc.cnt[2*(l*n+k)]
+					sgn += sc.cnt[2*(l*n+k)+1]
 				}
 			}
 			kq := float64(k) * float64(nq)
