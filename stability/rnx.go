@@ -5,6 +5,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+
+	"plumb/internal/par"
 )
 
 // RNXOptions tunes RNX and RNXBatch. The zero value ranks every point up to
@@ -202,9 +204,9 @@ func rnxBatch(x []float64, d int, ys [][]float64, opt RNXOptions, numbered bool)
 		// l, cnt[2(l·n+m)+1] their intrusions minus extrusions.
 		cnt []int64
 	}
-	nw := workers(nq, opt.Threads)
+	nw := par.Workers(nq, chunk, opt.Threads)
 	pool := make([]*scratch, nw)
-	parallelW(nq, opt.Threads, func(w, lo, hi int) {
+	par.Chunks(nq, chunk, opt.Threads, func(w, lo, hi int) {
 		if pool[w] == nil {
 			pool[w] = &scratch{
 				dist: make([]float64, n), keys: make([]uint64, n-1), tmp: make([]uint64, n-1),
