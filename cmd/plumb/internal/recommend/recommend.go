@@ -7,6 +7,8 @@ import (
 	"slices"
 	"sort"
 	"strings"
+
+	"plumb/stability"
 )
 
 // Setting is one row of the score table the rule reads: one setting of a
@@ -22,26 +24,25 @@ type Setting struct {
 	// initialisation on the whole data: the runs can only be identical,
 	// so their stability is not measured).
 	Varied string
-	// AUC is the median over runs of the area under the R_NX(K) curve on a
-	// log-K axis (stability.RNXCurve.AUC); AUCIQR its interquartile range.
-	AUC, AUCIQR float64
-	// Disparity and Jaccard are the medians over pairs of runs of the
-	// Procrustes disparity and the map-neighbour Jaccard overlap, and
-	// DisparityIQR the interquartile range of the disparity; NaN when not
-	// measured.
-	Disparity, DisparityIQR, Jaccard float64
+	// RNXAUC is the median and IQR over runs of the area under the R_NX(K)
+	// curve on a log-K axis (stability.RNXCurve.AUC; column rnx_auc).
+	RNXAUC stability.MedianIQR
+	// Disparity and Jaccard are the median and IQR over pairs of runs of
+	// the Procrustes disparity and the map-neighbour Jaccard overlap; NaN
+	// when not measured.
+	Disparity, Jaccard stability.MedianIQR
 	// Arrangements is the number of distinct arrangements the runs fall
 	// into (stability.Arrange); 0 when not measured.
 	Arrangements int
-	// KL is the median final KL divergence. The rule compares it only
-	// between settings of the same perplexity.
-	KL float64
+	// KL is the median and IQR over runs of the final KL divergence. The
+	// rule compares it only between settings of the same perplexity.
+	KL stability.MedianIQR
 }
 
 // Measured reports whether the setting's stability was measured: at least
 // two runs and something varied between them.
 func (s Setting) Measured() bool {
-	return s.Varied != "" && s.Runs >= 2 && finite(s.Disparity) && finite(s.Jaccard) && s.Arrangements >= 1
+	return s.Varied != "" && s.Runs >= 2 && finite(s.Disparity.Median) && finite(s.Jaccard.Median) && s.Arrangements >= 1
 }
 
 // Rule holds the tolerances of the recommendation rule. Zero fields take
@@ -173,7 +174,7 @@ func Recommend(settings []Setting, rule Rule) (*Recommendation, error) {
 		switch {
 		case s.Runs < 1:
 			rec.Excluded = append(rec.Excluded, Exclusion{s.ID, "no finished run"})
-		case !finite(s.AUC):
+		case !finite(s.RNXAUC.Median):
 			rec.Excluded = append(rec.Excluded, Exclusion{s.ID, "R_NX AUC not available"})
 		default:
 			pool = append(pool, s)
@@ -202,11 +203,11 @@ func Recommend(settings []Setting, rule Rule) (*Recommendation, error) {
 		rec.DecidedBy, rec.Margin, rec.Why = first.reason(ru, chosen, rule)
 	}
 	for _, s := range pool {
-		if s.ID == chosen.ID || !near(s.AUC, s.AUCIQR, chosen.AUC, chosen.AUCIQR, rule.AUCTolerance) {
+		if s.ID == chosen.ID || !near(s.RNXAUC.Median, s.RNXAUC.IQR, chosen.RNXAUC.Median, chosen.RNXAUC.IQR, rule.AUCTolerance) {
 			continue
 		}
 		if s.Measured() && chosen.Measured() && s.Varied == chosen.Varied &&
-			!near(s.Disparity, s.DisparityIQR, chosen.Disparity, chosen.DisparityIQR, rule.DisparityTolerance) {
+			!near(s.Disparity.Median, s.Disparity.IQR, chosen.Disparity.Median, chosen.Disparity.IQR, rule.DisparityTolerance) {
 			continue
 		}
 		rec.Indistinguishable = append(rec.Indistinguishable, s.ID)
@@ -258,10 +259,10 @@ func (r Rule) apply(ss []Setting) *pass {
 	// (1) Faithfulness.
 	p.bestAUC = math.Inf(-1)
 	for _, s := range ss {
-		p.bestAUC = math.Max(p.bestAUC, s.AUC)
+		p.bestAUC = math.Max(p.bestAUC, s.RNXAUC.Median)
 	}
 	for _, s := range ss {
-		if s.AUC < p.bestAUC-r.AUCTolerance {
+		if s.RNXAUC.Median < p.bestAUC-r.AUCTolerance {
 			drop(s, StepFaithfulness, p.bestAUC)
 		}
 	}
@@ -307,19 +308,19 @@ func (r Rule) apply(ss []Setting) *pass {
 		}
 		lowest := math.Inf(1)
 		for _, s := range group() {
-			lowest = math.Min(lowest, s.Disparity)
+			lowest = math.Min(lowest, s.Disparity.Median)
 		}
 		for _, s := range group() {
-			if s.Disparity > lowest+r.DisparityTolerance {
+			if s.Disparity.Median > lowest+r.DisparityTolerance {
 				drop(s, StepDisparity, lowest)
 			}
 		}
 		highest := math.Inf(-1)
 		for _, s := range group() {
-			highest = math.Max(highest, s.Jaccard)
+			highest = math.Max(highest, s.Jaccard.Median)
 		}
 		for _, s := range group() {
-			if s.Jaccard < highest-r.JaccardTolerance {
+			if s.Jaccard.Median < highest-r.JaccardTolerance {
 				drop(s, StepJaccard, highest)
 			}
 		}
@@ -327,9 +328,9 @@ func (r Rule) apply(ss []Setting) *pass {
 	// (6) KL within one perplexity.
 	lowKL := map[float64]float64{}
 	for _, s := range ss {
-		if alive(s) && finite(s.KL) {
-			if v, ok := lowKL[s.Perplexity]; !ok || s.KL < v {
-				lowKL[s.Perplexity] = s.KL
+		if alive(s) && finite(s.KL.Median) {
+			if v, ok := lowKL[s.Perplexity]; !ok || s.KL.Median < v {
+				lowKL[s.Perplexity] = s.KL.Median
 			}
 		}
 	}
@@ -338,21 +339,21 @@ func (r Rule) apply(ss []Setting) *pass {
 			continue
 		}
 		low, ok := lowKL[s.Perplexity]
-		if ok && (!finite(s.KL) || s.KL > low*(1+r.KLTolerance)) {
+		if ok && (!finite(s.KL.Median) || s.KL.Median > low*(1+r.KLTolerance)) {
 			drop(s, StepKL, low)
 		}
 	}
 	// (7) Highest AUC; ss is sorted by id, so a strict > keeps the first.
 	p.winner = -1
 	for i, s := range ss {
-		if alive(s) && (p.winner < 0 || s.AUC > ss[p.winner].AUC) {
+		if alive(s) && (p.winner < 0 || s.RNXAUC.Median > ss[p.winner].RNXAUC.Median) {
 			p.winner = i
 		}
 	}
 	for i, s := range ss {
 		if alive(s) && i != p.winner {
-			if s.AUC < ss[p.winner].AUC {
-				drop(s, StepAUC, ss[p.winner].AUC)
+			if s.RNXAUC.Median < ss[p.winner].RNXAUC.Median {
+				drop(s, StepAUC, ss[p.winner].RNXAUC.Median)
 			} else {
 				drop(s, StepOrder, 0)
 			}
@@ -367,27 +368,27 @@ func (p *pass) reason(ru, chosen Setting, r Rule) (step string, margin float64, 
 	ref := p.ref[ru.ID]
 	switch step {
 	case StepFaithfulness:
-		margin = ref - ru.AUC
-		why = fmt.Sprintf("its median R_NX AUC (%.4f) is %.4f below the best (%.4f), more than the tolerance %g", ru.AUC, margin, ref, r.AUCTolerance)
+		margin = ref - ru.RNXAUC.Median
+		why = fmt.Sprintf("its median R_NX AUC (%.4f) is %.4f below the best (%.4f), more than the tolerance %g", ru.RNXAUC.Median, margin, ref, r.AUCTolerance)
 	case StepMeasured:
 		why = fmt.Sprintf("it is as faithful, but its stability was not measured (%s), and an unmeasured stability never wins", unmeasured(ru))
 	case StepArrangements:
 		margin = float64(ru.Arrangements) - ref
 		why = fmt.Sprintf("it is as faithful, but its runs fall into %d distinct arrangements against %g for the most consistent setting measured under the same perturbation (%s)", ru.Arrangements, ref, ru.Varied)
 	case StepDisparity:
-		margin = ru.Disparity - ref
-		why = fmt.Sprintf("it is as faithful, but its median disparity (%.4f) is %.4f above the lowest under the same perturbation (%s: %.4f), more than the tolerance %g", ru.Disparity, margin, ru.Varied, ref, r.DisparityTolerance)
+		margin = ru.Disparity.Median - ref
+		why = fmt.Sprintf("it is as faithful, but its median disparity (%.4f) is %.4f above the lowest under the same perturbation (%s: %.4f), more than the tolerance %g", ru.Disparity.Median, margin, ru.Varied, ref, r.DisparityTolerance)
 	case StepJaccard:
-		margin = ref - ru.Jaccard
-		why = fmt.Sprintf("it is as faithful and as low in disparity, but its median Jaccard (%.4f) is %.4f below the highest under the same perturbation (%s: %.4f), more than the tolerance %g", ru.Jaccard, margin, ru.Varied, ref, r.JaccardTolerance)
+		margin = ref - ru.Jaccard.Median
+		why = fmt.Sprintf("it is as faithful and as low in disparity, but its median Jaccard (%.4f) is %.4f below the highest under the same perturbation (%s: %.4f), more than the tolerance %g", ru.Jaccard.Median, margin, ru.Varied, ref, r.JaccardTolerance)
 	case StepKL:
-		if finite(ru.KL) {
-			margin = ru.KL/ref - 1
+		if finite(ru.KL.Median) {
+			margin = ru.KL.Median/ref - 1
 		}
-		why = fmt.Sprintf("it ties on faithfulness and stability, but its median KL divergence (%.4f) is %.1f%% above the lowest at the same perplexity %g (%.4f)", ru.KL, 100*margin, ru.Perplexity, ref)
+		why = fmt.Sprintf("it ties on faithfulness and stability, but its median KL divergence (%.4f) is %.1f%% above the lowest at the same perplexity %g (%.4f)", ru.KL.Median, 100*margin, ru.Perplexity, ref)
 	case StepAUC:
-		margin = ref - ru.AUC
-		why = fmt.Sprintf("it ties within the tolerances on every step, and its median R_NX AUC (%.4f) is %.4f below the chosen setting's (%.4f)", ru.AUC, margin, ref)
+		margin = ref - ru.RNXAUC.Median
+		why = fmt.Sprintf("it ties within the tolerances on every step, and its median R_NX AUC (%.4f) is %.4f below the chosen setting's (%.4f)", ru.RNXAUC.Median, margin, ref)
 	default:
 		why = "it ties on every step, R_NX AUC included; the chosen setting comes first in id order"
 	}

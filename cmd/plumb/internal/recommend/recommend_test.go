@@ -6,6 +6,8 @@ import (
 	"reflect"
 	"strings"
 	"testing"
+
+	"plumb/stability"
 )
 
 var nan = math.NaN()
@@ -13,7 +15,11 @@ var nan = math.NaN()
 // random is a setting with random starts (seed varied, 5 runs, one
 // arrangement).
 func random(id string, perp, auc, disp, jac, kl float64) Setting {
-	return Setting{ID: id, Perplexity: perp, Runs: 5, Varied: "seed", AUC: auc, Disparity: disp, Jaccard: jac, Arrangements: 1, KL: kl}
+	return Setting{ID: id, Perplexity: perp, Runs: 5, Varied: "seed", RNXAUC: mi(auc, 0), Disparity: mi(disp, 0), Jaccard: mi(jac, 0), Arrangements: 1, KL: mi(kl, 0)}
+}
+
+func mi(median, iqr float64) stability.MedianIQR {
+	return stability.MedianIQR{Median: median, IQR: iqr}
 }
 
 // The score tables are hand-made to reproduce the old rule's failure
@@ -24,7 +30,7 @@ func TestRecommendComparesLikeWithLike(t *testing.T) {
 	pca := func(id string, perp, auc, kl float64) Setting {
 		// PCA starts: every seed gives the same map, disparity 0,
 		// Jaccard 1 — unmeasured, not perfect.
-		return Setting{ID: id, Perplexity: perp, Runs: 5, Varied: "", AUC: auc, Disparity: 0, Jaccard: 1, Arrangements: 1, KL: kl}
+		return Setting{ID: id, Perplexity: perp, Runs: 5, Varied: "", RNXAUC: mi(auc, 0), Disparity: mi(0, 0), Jaccard: mi(1, 0), Arrangements: 1, KL: mi(kl, 0)}
 	}
 	cases := []struct {
 		name      string
@@ -183,7 +189,7 @@ func TestRecommendExclusions(t *testing.T) {
 	in := []Setting{
 		random("a", 30, 0.5, 0.02, 0.7, 1),
 		{ID: "b", Runs: 0},
-		{ID: "c", Runs: 3, AUC: nan},
+		{ID: "c", Runs: 3, RNXAUC: mi(nan, nan)},
 	}
 	rec, err := Recommend(in, Rule{})
 	if err != nil {
@@ -202,16 +208,16 @@ func TestRecommendExclusions(t *testing.T) {
 
 func TestRecommendIndistinguishable(t *testing.T) {
 	in := []Setting{
-		{ID: "a", Perplexity: 30, Runs: 5, Varied: "seed", AUC: 0.550, AUCIQR: 0.004, Disparity: 0.030, DisparityIQR: 0.02, Jaccard: 0.7, Arrangements: 1, KL: 1},
+		{ID: "a", Perplexity: 30, Runs: 5, Varied: "seed", RNXAUC: mi(0.550, 0.004), Disparity: mi(0.030, 0.02), Jaccard: mi(0.7, 0), Arrangements: 1, KL: mi(1, 0)},
 		// AUC 0.015 below (beyond 0.01) but 0.535 ± 0.015 reaches 0.550:
 		// overlap; disparity within 0.01.
-		{ID: "b", Perplexity: 50, Runs: 5, Varied: "seed", AUC: 0.535, AUCIQR: 0.030, Disparity: 0.035, DisparityIQR: 0.01, Jaccard: 0.7, Arrangements: 1, KL: 1},
+		{ID: "b", Perplexity: 50, Runs: 5, Varied: "seed", RNXAUC: mi(0.535, 0.030), Disparity: mi(0.035, 0.01), Jaccard: mi(0.7, 0), Arrangements: 1, KL: mi(1, 0)},
 		// As faithful, but far less stable under the same perturbation.
-		{ID: "c", Perplexity: 10, Runs: 5, Varied: "seed", AUC: 0.548, Disparity: 0.300, Jaccard: 0.7, Arrangements: 1, KL: 1},
+		{ID: "c", Perplexity: 10, Runs: 5, Varied: "seed", RNXAUC: mi(0.548, 0), Disparity: mi(0.300, 0), Jaccard: mi(0.7, 0), Arrangements: 1, KL: mi(1, 0)},
 		// As faithful, unmeasured: its stability cannot be compared.
-		{ID: "d", Perplexity: 30, Runs: 5, Varied: "", AUC: 0.549, Disparity: 0, Jaccard: 1, Arrangements: 1, KL: 1},
+		{ID: "d", Perplexity: 30, Runs: 5, Varied: "", RNXAUC: mi(0.549, 0), Disparity: mi(0, 0), Jaccard: mi(1, 0), Arrangements: 1, KL: mi(1, 0)},
 		// Clearly less faithful.
-		{ID: "e", Perplexity: 5, Runs: 5, Varied: "seed", AUC: 0.400, AUCIQR: 0.001, Disparity: 0.030, Jaccard: 0.7, Arrangements: 1, KL: 1},
+		{ID: "e", Perplexity: 5, Runs: 5, Varied: "seed", RNXAUC: mi(0.400, 0.001), Disparity: mi(0.030, 0), Jaccard: mi(0.7, 0), Arrangements: 1, KL: mi(1, 0)},
 	}
 	rec, err := Recommend(in, Rule{})
 	if err != nil {
