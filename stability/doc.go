@@ -40,6 +40,13 @@
 // for all the layouts, and DistanceRanks ranks the input's (or one
 // layout's) pair distances once for every correlation against it.
 //
+// Faithfulness at every scale at once is the rank-based quality curve
+// R_NX(K) and its area on a log-K axis (RNX, RNXBatch). The runs of one
+// setting are grouped into distinct arrangements by their disparities
+// (Arrange); the medoid run (Medoid) is the map shown for a setting, and an
+// average of the runs only where they agree (ConsensusAgrees). SeedsNeeded
+// states how many seeds a stability reading needs.
+//
 // Every score is deterministic: random choices are seeded by the caller,
 // parallel loops use fixed chunks, and neighbour ties are broken by the
 // smaller point index.
@@ -75,6 +82,18 @@
 //   - J. A. Hanley and B. J. McNeil, "The meaning and use of the area
 //     under a receiver operating characteristic (ROC) curve", Radiology
 //     143(1):29–36, 1982.
+//   - J. A. Lee and M. Verleysen, "Quality assessment of dimensionality
+//     reduction: rank-based criteria", Neurocomputing 72(7–9):1431–1443,
+//     2009.
+//   - J. A. Lee, D. H. Peluffo-Ordóñez and M. Verleysen, "Multi-scale
+//     similarities in stochastic neighbour embedding: reducing
+//     dimensionality while preserving both local and global structure",
+//     Neurocomputing 169:246–261, 2015.
+//   - P. J. Rousseeuw, "Silhouettes: a graphical aid to the interpretation
+//     and validation of cluster analysis", Journal of Computational and
+//     Applied Mathematics 20:53–65, 1987.
+//   - L. Kaufman and P. J. Rousseeuw, Finding Groups in Data: An
+//     Introduction to Cluster Analysis, Wiley, 1990.
 //   - J. L. Bentley, "Multidimensional binary search trees used for
 //     associative searching", Communications of the ACM 18(9):509–517, 1975.
 package stability
