@@ -35,7 +35,7 @@ func fuzzOptions(data []byte, sep string, a, b uint8) Options {
 // either a one-line *InputError or a data set with consistent sizes,
 // finite values and unique ids.
 func fuzzRead(t *testing.T, data []byte, format string, opt Options) {
-	ds, err := readDelimited(bytes.NewReader(data), "fuzz."+format, format, opt, int64(len(data)))
+	ds, err := readDelimited(bytes.NewReader(data), "fuzz."+format, format, false, opt, int64(len(data)))
 	if err == nil {
 		err = ds.prepare(opt)
 	}
