@@ -384,13 +384,13 @@ func fillColumn(arr arrow.Array, x []float64, d, f int, bound bool) (int, string
 	case *array.Float32:
 		return fillFloat(a.Float32Values(), x, d, f, bound)
 	case *array.Decimal32:
-		return fillDecimal(a.Values(), a.DataType().(arrow.DecimalType).GetScale(), x, d, f, bound)
+		return fillDecimal(a.Len(), func(i int) string { return strconv.FormatInt(int64(a.Value(i)), 10) }, decimalScale(a), x, d, f, bound)
 	case *array.Decimal64:
-		return fillDecimal(a.Values(), a.DataType().(arrow.DecimalType).GetScale(), x, d, f, bound)
+		return fillDecimal(a.Len(), func(i int) string { return strconv.FormatInt(int64(a.Value(i)), 10) }, decimalScale(a), x, d, f, bound)
 	case *array.Decimal128:
-		return fillDecimal(a.Values(), a.DataType().(arrow.DecimalType).GetScale(), x, d, f, bound)
+		return fillDecimal(a.Len(), func(i int) string { return a.Value(i).BigInt().String() }, decimalScale(a), x, d, f, bound)
 	case *array.Decimal256:
-		return fillDecimal(a.Values(), a.DataType().(arrow.DecimalType).GetScale(), x, d, f, bound)
+		return fillDecimal(a.Len(), func(i int) string { return a.Value(i).BigInt().String() }, decimalScale(a), x, d, f, bound)
 	case *array.Float16:
 		for i := 0; i < a.Len(); i++ {
 			v := float64(a.Value(i).Float32())
@@ -445,11 +445,15 @@ func fillFloat[T ~float32 | ~float64](v []T, x []float64, d, f int, bound bool) 
 	return 0, ""
 }
 
-// fillDecimal converts decimals of the given scale by parsing their exact
-// decimal text (correctly rounded, as a CSV cell would be).
-func fillDecimal[T interface{ ToString(int32) string }](v []T, scale int32, x []float64, d, f int, bound bool) (int, string) {
-	for i, u := range v {
-		s := u.ToString(scale)
+func decimalScale(a arrow.Array) int32 { return a.DataType().(arrow.DecimalType).GetScale() }
+
+// fillDecimal converts n decimals of the given scale, whose unscaled
+// integers unscaled(i) gives in decimal, by parsing "U e −scale": correctly
+// rounded, as a CSV cell holding the same number would be, for any scale
+// (negative ones included).
+func fillDecimal(n int, unscaled func(int) string, scale int32, x []float64, d, f int, bound bool) (int, string) {
+	for i := 0; i < n; i++ {
+		s := unscaled(i) + "e" + strconv.Itoa(-int(scale))
 		w, err := strconv.ParseFloat(s, 64)
 		if err != nil || math.IsInf(w, 0) {
 			return i, "decimal out of range for float64: " + quoteCell(s)
