@@ -115,7 +115,15 @@ type Options struct {
 // 1-based position of the column in the file.
 //
 // Constant feature columns are accepted and reported in Dataset.Warnings.
-// Identical rows are accepted (t-SNE handles duplicate points).
+// Identical rows are accepted (t-SNE handles duplicate points). Feature
+// values beyond 1e100 in magnitude are refused unless opt.Standardize is
+// set, and so are data whose largest value is below 1e-100: squared
+// distances must neither overflow nor underflow. Negative zeros are
+// stored as +0.
+//
+// path must name a regular file (see checkRegular); text must be UTF-8 or
+// UTF-16 with a byte order mark (see readDelimited for the dialects), and
+// ids, labels and column names that are not valid UTF-8 are refused.
 func Read(path string, opt Options) (*Dataset, error) {
 	format, gz, err := detectFormat(path, opt.Format)
 	if err != nil {

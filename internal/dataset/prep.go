@@ -275,7 +275,9 @@ const fingerprintTag = "plumb dataset fingerprint v1\n"
 //	the ASCII tag "plumb dataset fingerprint v1\n"
 //	N, D
 //	the N·D features of X in row-major order, each as the little-endian
-//	  IEEE-754 bits of the float64 (math.Float64bits; so -0 ≠ +0)
+//	  IEEE-754 bits of the float64 (math.Float64bits; so -0 ≠ +0, but the
+//	  readers store an input -0 as +0, so "-0" and "0" in a file give the
+//	  same fingerprint)
 //	for each of the N ids: its length in bytes, then its UTF-8 bytes
 //	one byte: 1 if there are labels, 0 if not
 //	if there are labels, for each of the N labels: its length, then its bytes
