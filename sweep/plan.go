@@ -8,11 +8,11 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"os"
 	"sort"
 	"strconv"
 	"strings"
 
+	"plumb/internal/dataset"
 	"plumb/tsne"
 )
 
@@ -117,12 +117,16 @@ func (e *PlanError) Error() string {
 	return fmt.Sprintf("%s %q: %s", where, e.Value, e.Msg)
 }
 
+// MaxPlanBytes bounds the size of a plan file (a plan is a few hundred
+// bytes; ReadSpec refuses larger files, devices and FIFOs).
+const MaxPlanBytes = 1 << 20
+
 // ReadSpec reads a plan file: a JSON object with the fields of Spec. Each
 // value may be a string in the flag syntax ("5,15,30", "auto,200",
 // "1-5,9"), a number, or an array of numbers and strings. Unknown fields
 // are an error.
 func ReadSpec(path string) (Spec, error) {
-	b, err := os.ReadFile(path)
+	b, err := dataset.ReadRegular(path, MaxPlanBytes)
 	if err != nil {
 		return Spec{}, fmt.Errorf("plan file: %w", err)
 	}
