@@ -25,7 +25,7 @@ import (
 	"reflect"
 	"sort"
 
-	"plumb/internal/pq"
+	"plumb/internal/parquetio"
 )
 
 func main() {
@@ -208,11 +208,11 @@ func short(v any) string {
 }
 
 func diffParquet(pa, pb string) (string, error) {
-	x, err := pq.Read(pa)
+	x, err := parquetio.Read(pa)
 	if err != nil {
 		return "", err
 	}
-	y, err := pq.Read(pb)
+	y, err := parquetio.Read(pb)
 	if err != nil {
 		return "", err
 	}
@@ -242,7 +242,7 @@ func diffParquet(pa, pb string) (string, error) {
 
 // firstDiff returns the first row where two columns of equal length and type
 // differ (nulls compared as nulls, floats bit for bit), or -1.
-func firstDiff(cx, cy *pq.Column) int {
+func firstDiff(cx, cy *parquetio.Column) int {
 	n := cx.Len()
 	for r := 0; r < n; r++ {
 		if cx.IsNull(r) != cy.IsNull(r) {

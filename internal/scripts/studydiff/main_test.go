@@ -8,7 +8,7 @@ import (
 	"strings"
 	"testing"
 
-	"plumb/internal/pq"
+	"plumb/internal/parquetio"
 )
 
 // study writes a tiny study-shaped directory: a run table with a seconds
@@ -17,13 +17,13 @@ func study(t *testing.T, kl, seconds float64, created string, x float64) string 
 	t.Helper()
 	dir := t.TempDir()
 	must(t, os.MkdirAll(filepath.Join(dir, "records"), 0o755))
-	tb := &pq.Table{Columns: []pq.Column{
+	tb := &parquetio.Table{Columns: []parquetio.Column{
 		{Name: "run_id", Values: []string{"r1", "r2"}},
 		{Name: "kl", Values: []float64{kl, math.NaN()}, Nullable: true, Valid: []bool{true, false}},
 		{Name: "x", Values: []float64{x, math.NaN()}},
 		{Name: "seconds", Values: []float64{seconds, seconds * 2}},
 	}, Meta: map[string]string{"plumb.table": "runs"}}
-	must(t, pq.Write(filepath.Join(dir, "runs.parquet"), tb))
+	must(t, parquetio.Write(filepath.Join(dir, "runs.parquet"), tb))
 	must(t, os.WriteFile(filepath.Join(dir, "study.json"), []byte(`{"created":"`+created+`","runs":2}`), 0o644))
 	must(t, os.WriteFile(filepath.Join(dir, "records", "r1.json"), []byte(`{"kl":1.5,"seconds":`+ftoa(seconds)+`}`), 0o644))
 	must(t, os.WriteFile(filepath.Join(dir, "notes.txt"), []byte("same"), 0o644))
