@@ -1,7 +1,6 @@
 package stability
 
 import (
-	"encoding/csv"
 	"encoding/json"
 	"fmt"
 	"math"
@@ -10,6 +9,8 @@ import (
 	"strconv"
 	"sync"
 	"testing"
+
+	"plumb/internal/fixture"
 )
 
 // reference mirrors testdata/sklearn_trustworthiness/reference.json, written
@@ -60,17 +61,12 @@ func loadReference(t testing.TB) (*reference, *digitsData) {
 			refLoadEr = err
 			return
 		}
-		f, err := os.Open(filepath.Join("..", "testdata", "digits.csv"))
+		tb, err := fixture.ReadCSV(filepath.Join("..", "testdata", "digits.csv"))
 		if err != nil {
 			refLoadEr = err
 			return
 		}
-		defer f.Close()
-		rows, err := csv.NewReader(f).ReadAll()
-		if err != nil {
-			refLoadEr = err
-			return
-		}
+		rows := append([][]string{tb.Header}, tb.Rows...)
 		head := map[string]int{}
 		for c, h := range rows[0] {
 			head[h] = c
