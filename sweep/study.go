@@ -56,6 +56,12 @@ type Input struct {
 	HasLabels   bool     `json:"has_labels"`
 	Standardize bool     `json:"standardize"`
 	PCA         int      `json:"pca"`
+	// How a text input was read, when not by its defaults (see
+	// dataset.Options), so that a later command reads it the same way.
+	Format       string `json:"format,omitempty"`
+	Delimiter    string `json:"delimiter,omitempty"`
+	DecimalComma bool   `json:"decimal_comma,omitempty"`
+	NoHeader     bool   `json:"no_header,omitempty"`
 }
 
 // NewInput describes ds, read from path with opt.
@@ -63,13 +69,15 @@ func NewInput(path string, opt dataset.Options, ds *dataset.Dataset) Input {
 	abs, _ := filepath.Abs(path)
 	return Input{Path: path, AbsPath: abs, Select: opt.Columns, Fingerprint: ds.Fingerprint, N: ds.N, D: ds.D, Columns: ds.Columns,
 		IDColumn: opt.IDColumn, LabelColumn: opt.LabelColumn, HasLabels: ds.Labels != nil,
-		Standardize: opt.Standardize, PCA: opt.PCA}
+		Standardize: opt.Standardize, PCA: opt.PCA,
+		Format: opt.Format, Delimiter: opt.Delimiter, DecimalComma: opt.DecimalComma, NoHeader: opt.NoHeader}
 }
 
 // Options returns the dataset options the input was read with.
 func (in Input) Options() dataset.Options {
 	return dataset.Options{IDColumn: in.IDColumn, LabelColumn: in.LabelColumn, Columns: in.Select,
-		Standardize: in.Standardize, PCA: in.PCA}
+		Standardize: in.Standardize, PCA: in.PCA,
+		Format: in.Format, Delimiter: in.Delimiter, DecimalComma: in.DecimalComma, NoHeader: in.NoHeader}
 }
 
 // Info is the content of study.json.
