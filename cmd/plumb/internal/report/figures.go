@@ -3,6 +3,7 @@ package report
 import (
 	"fmt"
 	"math"
+	"plumb/internal/words"
 	"sort"
 	"strings"
 
@@ -322,7 +323,7 @@ func layoutsFigure(st *studyview.View, ref int, chosen string) (*Figure, error) 
 		caption += "Colour shows each point's spread across seeds (darker = less stable). "
 	}
 	if len(idx) < len(st.IDs) {
-		caption += fmt.Sprintf("%d of %d points drawn (evenly spaced subset). ", len(idx), len(st.IDs))
+		caption += fmt.Sprintf("%d of %s drawn (evenly spaced subset). ", len(idx), words.Count(len(st.IDs), "point"))
 	}
 	return finish(c, "layouts", caption)
 }
@@ -573,8 +574,8 @@ func stabilityFigure(st *studyview.View, si int) (*Figure, error) {
 	c.text(lx, 104, fmt.Sprintf("(0 to %s, the 95th pct.)", fmtScore(smax)), 10, "start", grey)
 	c.ring(lx+5, 126, 4.5, hexColor("#c0392b"))
 	c.text(lx+16, 130, "flagged unstable", 11, "start", black)
-	caption := fmt.Sprintf("The consensus layout of %s; each point's colour is its spread across the %d finished seeds (distance from the consensus after alignment), red rings mark points flagged unstable (%.1f%% of all).",
-		st.Label(s), s.RunsDone, 100*s.UnstableShare)
+	caption := fmt.Sprintf("The consensus layout of %s; each point's colour is its spread across the %d finished %s (distance from the consensus after alignment), red rings mark points flagged unstable (%.1f%% of all).",
+		st.Label(s), s.RunsDone, words.Noun(s.RunsDone, "seed"), 100*s.UnstableShare)
 	return finish(c, "stability", caption)
 }
 

@@ -3,6 +3,7 @@ package report
 import (
 	"fmt"
 	"math"
+	"plumb/internal/words"
 	"sort"
 	"strings"
 
@@ -94,14 +95,14 @@ func Methods(st *studyview.View, rec *Recommendation) []string {
 	}
 	var b strings.Builder
 	fmt.Fprintf(&b, "Two-dimensional maps were computed with t-SNE (van der Maaten & Hinton, 2008) using %s %s. ", tool, st.Version)
-	fmt.Fprintf(&b, "The input (%s) has n = %d points and d = %d features (preprocessing: %s; input fingerprint %s). ",
-		nonEmpty(st.Input.Path, "file not recorded"), st.Input.N, st.Input.D, pre, shortHash(st.Input.Fingerprint))
+	fmt.Fprintf(&b, "The input (%s) has n = %s and d = %s (preprocessing: %s; input fingerprint %s). ",
+		nonEmpty(st.Input.Path, "file not recorded"), words.Count(st.Input.N, "point"), words.Count(st.Input.D, "feature"), pre, shortHash(st.Input.Fingerprint))
 	if len(varied) > 0 {
 		fmt.Fprintf(&b, "We ran every combination of %s", strings.Join(varied, " × "))
 	} else {
 		b.WriteString("We ran a single setting")
 	}
-	fmt.Fprintf(&b, " (%d setting%s), each with %d seed%s (%s): %d runs, of which %d finished", len(st.Settings), plural(len(st.Settings)), len(st.Seeds), plural(len(st.Seeds)), seedList(st.Seeds), len(st.Runs), done)
+	fmt.Fprintf(&b, " (%s), each with %s (%s): %s, of which %d finished", words.Count(len(st.Settings), "setting"), words.Count(len(st.Seeds), "seed"), seedList(st.Seeds), words.Count(len(st.Runs), "run"), done)
 	if failed > 0 {
 		fmt.Fprintf(&b, " and %d failed", failed)
 	}
@@ -117,7 +118,7 @@ func Methods(st *studyview.View, rec *Recommendation) []string {
 	fmt.Fprintf(&b, "The gradient was computed by %s. ", nonEmpty(st.Gradient, "the method recorded per run"))
 	fmt.Fprintf(&b, "The runs of each setting were aligned by generalised Procrustes analysis (Gower, 1975); agreement between seeds was measured by the Procrustes disparity of each pair of runs (the scipy.spatial.procrustes convention, 0 = identical up to rotation, reflection, scale and shift) and by the Jaccard overlap of each point's k = %d nearest neighbours in the two maps; faithfulness to the input by trustworthiness (Venna & Kaski, 2001) with the same k", st.K)
 	if st.Sampled > 0 && st.Sampled < st.Input.N {
-		fmt.Fprintf(&b, ", on a fixed sample of %d points", st.Sampled)
+		fmt.Fprintf(&b, ", on a fixed sample of %s", words.Count(st.Sampled, "point"))
 	}
 	b.WriteString(". ")
 	dlo, dhi := scoreRange(st, func(s *studyview.Setting) stability.MedianIQR { return s.Disparity })
@@ -197,13 +198,6 @@ func shortHash(h string) string {
 		return h[:12] + "…"
 	}
 	return nonEmpty(h, "not recorded")
-}
-
-func plural(n int) string {
-	if n == 1 {
-		return ""
-	}
-	return "s"
 }
 
 func contains(v []string, s string) bool {
