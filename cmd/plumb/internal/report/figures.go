@@ -3,12 +3,12 @@ package report
 import (
 	"fmt"
 	"math"
-	"plumb/internal/words"
 	"sort"
 	"strings"
 
 	"plumb/align"
 	"plumb/cmd/plumb/internal/studyview"
+	"plumb/internal/words"
 	"plumb/stability"
 )
 

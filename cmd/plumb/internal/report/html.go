@@ -155,7 +155,7 @@ func page(st *studyview.View, rec *Recommendation, recErr error, figs []*Figure,
 	}
 	w("</div>\n<p>The same text is in <a href=\"methods.md\">methods.md</a>, ready to paste and edit.</p>\n")
 	w("<h3>References</h3>\n<ul>\n")
-	for _, r := range references {
+	for _, r := range Cited(strings.Join(methods, " ")) {
 		w("<li>%s</li>\n", h(r))
 	}
 	w("</ul>\n<p class=\"meta\">Input fingerprint <code>%s</code> · plan hash <code>%s</code></p>\n", h(nonEmpty(st.Input.Fingerprint, "not recorded")), h(nonEmpty(st.PlanHash, "not recorded")))

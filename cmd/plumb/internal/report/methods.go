@@ -3,11 +3,11 @@ package report
 import (
 	"fmt"
 	"math"
-	"plumb/internal/words"
 	"sort"
 	"strings"
 
 	"plumb/cmd/plumb/internal/studyview"
+	"plumb/internal/words"
 	"plumb/stability"
 )
 
@@ -162,18 +162,37 @@ func MethodsMarkdown(st *studyview.View, rec *Recommendation) string {
 		b.WriteString("\n\n")
 	}
 	b.WriteString("## References\n\n")
-	for _, r := range references {
+	for _, r := range Cited(b.String()) {
 		b.WriteString("- " + r + "\n")
 	}
 	return b.String()
 }
 
-var references = []string{
-	"van der Maaten, L. & Hinton, G. Visualizing Data using t-SNE. Journal of Machine Learning Research 9, 2579–2605 (2008).",
-	"Belkina, A. C. et al. Automated optimized parameters for T-distributed stochastic neighbor embedding improve visualization and analysis of large datasets. Nature Communications 10, 5415 (2019).",
-	"Gower, J. C. Generalized Procrustes analysis. Psychometrika 40, 33–51 (1975).",
-	"Venna, J. & Kaski, S. Neighborhood preservation in nonlinear projection methods: an experimental study. ICANN 2001.",
-	"Wattenberg, M., Viégas, F. & Johnson, I. How to Use t-SNE Effectively. Distill (2016).",
+// reference is one entry of methods.md's reference list and the citation
+// that calls it in the text ("(Gower, 1975)" is cited as "Gower, 1975").
+type reference struct{ cite, entry string }
+
+var references = []reference{
+	{"van der Maaten & Hinton, 2008", "van der Maaten, L. & Hinton, G. Visualizing Data using t-SNE. Journal of Machine Learning Research 9, 2579–2605 (2008)."},
+	{"van der Maaten, 2014", "van der Maaten, L. Accelerating t-SNE using Tree-Based Algorithms. Journal of Machine Learning Research 15, 3221–3245 (2014)."},
+	{"Linderman et al., 2019", "Linderman, G. C., Rachh, M., Hoskins, J. G., Steinerberger, S. & Kluger, Y. Fast interpolation-based t-SNE for improved visualization of single-cell RNA-seq data. Nature Methods 16, 243–245 (2019)."},
+	{"Belkina et al., 2019", "Belkina, A. C. et al. Automated optimized parameters for T-distributed stochastic neighbor embedding improve visualization and analysis of large datasets. Nature Communications 10, 5415 (2019)."},
+	{"Gower, 1975", "Gower, J. C. Generalized Procrustes analysis. Psychometrika 40, 33–51 (1975)."},
+	{"Venna & Kaski, 2001", "Venna, J. & Kaski, S. Neighborhood preservation in nonlinear projection methods: an experimental study. ICANN (2001)."},
+	{"", "Wattenberg, M., Viégas, F. & Johnson, I. How to Use t-SNE Effectively. Distill (2016)."},
+}
+
+// Cited returns the reference entries for the citations in text, in the
+// list's order; entries without a citation (the reading notes' source) are
+// always listed.
+func Cited(text string) []string {
+	var out []string
+	for _, r := range references {
+		if r.cite == "" || strings.Contains(text, r.cite) {
+			out = append(out, r.entry)
+		}
+	}
+	return out
 }
 
 // Cautions are the reading notes shown on every report.

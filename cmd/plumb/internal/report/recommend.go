@@ -4,8 +4,9 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"plumb/internal/words"
 	"sort"
+
+	"plumb/internal/words"
 )
 
 // Candidate is one row of the score table the recommendation rule reads:
