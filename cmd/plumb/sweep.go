@@ -4,9 +4,10 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"os/signal"
-	"plumb/internal/words"
+	"strconv"
 	"strings"
 	"syscall"
 	"text/tabwriter"
@@ -15,6 +16,7 @@ import (
 	"github.com/urfave/cli/v2"
 
 	"plumb/internal/dataset"
+	"plumb/internal/words"
 	"plumb/sweep"
 )
 
@@ -214,8 +216,23 @@ func printOutline(w io.Writer, ds *dataset.Dataset, path string, shard sweep.Sha
 		fmt.Fprintln(w, "study directory: new")
 	}
 	fmt.Fprintf(w, "this process (%s): %s, %d finished, %d to do, %s × %s\n", shard, words.Count(o.InShard, "run"), o.Finished, o.Todo, words.Count(o.Jobs, "job"), words.Count(o.Threads, "thread"))
-	fmt.Fprintf(w, "estimate: %s for %d gradient iterations (rough, from per-method costs measured on a 2-core machine)\n",
-		roundEstimate(o.Estimate), o.Iterations)
+	e := o.Estimate.Seconds()
+	fmt.Fprintf(w, "estimate: %s for %d gradient iterations (%s s, likely %s s to %s s: wall time on an idle machine, scoring not included)\n",
+		roundEstimate(o.Estimate), o.Iterations, secs(e), secs(e/estimateError), secs(e*estimateError))
+}
+
+// estimateError is the factor either way within which
+// internal/scripts/bench/estimate_check.sh found the estimate of single-run
+// sweeps (see sweep's cost constants).
+const estimateError = 1.5
+
+// secs prints a number of seconds with two significant digits (at least
+// whole seconds).
+func secs(s float64) string {
+	if s >= 10 {
+		return strconv.FormatFloat(math.Round(s), 'f', -1, 64)
+	}
+	return strconv.FormatFloat(s, 'g', 2, 64)
 }
 
 func roundEstimate(d time.Duration) string {
