@@ -10,8 +10,9 @@ import (
 	"math"
 	"os"
 	"path/filepath"
-	"plumb/internal/words"
 	"strings"
+
+	"plumb/internal/words"
 )
 
 // Dataset is a table of N points with D numeric features, read from a file.

@@ -3,11 +3,11 @@ package studyview
 import (
 	"fmt"
 	"math"
-	"plumb/internal/words"
 	"sort"
 	"strconv"
 	"strings"
 
+	"plumb/internal/words"
 	"plumb/stability"
 	"plumb/sweep"
 )
