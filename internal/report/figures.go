@@ -16,6 +16,7 @@ type Figure struct {
 	// Caption says what the figure shows, in a sentence or two.
 	Caption string
 	SVG     []byte
+	PDF     []byte
 	PNG     []byte
 }
 
@@ -73,9 +74,11 @@ type marker struct {
 }
 
 // labelColours assigns markers to labels by decreasing frequency (ties
-// alphabetical), so the largest groups get the most distinct ones: first
-// the seven palette colours filled, then the same colours as rings; labels
-// past those fourteen share a grey filled marker ("other").
+// alphabetical), so the largest groups get the most distinct colours. Up to
+// len(categorical) labels each get a colour of their own; beyond that the
+// len(categorical)−1 largest keep theirs and the rest share otherColor
+// ("other" in the legend). Every marker is a filled dot: a ring of a
+// filled class's hue reads as that class in dense clusters.
 func labelColours(labels []string) (order []string, mk map[string]marker) {
 	count := map[string]int{}
 	for _, l := range labels {
@@ -91,22 +94,22 @@ func labelColours(labels []string) (order []string, mk map[string]marker) {
 		return order[i] < order[j]
 	})
 	mk = map[string]marker{}
-	n := len(categorical)
+	own := len(order)
+	if own > len(categorical) {
+		own = len(categorical) - 1
+	}
 	for i, l := range order {
-		switch {
-		case i < n:
-			mk[l] = marker{categorical[i], false}
-		case i < 2*n:
-			mk[l] = marker{categorical[i-n], true}
-		default:
-			mk[l] = marker{otherColor, false}
+		if i < own {
+			mk[l] = marker{col: categorical[i]}
+		} else {
+			mk[l] = marker{col: otherColor}
 		}
 	}
 	return order, mk
 }
 
-// maxMarkers is the number of labels with a marker of their own.
-var maxMarkers = 2 * len(categorical)
+// maxMarkers is the number of labels that can have a colour of their own.
+var maxMarkers = len(categorical)
 
 func (c *canvas) mark(x, y, r float64, m marker, alpha float64) {
 	if m.hollow {
@@ -365,7 +368,11 @@ func finish(c *canvas, name, caption string) (*Figure, error) {
 	if err != nil {
 		return nil, fmt.Errorf("report: figure %s: %w", name, err)
 	}
-	return &Figure{Name: name, Caption: caption, SVG: c.svg(), PNG: p}, nil
+	d, err := c.pdf()
+	if err != nil {
+		return nil, fmt.Errorf("report: figure %s: %w", name, err)
+	}
+	return &Figure{Name: name, Caption: caption, SVG: c.svg(), PDF: d, PNG: p}, nil
 }
 
 // quantile returns the q-quantile of the finite values (linear

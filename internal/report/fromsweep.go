@@ -225,6 +225,9 @@ func FromSweep(s *sweep.Study) (*Study, error) {
 	for _, p := range s.Pairs {
 		st.Pairs = append(st.Pairs, Pair{SettingID: p.SettingID, RunA: p.RunA, RunB: p.RunB, Disparity: p.Disparity, Jaccard: p.Jaccard})
 	}
+	if err := loadRunLayouts(s, st); err != nil {
+		return nil, err
+	}
 	return st, nil
 }
 

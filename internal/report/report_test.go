@@ -210,18 +210,19 @@ func TestLabelColoursByFrequency(t *testing.T) {
 	if strings.Join(order, ",") != "c,b,a" {
 		t.Errorf("order: got %v want c,b,a (by count, ties by name)", order)
 	}
-	if col["c"] != (marker{categorical[0], false}) || col["a"] != (marker{categorical[2], false}) {
+	if col["c"] != (marker{col: categorical[0]}) || col["a"] != (marker{col: categorical[2]}) {
 		t.Errorf("markers: got %v", col)
 	}
-	// Past the seven colours come the same colours as rings, then grey.
+	// Past the palette's 20 colours: the 19 largest labels keep theirs,
+	// the rest share grey (TestLabelColoursBeyondPalette covers more).
 	var many []string
-	for i := 0; i < 16; i++ {
-		for k := 0; k <= 16-i; k++ {
+	for i := 0; i < 25; i++ {
+		for k := 0; k <= 25-i; k++ {
 			many = append(many, fmt.Sprintf("l%02d", i))
 		}
 	}
 	order, col = labelColours(many)
-	if col[order[7]] != (marker{categorical[0], true}) || col[order[13]] != (marker{categorical[6], true}) || col[order[14]] != (marker{otherColor, false}) {
-		t.Errorf("markers past the palette: got %v %v %v", col[order[7]], col[order[13]], col[order[14]])
+	if col[order[18]] != (marker{col: categorical[18]}) || col[order[19]] != (marker{col: otherColor}) || col[order[24]] != (marker{col: otherColor}) {
+		t.Errorf("markers past the palette: got %v %v %v", col[order[18]], col[order[19]], col[order[24]])
 	}
 }
