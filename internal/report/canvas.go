@@ -216,4 +216,3 @@ func (c *canvas) svg() []byte {
 
 // pngScale is how many PNG pixels one SVG pixel becomes.
 func clamp01(x float64) float64 { return math.Max(0, math.Min(1, x)) }
-

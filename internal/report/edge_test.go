@@ -38,7 +38,7 @@ func TestWriteEdgeCases(t *testing.T) {
 		{
 			name: "no labels: colour by spread",
 			edit: func(s *Study) { s.Labels = nil; s.Input.LabelColumn = "" },
-			want: []string{"spread across seeds (darker = less stable)"},
+			want: []string{"Colour shows each point&#39;s spread across seeds: light grey = stable"},
 		},
 		{
 			name: "a setting without finished runs",

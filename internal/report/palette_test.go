@@ -125,3 +125,16 @@ func TestRampMonotone(t *testing.T) {
 		t.Errorf("ramp lightness span %.1f < 70", l0-prev)
 	}
 }
+
+// The per-point ramp of the maps also falls monotonically in lightness, so
+// it reads in greyscale and "darker = less stable" holds everywhere.
+func TestWarnRampMonotone(t *testing.T) {
+	prev := math.Inf(1)
+	for i := 0; i <= 100; i++ {
+		l, _, _ := lab(warnRamp(float64(i) / 100))
+		if l >= prev {
+			t.Fatalf("per-point ramp lightness not falling at t=%.2f: %.2f after %.2f", float64(i)/100, l, prev)
+		}
+		prev = l
+	}
+}

@@ -88,7 +88,7 @@ func Build(st *Study, opt Options) (rec *Recommendation, recErr error, figs []*F
 		add(layoutsFigure(st, ref, chosen))
 	}
 	for _, sd := range headline {
-		add(heatmapFigure(st, sd))
+		add(heatmapFigure(st, sd, chosen))
 	}
 	if rec != nil && ref >= 0 && st.Settings[ref].ID == chosen {
 		add(stabilityFigure(st, ref))

@@ -42,7 +42,8 @@
   rampPix[255] = packed([200, 200, 200]);
   var catPix = D.categorical.map(function (c) { return packed(hexRGB(c)); });
   var otherPix = packed(hexRGB(D.other));
-  var fadePix = packed([226, 226, 226]);
+  var fadePix = packed([232, 232, 232]);
+  var inkPix = packed([20, 20, 20]);
   var bgPix = packed([250, 250, 250]);
   var basePix = catPix[0];
 
@@ -132,10 +133,18 @@
     buf.fill(bgPix);
     var r = m > 30000 ? 1 : (m > 5000 ? 2 : 3);
     r = Math.max(1, Math.round(r * this.dpr / 1.5));
+    // A dot is a disc of radius rad device pixels (a square at rad 1).
     function dot(x, y, pix, rad) {
       x = x | 0; y = y | 0;
-      var xa = Math.max(0, x - rad + 1), xb = Math.min(W - 1, x + rad - 1), ya = Math.max(0, y - rad + 1), yb = Math.min(W - 1, y + rad - 1);
-      for (var yy = ya; yy <= yb; yy++) { var row = yy * W; for (var xx = xa; xx <= xb; xx++) buf[row + xx] = pix; }
+      var r2 = (rad - 0.5) * (rad - 0.5) + 0.5;
+      for (var dy = 1 - rad; dy < rad; dy++) {
+        var yy = y + dy; if (yy < 0 || yy >= W) continue;
+        var row = yy * W;
+        for (var dx = 1 - rad; dx < rad; dx++) {
+          var xx = x + dx; if (xx < 0 || xx >= W || (rad > 1 && dx * dx + dy * dy > r2)) continue;
+          buf[row + xx] = pix;
+        }
+      }
     }
     var hi = [];
     var faded = nsel > 0;
@@ -149,6 +158,7 @@
       for (var j = 0; j < m; j++) {
         var xj = this.sx[j], yj = this.sy[j];
         if (xj < 0 || yj < 0 || xj >= W || yj >= W || !this.selected(j)) continue;
+        dot(xj, yj, inkPix, r + 2);
         dot(xj, yj, this.pixelOf(j), r + 1);
         hi.push(j);
       }

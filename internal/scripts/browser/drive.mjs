@@ -226,13 +226,13 @@ const after = await evaluate(`(function(){
     if (!p.xy) return;
     var ctx = p.ctx, img = ctx.getImageData(0, 0, p.W, p.W).data, bad = 0, checked = 0;
     // Pixel check: every highlighted point's pixel is neither background
-    // nor the faded grey of unselected points.
+    // nor the faded grey of unselected points (#fafafa and #e8e8e8 in maps.js).
     p.highlighted.forEach(function(i){
       var x = Math.round(p.sx[i]) | 0, y = Math.round(p.sy[i]) | 0;
       if (x < 0 || y < 0 || x >= p.W || y >= p.W) return;
       var o = 4 * (y * p.W + x), r = img[o], g = img[o+1], b = img[o+2];
       checked++;
-      if ((r === 250 && g === 250 && b === 250) || (r === 226 && g === 226 && b === 226)) bad++;
+      if ((r === 250 && g === 250 && b === 250) || (r === 232 && g === 232 && b === 232)) bad++;
     });
     out.push({name: p.name, kind: p.kind, m: p.m, ids: p.highlighted.map(function(i){ return D.ids[i]; }), index: p.highlighted.slice(), pixelsChecked: checked, pixelsWrong: bad});
   });
