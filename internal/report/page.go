@@ -65,7 +65,14 @@ type compareRow struct{ Name, A, B, Diff string }
 type figView struct {
 	Name, Caption string
 	SVG           template.HTML
+	// Big is the SVG's size when it is too large to inline (0 otherwise).
+	Big int
 }
+
+// maxInlineSVG is the largest figure SVG put into the page itself; larger
+// ones (the layouts of big studies, thousands of dots) are linked, since
+// the interactive maps above show the same layouts.
+const maxInlineSVG = 512 << 10
 
 type tableView struct {
 	Params, Scores []string
@@ -157,7 +164,13 @@ func page(st *Study, rec *Recommendation, recErr error, figs []*Figure, methods 
 		}
 	}
 	for _, f := range figs {
-		v.Figures = append(v.Figures, figView{Name: f.Name, Caption: f.Caption, SVG: template.HTML(f.SVG)})
+		fv := figView{Name: f.Name, Caption: f.Caption}
+		if len(f.SVG) <= maxInlineSVG {
+			fv.SVG = template.HTML(f.SVG)
+		} else {
+			fv.Big = len(f.SVG)
+		}
+		v.Figures = append(v.Figures, fv)
 	}
 	v.Table = settingsTableView(st, rec)
 	var b bytes.Buffer

@@ -132,6 +132,9 @@ if (flags.has('--timing')) {
   console.log(JSON.stringify({ timeToInteractiveMs: tInteractive }));
 }
 const verdict = { url, timeToInteractiveMs: tInteractive };
+verdict.script = await evaluate(`(function(){ var t = plumbMaps.timing, r = [t.redraw(), t.redraw(), t.redraw()].sort(function(a,b){return a-b;});
+  return {parseMs: Math.round(t.parse), decodeMs: Math.round(t.decode), firstDrawMs: Math.round(t.draw), redrawAllMapsMedianMs: Math.round(r[1]),
+    maps: plumbMaps.panels.length, pointsPerMap: plumbMaps.data.shown, pageBytes: document.documentElement.outerHTML.length}; })()`);
 const bad = [];
 
 async function mouse(type, x, y, extra = {}) {
@@ -212,7 +215,7 @@ const rect = await evaluate(`(function(){
   var x0 = clear(q(xs, 0.3), xs), x1 = clear(q(xs, 0.7), xs), y0 = clear(q(ys, 0.3), ys), y1 = clear(q(ys, 0.7), ys);
   var want = [];
   for (var i = 0; i < P.m; i++) if (P.sx[i] >= x0 && P.sx[i] <= x1 && P.sy[i] >= y0 && P.sy[i] <= y1) want.push(i);
-  return {panel: P.name, x0: r.left + x0 / P.dpr, y0: r.top + y0 / P.dpr, x1: r.left + x1 / P.dpr, y1: r.top + y1 / P.dpr, want: want};
+  return {panel: P.name, x0: r.left + x0 / P.dpr, y0: r.top + y0 / P.dpr, x1: r.left + x1 / P.dpr, y1: r.top + y1 / P.dpr, want: want.length};
 })()`);
 const [ax, ay, bx, by] = [rect.x0, rect.y0, rect.x1, rect.y1];
 await mouse('mouseMoved', ax, ay);
@@ -238,8 +241,23 @@ const after = await evaluate(`(function(){
   });
   return {panels: out, selected: plumbMaps.selectionSize(), status: document.getElementById('selection-status').textContent};
 })()`);
-const wantIdx = rect.want;
-verdict.selection = { panel: rect.panel, wanted: wantIdx.length, selected: after.selected, status: after.status, panels: after.panels.map((p) => ({ name: p.name, highlighted: p.ids.length, pixelsChecked: p.pixelsChecked, pixelsWrong: p.pixelsWrong })) };
+// The points inside the rectangle the page applied (device pixels of the
+// source map), recomputed here from the map's point positions; the applied
+// rectangle must be the dragged one to within 1.5 pixels.
+const applied = await evaluate(`(function(){
+  var P = plumbMaps.panels.filter(function(p){ return p.name === ${JSON.stringify(rect.panel)}; })[0];
+  var r = P.over.getBoundingClientRect(), R = P.lastRect;
+  if (!R) return null;
+  var want = [];
+  for (var i = 0; i < P.m; i++) if (P.sx[i] >= R[0] && P.sx[i] <= R[2] && P.sy[i] >= R[1] && P.sy[i] <= R[3]) want.push(i);
+  return {x0: r.left + R[0] / P.dpr, y0: r.top + R[1] / P.dpr, x1: r.left + R[2] / P.dpr, y1: r.top + R[3] / P.dpr, want: want};
+})()`);
+if (!applied) bad.push('selection: the source map applied no rectangle');
+const wantIdx = applied ? applied.want : [];
+if (applied && Math.max(Math.abs(applied.x0 - rect.x0), Math.abs(applied.y0 - rect.y0), Math.abs(applied.x1 - rect.x1), Math.abs(applied.y1 - rect.y1)) > 1.5) {
+  bad.push('selection: the page applied ' + JSON.stringify(applied) + ', not the dragged rectangle ' + JSON.stringify(rect));
+}
+verdict.selection = { panel: rect.panel, dragged: rect, wanted: wantIdx.length, selected: after.selected, status: after.status, panels: after.panels.map((p) => ({ name: p.name, highlighted: p.ids.length, pixelsChecked: p.pixelsChecked, pixelsWrong: p.pixelsWrong })) };
 if (wantIdx.length < 2) bad.push(`selection: the rectangle holds ${wantIdx.length} points; the check needs at least 2`);
 if (after.selected !== wantIdx.length) bad.push(`selection: the page selected ${after.selected} points, the rectangle holds ${wantIdx.length}`);
 const ids = await evaluate(`plumbMaps.data.ids`);
