@@ -140,16 +140,16 @@ const bad = [];
 async function mouse(type, x, y, extra = {}) {
   await s('Input.dispatchMouseEvent', { type, x, y, button: type === 'mouseMoved' && !extra.buttons ? 'none' : 'left', clickCount: type === 'mouseMoved' ? 0 : 1, ...extra });
 }
-async function shot(name, selector) {
+async function shot(name, selector, beyond = true) {
   const box = await evaluate(`(function(){ var e = document.querySelector(${JSON.stringify(selector)}); if (!e) return null;
     var r = e.getBoundingClientRect(); return {x: r.left + window.scrollX, y: r.top + window.scrollY, w: r.width, h: r.height}; })()`);
   if (!box || box.w === 0) return;
-  const img = await s('Page.captureScreenshot', { format: 'png', captureBeyondViewport: true, clip: { x: box.x, y: box.y, width: box.w, height: Math.min(box.h, 6000), scale: 1 } });
+  const img = await s('Page.captureScreenshot', { format: 'png', captureBeyondViewport: beyond, clip: { x: box.x, y: box.y, width: box.w, height: Math.min(box.h, 6000), scale: 1 } });
   writeFileSync(join(outDir, name), Buffer.from(img.data, 'base64'));
 }
 
 // 1. Hover a known point: an isolated point of the first map with data.
-await evaluate(`document.getElementById('map-grid').scrollIntoView()`);
+await evaluate(`window.scrollTo(0, document.getElementById('map-grid').getBoundingClientRect().top + window.scrollY - 70)`);
 await sleep(100);
 const target = await evaluate(`(function(){
   var P = plumbMaps.panels.filter(function(p){ return p.kind === 'setting' && p.xy; })[0];
@@ -185,7 +185,7 @@ else {
     if (!tip.text.includes(lab)) bad.push(`hover: tooltip lacks the label ${JSON.stringify(lab)}`);
     verdict.hover.label = lab;
   }
-  await shot('maps-hover.png', '#map-grid');
+  await shot('maps-hover.png', '#map-grid', false);
   await mouse('mouseMoved', 5, 5);
 }
 await shot('maps-grid.png', '#explore ~ .maps');
@@ -269,7 +269,7 @@ for (const p of after.panels) {
   if (missing.length || extra.length) bad.push(`selection: map ${p.name} highlights ${got.size} points, want ${want.size} (missing ${missing.slice(0, 3).map((x) => JSON.stringify(x)).join(', ')}${missing.length > 3 ? '…' : ''}; extra ${extra.length})`);
   if (p.pixelsWrong) bad.push(`selection: map ${p.name}: ${p.pixelsWrong} of ${p.pixelsChecked} highlighted points are not painted highlighted`);
 }
-await evaluate(`document.getElementById('map-grid').scrollIntoView()`);
+await evaluate(`window.scrollTo(0, document.getElementById('map-grid').getBoundingClientRect().top + window.scrollY - 70)`);
 await shot('maps-selected.png', '#map-grid');
 await shot('maps-focus.png', '#map-focus');
 await shot('maps-runs.png', '#map-runs');

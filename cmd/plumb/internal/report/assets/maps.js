@@ -72,8 +72,8 @@
   function stabilityText(u) {
     if (u === 255) return 'not measured';
     var st = D.stability, v = u / 254 * st.Max;
-    if (st.Invert) return 'stability ' + (1 - v).toFixed(3);
-    return 'spread ' + (u === 254 ? '≥ ' : '') + (v).toFixed(3) + ' of the map radius';
+    if (st.Invert) return (1 - v).toFixed(3) + ' (1 = stable, 0 = unstable)';
+    return (u === 254 ? '≥ ' : '') + v.toFixed(3) + ' of the map\'s RMS radius';
   }
   function fmtLabel(i) {
     if (!lab) return null;
@@ -133,8 +133,8 @@
     this.project();
     var W = this.W, buf = this.buf, m = this.m;
     buf.fill(bgPix);
-    var r = m > 30000 ? 1 : (m > 5000 ? 2 : 3);
-    r = Math.max(1, Math.round(r * this.dpr / 1.5));
+    var r = m > 30000 ? 1 : (m > 5000 ? 2 : (m > 1000 ? 3 : 4));
+    r = Math.max(1, Math.round(r * this.dpr));
     // A dot is a disc of radius rad device pixels (a square at rad 1).
     function dot(x, y, pix, rad) {
       x = x | 0; y = y | 0;
