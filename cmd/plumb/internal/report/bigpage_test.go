@@ -1,6 +1,8 @@
 package report
 
 import (
+	"encoding/base64"
+	"encoding/binary"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -154,5 +156,39 @@ func TestPageDataRuns(t *testing.T) {
 	// 25 labels: 19 keep their colours, the rest are "other" from index 19.
 	if d.LabelOther != 19 || len(d.LabelNames) != 25 {
 		t.Errorf("labels: other from %d of %d, want 19 of 25", d.LabelOther, len(d.LabelNames))
+	}
+}
+
+// Map clusters and per-point stability, when the study has them, reach the
+// page: cluster id + 1 per shown point (0 for none), stability stored as
+// 1 − value on its own fixed [0, 1] scale.
+func TestPageDataClustersAndStability(t *testing.T) {
+	st := scaledStudy(300, 2, 3)
+	for i := range st.Settings {
+		s := &st.Settings[i]
+		s.Clusters = make([]int32, 300)
+		s.Stability = make([]float64, 300)
+		for p := range s.Clusters {
+			s.Clusters[p] = int32(p%4) - 1 // −1 (none), 0, 1, 2
+			s.Stability[p] = float64(p%5) / 4
+		}
+	}
+	d, err := buildPageData(st, 0, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !d.HasClusters || d.Stability.Name != "stability" || !d.Stability.Invert {
+		t.Fatalf("got clusters %v, scale %+v; want clusters and the stability scale", d.HasClusters, d.Stability)
+	}
+	order := displayOrder(300)
+	codes, _ := base64.StdEncoding.DecodeString(d.Settings[2].Clusters)
+	u, _ := base64.StdEncoding.DecodeString(d.Settings[2].U)
+	for k, p := range order {
+		if got, want := int(binary.LittleEndian.Uint16(codes[2*k:])), p%4; got != want {
+			t.Fatalf("point %d: cluster code %d want %d", p, got, want)
+		}
+		if got, want := int(u[k]), int(math.Round(254*(1-float64(p%5)/4))); got != want {
+			t.Fatalf("point %d: stored stability %d want %d", p, got, want)
+		}
 	}
 }

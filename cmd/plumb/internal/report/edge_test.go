@@ -22,7 +22,7 @@ func TestWriteDeterministic(t *testing.T) {
 	if _, err := Write(syntheticStudy(), b, Options{}); err != nil {
 		t.Fatal(err)
 	}
-	for _, f := range []string{"index.html", "methods.md", "figures/layouts.png", "figures/heatmap-kl.svg"} {
+	for _, f := range []string{"index.html", "methods.md", "figures/layouts.png", "figures/layouts.pdf", "figures/heatmap-kl.svg", "figures/kl-traces.pdf", "figures/stability.png"} {
 		x, _ := os.ReadFile(filepath.Join(a, f))
 		y, _ := os.ReadFile(filepath.Join(b, f))
 		if len(x) == 0 || !bytes.Equal(x, y) {
