@@ -2,6 +2,7 @@ package report
 
 import (
 	"bytes"
+	"encoding/xml"
 	"fmt"
 	"math"
 	"strings"
@@ -113,21 +114,12 @@ func (c *canvas) bold(x, y float64, s string, size float64, anchor string) {
 	c.shapes = append(c.shapes, textShape{x, y, s, size, anchor, black, true, 0})
 }
 
+// esc escapes text for SVG content and attribute values (encoding/xml's
+// escaper: & < > " ' and control characters).
 func esc(s string) string {
 	var b strings.Builder
-	for _, r := range s {
-		switch r {
-		case '&':
-			b.WriteString("&amp;")
-		case '<':
-			b.WriteString("&lt;")
-		case '>':
-			b.WriteString("&gt;")
-		case '"':
-			b.WriteString("&quot;")
-		default:
-			b.WriteRune(r)
-		}
+	if err := xml.EscapeText(&b, []byte(s)); err != nil {
+		panic("report: " + err.Error()) // a strings.Builder never fails
 	}
 	return b.String()
 }

@@ -91,16 +91,7 @@ func ramp(t float64) rgb {
 	if math.IsNaN(t) {
 		return light
 	}
-	t = clamp01(t)
-	pos := t * float64(len(rampStops)-1)
-	i := int(pos)
-	if i >= len(rampStops)-1 {
-		return rampStops[len(rampStops)-1]
-	}
-	f := pos - float64(i)
-	a, b := rampStops[i], rampStops[i+1]
-	mix := func(x, y uint8) uint8 { return uint8(math.Round(float64(x)*(1-f) + float64(y)*f)) }
-	return rgb{mix(a.R, b.R), mix(a.G, b.G), mix(a.B, b.B)}
+	return rampOf(rampStops, t)
 }
 
 // lab converts an sRGB colour to CIELAB (D65 white), per CIE 15:2004 and
