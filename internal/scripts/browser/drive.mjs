@@ -134,7 +134,8 @@ if (flags.has('--timing')) {
 const verdict = { url, timeToInteractiveMs: tInteractive };
 verdict.script = await evaluate(`(function(){ var t = plumbMaps.timing, r = [t.redraw(), t.redraw(), t.redraw()].sort(function(a,b){return a-b;});
   return {parseMs: Math.round(t.parse), decodeMs: Math.round(t.decode), firstDrawMs: Math.round(t.draw), redrawAllMapsMedianMs: Math.round(r[1]),
-    maps: plumbMaps.panels.length, pointsPerMap: plumbMaps.data.shown, pageBytes: document.documentElement.outerHTML.length}; })()`);
+    maps: plumbMaps.panels.length,
+    navigation: (function(){ var n = performance.getEntriesByType('navigation')[0] || {}; return {responseEndMs: Math.round(n.responseEnd || 0), domInteractiveMs: Math.round(n.domInteractive || 0), domContentLoadedMs: Math.round(n.domContentLoadedEventEnd || 0), loadMs: Math.round(n.loadEventEnd || 0)}; })(), pointsPerMap: plumbMaps.data.shown, pageBytes: document.documentElement.outerHTML.length}; })()`);
 const bad = [];
 
 async function mouse(type, x, y, extra = {}) {
