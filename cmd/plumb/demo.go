@@ -6,7 +6,6 @@ import (
 	"os"
 	"os/signal"
 	"path/filepath"
-	"plumb/internal/words"
 	"syscall"
 	"time"
 
@@ -15,6 +14,7 @@ import (
 	"plumb/cmd/plumb/internal/demo"
 	"plumb/cmd/plumb/internal/report"
 	"plumb/internal/dataset"
+	"plumb/internal/words"
 	"plumb/sweep"
 )
 

@@ -5,7 +5,6 @@ import (
 	"io"
 	"os"
 	"path/filepath"
-	"plumb/internal/words"
 	"strconv"
 	"strings"
 	"time"
@@ -14,6 +13,7 @@ import (
 	"golang.org/x/term"
 
 	"plumb/internal/dataset"
+	"plumb/internal/words"
 	"plumb/sweep"
 	"plumb/tsne"
 )

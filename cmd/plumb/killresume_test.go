@@ -13,7 +13,6 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
-	"plumb/internal/words"
 	"reflect"
 	"sort"
 	"strings"
@@ -22,6 +21,7 @@ import (
 	"time"
 
 	"plumb/internal/parquetio"
+	"plumb/internal/words"
 )
 
 // krBuild builds the plumb binary into a temporary directory.

@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"os"
 	"os/signal"
-	"plumb/internal/words"
 	"strings"
 	"syscall"
 	"time"
@@ -14,6 +13,7 @@ import (
 	"github.com/urfave/cli/v2"
 
 	"plumb/internal/dataset"
+	"plumb/internal/words"
 	"plumb/sweep"
 )
 

@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"plumb/internal/words"
 	"sort"
 	"strconv"
 	"strings"
@@ -13,6 +12,7 @@ import (
 
 	"github.com/urfave/cli/v2"
 
+	"plumb/internal/words"
 	"plumb/stability"
 	"plumb/sweep"
 )
