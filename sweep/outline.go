@@ -56,8 +56,12 @@ func PlanOutline(ds *dataset.Dataset, plan *Plan, opt Options) (*Outline, error)
 	if err != nil {
 		return nil, err
 	}
+	search, err := tsne.ResolveNeighbors(plan.Neighbors, ds.N, ds.D)
+	if err != nil {
+		return nil, err
+	}
 	o := &Outline{Plan: plan, PlanHash: plan.Hash(), Settings: plan.Settings(), Runs: len(runs),
-		Neighbors: neighborsMode(plan.Neighbors, ds.N), NeighborK: tsne.NeighborCount(ds.N, plan.MaxPerplexity())}
+		Neighbors: search, NeighborK: tsne.NeighborCount(ds.N, plan.MaxPerplexity())}
 	mine := opt.Shard.Select(runs)
 	o.InShard = len(mine)
 	var info *Info

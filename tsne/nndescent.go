@@ -12,13 +12,6 @@ import (
 // below it the exact search is about as fast and is used instead.
 const ApproxMinN = 2000
 
-// ApproxAutoMinN is the smallest n for which EmbedConfig.Neighbors "auto"
-// uses ApproxNeighbors. The exact search (a VP-tree) degrades towards
-// brute force on data of high intrinsic dimension and grows as about n²
-// there; NN-descent grows about linearly. On the clustered 50-dimensional
-// data of the benchmarks the two cost about the same near 20,000 points.
-const ApproxAutoMinN = 50000
-
 // ApproxNeighbors returns approximate k nearest neighbours of every point
 // of x (n points of d features, flat row-major) under the Euclidean
 // distance, the point itself excluded, in the same form as ExactNeighbors:

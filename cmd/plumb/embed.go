@@ -123,7 +123,7 @@ func embedAction(c *cli.Context) error {
 		return err
 	}
 	if cfg.Method == "" || cfg.Method == tsne.MethodAuto {
-		cfg.Method = tsne.AutoMethod(data.N)
+		cfg.Method = tsne.Choose(data.N, data.D).Method
 	}
 	if !quiet {
 		fmt.Fprintf(stderr, "plumb: %d points × %d features, perplexity %g, gradient %s\n", data.N, data.D, cfg.Perplexity, cfg.Method)
