@@ -17,37 +17,28 @@ import (
 //	Σ_j K_ij (y_i − y_j)    = y_i φ_1 − (φ_x, φ_y)
 //	Z = Σ_{i≠j} (1 + d_ij²)⁻¹ = Σ_i [(1 + ‖y_i‖²) φ_1 − 2 y_i·(φ_x, φ_y) + φ_{x²+y²}] − N
 //
-// because (1 + d²)·(1 + d²)⁻² = (1 + d²)⁻¹. The potentials are computed by
-// spreading the charges onto an equispaced grid (the layout's bounding
-// square split into B×B intervals, 3 Lagrange nodes per interval, node
-// spacing h = side/(3B)), convolving with the kernel sampled on the grid by
-// a zero-padded 2-D FFT of size 6B×6B, and gathering the potentials back
-// with the same Lagrange weights. B is the smallest 3-smooth integer (so
-// the FFT length 6B factors into 2s and 3s) not below
-// max(MinIntervals, IntervalsPerUnit · side).
+// because (1 + d²)·(1 + d²)⁻² = (1 + d²)⁻¹. The charges are spread onto an
+// equispaced grid (the layout's bounding square split into B×B intervals,
+// Nodes Lagrange nodes per interval), convolved with the kernel sampled on
+// the grid by a zero-padded 2-D FFT (our batched Stockham transform,
+// checked against gonum's dsp/fourier), and gathered back with the same
+// weights; each point's interpolated self-interaction is removed exactly.
+// B is the smallest 3-smooth integer not below max(MinIntervals,
+// IntervalsPerUnit · side), at most about MaxIntervals; beyond that cap
+// the intervals widen with the layout and the error grows as h^Nodes for
+// interval width h.
 //
-// The 2-D transform is our own batched Stockham FFT (fftPlan), checked
-// against gonum's dsp/fourier in the tests: it transforms eight grid
-// columns at a time with contiguous inner loops and measured 9× faster
-// than gonum's one-sequence-at-a-time CmplxFFT at the grid's lengths
-// (BenchmarkFFTPlan). Channels are packed in pairs as re + i·im (the
-// kernel's transform is real, so the pairs never mix), zero columns and
-// rows of the padding are not transformed, and only the m×m block of
-// potentials that the points use is transformed back.
+// Accuracy at the defaults (4 nodes, 1.25 intervals per unit): relative
+// RMS repulsion error at most 5e-3 and Z within 1e-4 on converged layouts
+// below the cap (TestFFTDefaultAccuracy); the table the defaults were
+// chosen from is in internal/scripts/bench/README.md.
 //
-// Cost per evaluation: O(N + |P| + B² log B). Memory: O(N + B²); nothing
-// is N×N. Everything is float64: the grid is O(B²) whatever N is and the
-// per-point workspace is nine numbers, so float32 would save little and
-// cost accuracy.
-//
-// The evaluation is parallel over fixed tasks (blocks of 4096 points, grid
-// rows, columns) with sums reduced in task order, so results are
-// bit-identical for any thread count. Workspaces grow and are reused: after
-// the first call, further calls at the same N with a grid no larger than
-// any seen before allocate nothing. A larger grid or N reallocates once.
-//
-// Duplicate points are fine (the kernel is 1 at distance 0). An FFT is not
-// safe for concurrent use.
+// Cost per evaluation: O(N·Nodes² + nnz(P) + M² log M) for M = Nodes·B
+// grid nodes a side; memory O(N + M²). The work is split into fixed tasks
+// reduced in task order, so results are bit-identical for any thread
+// count; after the first call, calls at the same N with a grid no larger
+// than any seen before allocate nothing. Duplicate points are fine. An FFT
+// is not safe for concurrent use.
 //
 // References:
 //
@@ -90,8 +81,7 @@ func NewFFT(threads int) *FFT {
 	return g
 }
 
-// The defaults of FFT's grid. See internal/scripts/bench/README.md for the
-// accuracy and time measurements they were chosen from.
+// The defaults of FFT's grid (see FFT).
 const (
 	DefaultFFTNodes            = 4
 	DefaultFFTIntervalsPerUnit = 1.25

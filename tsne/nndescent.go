@@ -65,6 +65,9 @@ func ApproxNeighbors(x []float64, n, d, k int, seed uint64, threads int) (*Neigh
 		if nndTrace != nil {
 			nndTrace(round, changes)
 		}
+		if nndRoundHook != nil {
+			nndRoundHook(s, round, changes)
+		}
 		if changes < int64(nndDelta*float64(n*k)) {
 			break
 		}
@@ -85,12 +88,20 @@ func (s *nndState) release() {
 // nndTrace, when set (by tests), is told each round's change count.
 var nndTrace func(round int, changes int64)
 
+// nndDelta is the stopping rate: the rounds end when fewer than
+// nndDelta·n·k list entries change in one (Dong, Charikar & Li 2011, δ).
+var nndDelta = 0.001
+
+// nndRoundHook, when set (by measurement tests), sees the state after each
+// round.
+var nndRoundHook func(s *nndState, round int, changes int64)
+
 const (
 	nndMaxRounds = 12
-	nndDelta     = 0.001
-	nndTask      = 256  // points per task
-	nndBatch     = 4096 // points per local-join batch (updates applied after each)
-	nndBuckets   = 16   // destination ranges for applying updates
+
+	nndTask    = 256  // points per task
+	nndBatch   = 4096 // points per local-join batch (updates applied after each)
+	nndBuckets = 16   // destination ranges for applying updates
 )
 
 // nndState is the working state of one NN-descent run. Each point's list

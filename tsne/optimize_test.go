@@ -246,7 +246,7 @@ func BenchmarkOptimizeStep(b *testing.B) {
 		sizes = append(sizes, 100000)
 	}
 	for _, n := range sizes {
-		for _, m := range []Method{MethodBarnesHut, MethodExact} {
+		for _, m := range []Method{MethodBarnesHut, MethodFFT, MethodExact} {
 			b.Run(string(m)+"/n="+itoa(n), func(b *testing.B) {
 				if m == MethodExact && n > 10000 {
 					b.Skip("exact gradient at 100k is impractical")
