@@ -8,11 +8,11 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"os"
 	"sort"
 	"strconv"
 	"strings"
 
+	"plumb/internal/dataset"
 	"plumb/tsne"
 )
 
@@ -37,67 +37,68 @@ type Spec struct {
 	from map[string]string
 }
 
+// SpecField describes one field of Spec: its plan-file key (the flag name
+// with "_" for "-") and a one-line description with the default. Adding a
+// field to Spec means adding it to SpecFields; merging, plan files and the
+// command's flags follow from the table.
+type SpecField struct {
+	// Key is the plan-file key, e.g. "learning_rate".
+	Key string
+	// Doc describes the values and the default, for help texts.
+	Doc string
+	ptr func(*Spec) *string
+}
+
+// Flag returns the command-line flag name of the field, e.g.
+// "learning-rate".
+func (f SpecField) Flag() string { return strings.ReplaceAll(f.Key, "_", "-") }
+
+// Get returns the field's value in s.
+func (f SpecField) Get(s *Spec) string { return *f.ptr(s) }
+
+// Set sets the field's value in s.
+func (f SpecField) Set(s *Spec, v string) { *f.ptr(s) = v }
+
+// SpecFields lists every field of Spec, in the order of the struct.
+var SpecFields = []SpecField{
+	{"perplexity", "comma list of perplexities (default 30)", func(s *Spec) *string { return &s.Perplexity }},
+	{"learning_rate", "comma list of learning rates, numbers or auto (default auto = max(n/(4·exaggeration), 50), 4-in-gradient convention)", func(s *Spec) *string { return &s.LearningRate }},
+	{"exaggeration", "comma list of early-exaggeration factors ≥ 1 (default 12)", func(s *Spec) *string { return &s.Exaggeration }},
+	{"exaggeration_iters", "comma list of early-exaggeration lengths (default 250)", func(s *Spec) *string { return &s.ExaggerationIters }},
+	{"iters", "comma list of total iteration counts (default 1000)", func(s *Spec) *string { return &s.Iters }},
+	{"init", "comma list of initialisations: pca, random (default pca)", func(s *Spec) *string { return &s.Init }},
+	{"gradient", "comma list of gradient methods: auto, exact, barnes-hut, fft (default auto)", func(s *Spec) *string { return &s.Gradient }},
+	{"theta", "Barnes-Hut opening angle (default 0.8; see the README)", func(s *Spec) *string { return &s.Theta }},
+	{"seeds", "a count N (seeds 1..N) or a list/range such as 1-5,9 (default 1)", func(s *Spec) *string { return &s.Seeds }},
+	{"neighbors", "neighbour search: auto, exact, approx (default auto)", func(s *Spec) *string { return &s.Neighbors }},
+	{"kl_every", "record the KL divergence every N iterations (default 50)", func(s *Spec) *string { return &s.KLEvery }},
+}
+
+// specField returns the field with the plan-file key, or false.
+func specField(key string) (SpecField, bool) {
+	for _, f := range SpecFields {
+		if f.Key == key {
+			return f, true
+		}
+	}
+	return SpecField{}, false
+}
+
 // Merge returns s with every non-empty field of over replacing s's.
 // Command-line flags override a plan file this way.
 func (s Spec) Merge(over Spec) Spec {
-	pick := func(a, b string) string {
-		if b != "" {
-			return b
+	out := Spec{from: map[string]string{}}
+	for _, f := range SpecFields {
+		v, from := f.Get(&s), s.from[f.Key]
+		if o := f.Get(&over); o != "" {
+			v, from = o, over.from[f.Key]
 		}
-		return a
-	}
-	from := map[string]string{}
-	for k, v := range s.from {
-		if over.field(k) == "" {
-			from[k] = v
+		f.Set(&out, v)
+		if from != "" {
+			out.from[f.Key] = from
 		}
 	}
-	for k, v := range over.from {
-		from[k] = v
-	}
-	return Spec{
-		from:              from,
-		Perplexity:        pick(s.Perplexity, over.Perplexity),
-		LearningRate:      pick(s.LearningRate, over.LearningRate),
-		Exaggeration:      pick(s.Exaggeration, over.Exaggeration),
-		ExaggerationIters: pick(s.ExaggerationIters, over.ExaggerationIters),
-		Iters:             pick(s.Iters, over.Iters),
-		Init:              pick(s.Init, over.Init),
-		Gradient:          pick(s.Gradient, over.Gradient),
-		Theta:             pick(s.Theta, over.Theta),
-		Seeds:             pick(s.Seeds, over.Seeds),
-		Neighbors:         pick(s.Neighbors, over.Neighbors),
-		KLEvery:           pick(s.KLEvery, over.KLEvery),
-	}
-}
-
-// field returns the value of the field with the given plan-file name.
-func (s Spec) field(name string) string {
-	switch name {
-	case "perplexity":
-		return s.Perplexity
-	case "learning_rate":
-		return s.LearningRate
-	case "exaggeration":
-		return s.Exaggeration
-	case "exaggeration_iters":
-		return s.ExaggerationIters
-	case "iters":
-		return s.Iters
-	case "init":
-		return s.Init
-	case "gradient":
-		return s.Gradient
-	case "theta":
-		return s.Theta
-	case "seeds":
-		return s.Seeds
-	case "neighbors":
-		return s.Neighbors
-	case "kl_every":
-		return s.KLEvery
-	}
-	return ""
+	return out
 }
 
 // PlanError reports an invalid plan value.
@@ -117,12 +118,16 @@ func (e *PlanError) Error() string {
 	return fmt.Sprintf("%s %q: %s", where, e.Value, e.Msg)
 }
 
+// MaxPlanBytes bounds the size of a plan file (a plan is a few hundred
+// bytes; ReadSpec refuses larger files, devices and FIFOs).
+const MaxPlanBytes = 1 << 20
+
 // ReadSpec reads a plan file: a JSON object with the fields of Spec. Each
 // value may be a string in the flag syntax ("5,15,30", "auto,200",
 // "1-5,9"), a number, or an array of numbers and strings. Unknown fields
 // are an error.
 func ReadSpec(path string) (Spec, error) {
-	b, err := os.ReadFile(path)
+	b, err := dataset.ReadRegular(path, MaxPlanBytes)
 	if err != nil {
 		return Spec{}, fmt.Errorf("plan file: %w", err)
 	}
@@ -142,19 +147,13 @@ func ParseSpec(name string, data []byte) (Spec, error) {
 		return Spec{}, fmt.Errorf("%s: trailing data after the JSON object", name)
 	}
 	s := Spec{from: map[string]string{}}
-	fields := map[string]*string{
-		"perplexity": &s.Perplexity, "learning_rate": &s.LearningRate, "exaggeration": &s.Exaggeration,
-		"exaggeration_iters": &s.ExaggerationIters, "iters": &s.Iters, "init": &s.Init,
-		"gradient": &s.Gradient, "theta": &s.Theta, "seeds": &s.Seeds, "neighbors": &s.Neighbors,
-		"kl_every": &s.KLEvery,
-	}
 	keys := make([]string, 0, len(raw))
 	for k := range raw {
 		keys = append(keys, k)
 	}
 	sort.Strings(keys)
 	for _, k := range keys {
-		dst, ok := fields[k]
+		f, ok := specField(k)
 		if !ok {
 			return Spec{}, fmt.Errorf("%s: unknown field %q", name, k)
 		}
@@ -166,7 +165,7 @@ func ParseSpec(name string, data []byte) (Spec, error) {
 			// A one-element array is an explicit seed, not a count.
 			v = v + "-" + v
 		}
-		*dst = v
+		f.Set(&s, v)
 		s.from[k] = name
 	}
 	return s, nil

@@ -11,6 +11,8 @@ import (
 	"sync"
 	"time"
 
+	"golang.org/x/sync/errgroup"
+
 	"plumb/internal/dataset"
 	"plumb/tsne"
 )
@@ -88,8 +90,8 @@ type Stats struct {
 	Planned, InShard, Skipped, Done, Failed, Stopped int
 }
 
-// Summary is the outcome of Execute.
-type Summary struct {
+// Result is the outcome of Execute.
+type Result struct {
 	Stats Stats
 	// Jobs and Threads are the parallelism used.
 	Jobs, Threads int
@@ -338,7 +340,7 @@ func round(d time.Duration) time.Duration {
 // Cancelling ctx stops the runs in flight (their files are not written);
 // finished runs stay. When every run of the plan is finished — or when the
 // sweep is not sharded — runs.parquet is rebuilt from the records.
-func Execute(ctx context.Context, ds *dataset.Dataset, plan *Plan, opt Options) (*Summary, error) {
+func Execute(ctx context.Context, ds *dataset.Dataset, plan *Plan, opt Options) (*Result, error) {
 	if err := Validate(plan, ds); err != nil {
 		return nil, err
 	}
@@ -375,7 +377,7 @@ func Execute(ctx context.Context, ds *dataset.Dataset, plan *Plan, opt Options) 
 		todo = append(todo, r)
 	}
 	jobs, threads := parallelism(opt, ds.N, len(todo))
-	sum := &Summary{Jobs: jobs, Threads: threads}
+	sum := &Result{Jobs: jobs, Threads: threads}
 	emit := func(e Event) {}
 	var emitMu sync.Mutex
 	if opt.Events != nil {
@@ -398,25 +400,26 @@ func Execute(ctx context.Context, ds *dataset.Dataset, plan *Plan, opt Options) 
 	start := time.Now()
 	var (
 		mu     sync.Mutex
-		next   int
 		fatal  error
-		wg     sync.WaitGroup
 		counts struct{ done, failed int }
 	)
-	work := func() {
-		defer wg.Done()
-		for {
+	// Runs start in plan order, at most jobs at once. A fatal error (of
+	// the shared work, or files that cannot be written) or a cancelled
+	// context starts no further run; runs under way finish.
+	var g errgroup.Group
+	g.SetLimit(jobs)
+	for _, r := range todo {
+		g.Go(func() error {
 			mu.Lock()
-			if next >= len(todo) || fatal != nil || ctx.Err() != nil {
-				mu.Unlock()
-				return
-			}
-			r := todo[next]
-			next++
+			stop := fatal != nil || ctx.Err() != nil
 			mu.Unlock()
+			if stop {
+				return nil
+			}
 			rec, err := sh.runOne(ctx, opt, info, r, threads)
 			sh.release(r.Setting.Perplexity)
 			mu.Lock()
+			defer mu.Unlock()
 			switch {
 			case err != nil && errors.Is(err, errShared):
 				if fatal == nil {
@@ -438,16 +441,10 @@ func Execute(ctx context.Context, ds *dataset.Dataset, plan *Plan, opt Options) 
 				stats.Failed++
 				emit(Event{Kind: EventRunFailed, Run: r, Err: errors.New(rec.Error), Done: counts.done, Failed: counts.failed, Todo: len(todo), Elapsed: time.Since(start)})
 			}
-			mu.Unlock()
-		}
+			return nil
+		})
 	}
-	if len(todo) > 0 {
-		wg.Add(jobs)
-		for i := 0; i < jobs; i++ {
-			go work()
-		}
-		wg.Wait()
-	}
+	g.Wait()
 	sum.Elapsed = time.Since(start)
 	sum.Stats = stats
 	if fatal != nil {

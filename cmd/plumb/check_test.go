@@ -8,6 +8,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"plumb/internal/fixture"
 )
 
 // irisStudy sweeps testdata/iris.csv (Fisher's iris via scikit-learn's
@@ -109,15 +111,8 @@ func TestCheckBrokenEngineSetting(t *testing.T) {
 func TestCheckPerturbedData(t *testing.T) {
 	base := baseline(t)
 	tmp := t.TempDir()
-	in, err := os.Open("../../testdata/iris.csv")
-	if err != nil {
-		t.Fatal(err)
-	}
-	rows, err := csv.NewReader(in).ReadAll()
-	in.Close()
-	if err != nil {
-		t.Fatal(err)
-	}
+	iris := fixture.MustReadCSV(t, "../../testdata/iris.csv")
+	rows := append([][]string{iris.Header}, iris.Rows...)
 	head := rows[0]
 	idCol, spCol := -1, -1
 	for j, h := range head {

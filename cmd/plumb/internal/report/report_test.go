@@ -1,0 +1,229 @@
+package report
+
+import (
+	"bytes"
+	"encoding/xml"
+	"fmt"
+	"image/png"
+	"io"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"golang.org/x/net/html"
+
+	"plumb/stability"
+)
+
+func TestWriteReport(t *testing.T) {
+	st := syntheticStudy()
+	dir := filepath.Join(t.TempDir(), "report")
+	out, err := Write(st, dir, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The synthetic scores rise with perplexity and the learning-rate-200
+	// settings are 0.002 more faithful: perplexity 30 settings are the most
+	// faithful and the most stable (smallest noise), and of the two the
+	// auto one has the lower KL (1.0 vs 1.01) while both tie within
+	// tolerance on disparity and Jaccard.
+	if out.Recommendation == nil || out.Recommendation.Chosen.ID != "s-30-auto" {
+		t.Fatalf("chosen: got %+v want s-30-auto", out.Recommendation)
+	}
+	if out.Recommendation.DecidedBy != "kl" {
+		t.Errorf("decided by: got %s want kl", out.Recommendation.DecidedBy)
+	}
+	wantFigs := []string{"layouts", "heatmap-disparity", "heatmap-jaccard", "heatmap-trustworthiness", "heatmap-kl", "stability", "seed-spread", "kl-traces"}
+	for _, name := range wantFigs {
+		for _, ext := range []string{".svg", ".png"} {
+			path := filepath.Join(dir, "figures", name+ext)
+			data, err := os.ReadFile(path)
+			if err != nil {
+				t.Errorf("figure %s%s: %v", name, ext, err)
+				continue
+			}
+			if ext == ".png" {
+				img, err := png.Decode(bytes.NewReader(data))
+				if err != nil {
+					t.Errorf("%s: not a PNG: %v", path, err)
+				} else if img.Bounds().Dx() < 200 || img.Bounds().Dy() < 100 {
+					t.Errorf("%s: got %v, want a figure-sized image", path, img.Bounds())
+				}
+			} else {
+				checkXML(t, path, data)
+			}
+		}
+	}
+	entries, _ := os.ReadDir(filepath.Join(dir, "figures"))
+	if len(entries) != 2*len(wantFigs) {
+		t.Errorf("figures dir holds %d files, want %d (no temporaries)", len(entries), 2*len(wantFigs))
+	}
+
+	page, err := os.ReadFile(filepath.Join(dir, "index.html"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	doc, err := html.Parse(bytes.NewReader(page))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var rows, svgs, scripts int
+	var ext []string
+	var walk func(n *html.Node, inTable bool)
+	walk = func(n *html.Node, inTable bool) {
+		if n.Type == html.ElementNode {
+			switch n.Data {
+			case "table":
+				for _, a := range n.Attr {
+					if a.Key == "id" && a.Val == "settings-table" {
+						inTable = true
+					}
+				}
+			case "tr":
+				if inTable && n.Parent != nil && n.Parent.Data == "tbody" {
+					rows++
+				}
+			case "svg":
+				svgs++
+			case "script":
+				scripts++
+			}
+			for _, a := range n.Attr {
+				if a.Key == "src" || a.Key == "href" {
+					v := a.Val
+					if !(strings.HasPrefix(v, "data:") || strings.HasPrefix(v, "#") || strings.HasPrefix(v, "figures/") || v == "methods.md") {
+						ext = append(ext, v)
+					}
+				}
+				if a.Key == "src" {
+					ext = append(ext, "src="+a.Val)
+				}
+			}
+		}
+		for c := n.FirstChild; c != nil; c = c.NextSibling {
+			walk(c, inTable)
+		}
+	}
+	walk(doc, false)
+	if rows != len(st.Settings) {
+		t.Errorf("settings table: got %d rows want %d", rows, len(st.Settings))
+	}
+	if svgs != len(wantFigs) {
+		t.Errorf("inline SVG figures: got %d want %d", svgs, len(wantFigs))
+	}
+	if scripts != 1 {
+		t.Errorf("scripts: got %d want 1 inline", scripts)
+	}
+	if len(ext) > 0 {
+		t.Errorf("page refers to outside resources: %v", ext)
+	}
+	text := string(page)
+	for _, want := range []string{
+		"Recommended setting: perplexity 30, learning_rate auto",
+		"Runner-up", "Distill", "noise can look clustered", "does not replace", "tsne: diverged at iteration 17",
+	} {
+		if !strings.Contains(strings.ToLower(text), strings.ToLower(want)) {
+			t.Errorf("page lacks %q", want)
+		}
+	}
+}
+
+func checkXML(t *testing.T, path string, data []byte) {
+	t.Helper()
+	d := xml.NewDecoder(bytes.NewReader(data))
+	root := ""
+	for {
+		tok, err := d.Token()
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			t.Errorf("%s: not well-formed XML: %v", path, err)
+			return
+		}
+		if se, ok := tok.(xml.StartElement); ok && root == "" {
+			root = se.Name.Local
+			if se.Name.Space != "http://www.w3.org/2000/svg" {
+				t.Errorf("%s: root namespace %q", path, se.Name.Space)
+			}
+		}
+	}
+	if root != "svg" {
+		t.Errorf("%s: root element %q want svg", path, root)
+	}
+}
+
+// The methods text carries the study's real numbers.
+func TestMethodsNumbers(t *testing.T) {
+	st := syntheticStudy()
+	rec, err := Recommend(Candidates(st), Rule{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	m := strings.Join(Methods(st, rec), "\n")
+	chosen := st.Setting(rec.Chosen.ID)
+	for _, want := range []string{
+		"plumb test", "n = 120 points", "d = 5 features", "standardised", "0123456789ab",
+		"perplexity ∈ {5, 15, 30}", "learning rate ∈ {auto, 200}", "(6 settings)", "3 seeds (1, 2, 3)",
+		"19 runs, of which 18 finished and 1 failed", "early exaggeration 12", "iterations (in all) 500",
+		"the exact O(n²) sum", "k = 10",
+		"median trustworthiness " + fmtScore(chosen.Trustworthiness.Median) + " (IQR " + fmtScore(chosen.Trustworthiness.IQR) + ")",
+		"perplexity 30, learning_rate auto",
+		"max(n / (4 · exaggeration), 50)",
+	} {
+		if !strings.Contains(m, want) {
+			t.Errorf("methods lack %q:\n%s", want, m)
+		}
+	}
+}
+
+func TestBuildRejectsBadConsensus(t *testing.T) {
+	st := syntheticStudy()
+	st.Settings[2].Consensus = st.Settings[2].Consensus[:10]
+	if _, err := Write(st, t.TempDir(), Options{}); err == nil || !strings.Contains(err.Error(), st.Settings[2].ID) {
+		t.Errorf("got %v, want an error naming setting %s", err, st.Settings[2].ID)
+	}
+}
+
+// A setting whose seeds all gave the same map (disparity exactly 0) gets a
+// note that its stability scores cannot measure sensitivity to the start.
+func TestSeedlessNote(t *testing.T) {
+	st := syntheticStudy()
+	st.Settings[0].Disparity = stability.MedianIQR{Median: 0, IQR: 0}
+	out, err := Write(st, t.TempDir(), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	page, _ := os.ReadFile(out.Index)
+	if !strings.Contains(string(page), "Seeds made no difference</strong> for perplexity 5, learning_rate auto:") {
+		t.Error("page lacks the note on settings whose seeds gave identical maps")
+	}
+	st = syntheticStudy()
+	out, _ = Write(st, t.TempDir(), Options{})
+	page, _ = os.ReadFile(out.Index)
+	if strings.Contains(string(page), "Seeds made no difference") {
+		t.Error("note shown although every setting varies across seeds")
+	}
+}
+
+func TestLabelColoursByFrequency(t *testing.T) {
+	order, col := labelColours([]string{"b", "a", "c", "c", "b", "c"})
+	if strings.Join(order, ",") != "c,b,a" {
+		t.Errorf("order: got %v want c,b,a (by count, ties by name)", order)
+	}
+	if col["c"] != (marker{categorical[0], false}) || col["a"] != (marker{categorical[2], false}) {
+		t.Errorf("markers: got %v", col)
+	}
+	// Past the seven colours come the same colours as rings, then grey.
+	var many []string
+	for i := 0; i < 16; i++ {
+		for k := 0; k <= 16-i; k++ {
+			many = append(many, fmt.Sprintf("l%02d", i))
+		}
+	}
+	order, col = labelColours(many)
+	if col[order[7]] != (marker{categorical[0], true}) || col[order[13]] != (marker{categorical[6], true}) || col[order[14]] != (marker{otherColor, false}) {
+		t.Errorf("markers past the palette: got %v %v %v", col[order[7]], col[order[13]], col[order[14]])
+	}
+}

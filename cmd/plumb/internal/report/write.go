@@ -1,0 +1,144 @@
+package report
+
+import (
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+
+	"plumb/cmd/plumb/internal/studyview"
+	"plumb/internal/atomicfile"
+)
+
+// Options configures Write.
+type Options struct {
+	// Rule holds the recommendation tolerances (zero fields: defaults).
+	Rule Rule
+}
+
+// Output describes what Write produced.
+type Output struct {
+	// Dir is the report directory; Index the path of index.html.
+	Dir, Index string
+	// Files lists every file written, index.html last.
+	Files []string
+	// Recommendation is nil when no setting could be recommended.
+	Recommendation *Recommendation
+	// Chosen is the recommended setting's label ("" if none).
+	Chosen string
+	// Figures are the figures in page order.
+	Figures []*Figure
+}
+
+// Candidates turns the study's settings into the rule's score table.
+func Candidates(st *studyview.View) []Candidate {
+	var cs []Candidate
+	for _, s := range st.Settings {
+		cs = append(cs, Candidate{
+			ID: s.ID, Runs: s.RunsDone,
+			Trustworthiness: s.Trustworthiness.Median, TrustworthinessIQR: s.Trustworthiness.IQR,
+			Disparity: s.Disparity.Median, DispIQR: s.Disparity.IQR,
+			Jaccard: s.Jaccard.Median, JaccardIQR: s.Jaccard.IQR,
+			KL: s.KL.Median, KLIQR: s.KL.IQR,
+		})
+	}
+	return cs
+}
+
+// Build computes the recommendation, the figures and the methods text
+// without touching the disk.
+func Build(st *studyview.View, opt Options) (rec *Recommendation, recErr error, figs []*Figure, methods []string, err error) {
+	if len(st.Settings) == 0 {
+		return nil, nil, nil, nil, errors.New("report: the study has no settings")
+	}
+	for i := range st.Settings {
+		if c := st.Settings[i].Consensus; len(c) != 0 && len(c) != 2*len(st.IDs) {
+			return nil, nil, nil, nil, fmt.Errorf("report: setting %s: consensus has %d coordinates for %d points", st.Settings[i].ID, len(c), len(st.IDs))
+		}
+	}
+	rec, recErr = Recommend(Candidates(st), opt.Rule)
+	if recErr != nil && !errors.Is(recErr, ErrNoCandidate) {
+		return nil, nil, nil, nil, recErr
+	}
+	ref, chosen := -1, ""
+	if rec != nil {
+		chosen = rec.Chosen.ID
+		for i := range st.Settings {
+			if st.Settings[i].ID == chosen && len(st.Settings[i].Consensus) > 0 {
+				ref = i
+			}
+		}
+	}
+	if ref < 0 {
+		for i := range st.Settings {
+			if len(st.Settings[i].Consensus) > 0 {
+				ref = i
+				break
+			}
+		}
+	}
+	add := func(f *Figure, e error) {
+		if e != nil && err == nil {
+			err = e
+		}
+		if f != nil {
+			figs = append(figs, f)
+		}
+	}
+	if ref >= 0 {
+		add(layoutsFigure(st, ref, chosen))
+	}
+	for _, sd := range headline {
+		add(heatmapFigure(st, sd))
+	}
+	if rec != nil && ref >= 0 && st.Settings[ref].ID == chosen {
+		add(stabilityFigure(st, ref))
+	}
+	add(spreadFigure(st))
+	add(traceFigure(st))
+	if err != nil {
+		return nil, nil, nil, nil, err
+	}
+	return rec, recErr, figs, Methods(st, rec), nil
+}
+
+// Write builds the report and writes it into dir: figures/NAME.svg and
+// figures/NAME.png for each figure, methods.md and index.html (last, so a
+// present index.html means a complete report). Every file is written
+// atomically (temporary file in the same directory, then rename).
+func Write(st *studyview.View, dir string, opt Options) (*Output, error) {
+	rec, recErr, figs, methods, err := Build(st, opt)
+	if err != nil {
+		return nil, err
+	}
+	out := &Output{Dir: dir, Index: filepath.Join(dir, "index.html"), Recommendation: rec, Figures: figs}
+	if rec != nil {
+		out.Chosen = st.Label(st.Setting(rec.Chosen.ID))
+	}
+	figDir := filepath.Join(dir, "figures")
+	if err := os.MkdirAll(figDir, 0o755); err != nil {
+		return nil, fmt.Errorf("report: %w", err)
+	}
+	put := func(path string, data []byte) error {
+		if err := atomicfile.WriteFile(path, data); err != nil {
+			return fmt.Errorf("report: %w", err)
+		}
+		out.Files = append(out.Files, path)
+		return nil
+	}
+	for _, f := range figs {
+		if err := put(filepath.Join(figDir, f.Name+".svg"), f.SVG); err != nil {
+			return nil, err
+		}
+		if err := put(filepath.Join(figDir, f.Name+".png"), f.PNG); err != nil {
+			return nil, err
+		}
+	}
+	if err := put(filepath.Join(dir, "methods.md"), []byte(MethodsMarkdown(st, rec))); err != nil {
+		return nil, err
+	}
+	if err := put(out.Index, page(st, rec, recErr, figs, methods)); err != nil {
+		return nil, err
+	}
+	return out, nil
+}
