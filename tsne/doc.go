@@ -51,7 +51,7 @@
 // sums the attraction exactly over the stored entries of P. FFT (Linderman
 // et al. 2019) interpolates the repulsion onto an equispaced grid and
 // convolves by FFT. Choose, the one "auto" policy, picks exact for
-// N ≤ ExactMaxN, FFT for N ≥ FFTMinN and Barnes-Hut in between.
+// N ≤ ExactMaxN and Barnes-Hut beyond; FFT runs when asked for.
 //
 // # Approximate neighbours
 //
