@@ -161,8 +161,9 @@ func ranks(v []float64) []float64 {
 	return r
 }
 
-// PairScore is a score computed over pairs of points.
-type PairScore struct {
+// RankCorrelation is a Spearman rank correlation computed over pairs of
+// points (see DistanceCorrelation).
+type RankCorrelation struct {
 	Value float64
 	// N is the number of points; Pairs the number of pairs used; All
 	// whether that is every unordered pair.
@@ -181,16 +182,16 @@ type PairScore struct {
 // replacement from rand.NewPCG(seed, 2). Cost O(P (da + db) + P log P).
 // To compare one set of points with many others, NewDistanceRanks ranks its
 // distances once; the result is the same to the bit.
-func DistanceCorrelation(a []float64, da int, b []float64, db int, pairs int, seed uint64) (PairScore, error) {
+func DistanceCorrelation(a []float64, da int, b []float64, db int, pairs int, seed uint64) (RankCorrelation, error) {
 	if err := checkPairPoints(a, da, b, db); err != nil {
-		return PairScore{}, err
+		return RankCorrelation{}, err
 	}
 	if err := checkFinite("b", b, db); err != nil {
-		return PairScore{}, err
+		return RankCorrelation{}, err
 	}
 	r, err := NewDistanceRanks(a, da, pairs, seed)
 	if err != nil {
-		return PairScore{}, err
+		return RankCorrelation{}, err
 	}
 	return r.Correlation(b, db)
 }
@@ -296,10 +297,10 @@ func (r *DistanceRanks) Of(b []float64, db int) (*DistanceRanks, error) {
 // ranked in r and the distances of the same pairs in b (the same N points
 // in dimension db): DistanceCorrelation(a, da, b, db, pairs, seed) for the
 // a, da, pairs and seed r was made from. Cost O(P db + P log P).
-func (r *DistanceRanks) Correlation(b []float64, db int) (PairScore, error) {
+func (r *DistanceRanks) Correlation(b []float64, db int) (RankCorrelation, error) {
 	s, err := r.Of(b, db)
 	if err != nil {
-		return PairScore{}, err
+		return RankCorrelation{}, err
 	}
 	return r.Spearman(s)
 }
@@ -309,15 +310,15 @@ func (r *DistanceRanks) Correlation(b []float64, db int) (PairScore, error) {
 // one another, or with the same N, pairs and seed). With s from r.Of(b,
 // db) it equals r.Correlation(b, db). Cost O(P). It errors when either
 // side's distances are all equal (correlation undefined).
-func (r *DistanceRanks) Spearman(s *DistanceRanks) (PairScore, error) {
+func (r *DistanceRanks) Spearman(s *DistanceRanks) (RankCorrelation, error) {
 	if r.n != s.n || r.pairs != s.pairs || r.all != s.all || (!r.all && r.seed != s.seed) {
-		return PairScore{}, fmt.Errorf("stability: distance ranks of different pairs (%d and %d points, %d and %d pairs)", r.n, s.n, r.pairs, s.pairs)
+		return RankCorrelation{}, fmt.Errorf("stability: distance ranks of different pairs (%d and %d points, %d and %d pairs)", r.n, s.n, r.pairs, s.pairs)
 	}
 	v, err := rankCorrelation(r.ranks, s.ranks)
 	if err != nil {
-		return PairScore{}, fmt.Errorf("stability: distance correlation: %w", err)
+		return RankCorrelation{}, fmt.Errorf("stability: distance correlation: %w", err)
 	}
-	return PairScore{Value: v, N: r.n, Pairs: r.pairs, All: r.all}, nil
+	return RankCorrelation{Value: v, N: r.n, Pairs: r.pairs, All: r.all}, nil
 }
 
 func (r *DistanceRanks) checkPoints(b []float64, db int) error {
@@ -395,6 +396,13 @@ func quantileSorted(s []float64, q float64) float64 {
 		return s[len(s)-1]
 	}
 	return s[lo] + (h-float64(lo))*(s[lo+1]-s[lo])
+}
+
+// MedianIQR is the median and interquartile range (Q3 − Q1, quantiles as
+// in Quantile) of a score over the runs or pairs of runs of one setting.
+// NaN means not available.
+type MedianIQR struct {
+	Median, IQR float64
 }
 
 // Summary describes a set of values by order statistics (quantiles as in

@@ -345,8 +345,8 @@ func faithfulnessBatch(x []float64, d int, ys [][]float64, k int, opt Options, w
 		// pending lists the chunk's queries that need input distances.
 		pending []int
 	}
-	pool := make([]*scratch, workers(nq, opt.Threads))
-	parallelW(nq, opt.Threads, func(wk, lo, hi int) {
+	pool := make([]*scratch, par.Workers(nq, chunk, opt.Threads))
+	par.Chunks(nq, chunk, opt.Threads, func(wk, lo, hi int) {
 		if pool[wk] == nil {
 			sc := &scratch{rk: newRanker(k), need: make([]bool, chunk*nl)}
 			if needDX {

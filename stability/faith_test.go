@@ -245,7 +245,7 @@ func TestDeterministicGOMAXPROCS(t *testing.T) {
 	type result struct {
 		f       Faithfulness
 		acc, jc float64
-		dc      PairScore
+		dc      RankCorrelation
 	}
 	var first result
 	for m, p := range []int{1, 2, 5} {

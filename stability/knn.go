@@ -1,9 +1,9 @@
 package stability
 
 import (
-	"runtime"
 	"sort"
-	"sync"
+
+	"plumb/internal/par"
 )
 
 // This file holds the exact nearest-neighbour search used on maps: a 2-d
@@ -315,7 +315,7 @@ func mapNeighbors(y []float64, k int, queries []int, threads int) []int32 {
 		nq = len(queries)
 	}
 	out := make([]int32, nq*k)
-	parallel(nq, threads, func(lo, hi int) {
+	par.Chunks(nq, chunk, threads, func(_, lo, hi int) {
 		var h nbHeap
 		for m := lo; m < hi; m++ {
 			q := m
@@ -331,48 +331,3 @@ func mapNeighbors(y []float64, k int, queries []int, threads int) []int32 {
 // chunk is the fixed number of items each parallel task handles; work is
 // split the same way whatever the thread count.
 const chunk = 32
-
-// parallel runs f over [0, n) in fixed chunks on up to threads goroutines
-// (0 means GOMAXPROCS). f must write only to per-item outputs.
-func parallel(n, threads int, f func(lo, hi int)) {
-	parallelW(n, threads, func(_, lo, hi int) { f(lo, hi) })
-}
-
-// workers returns the number of goroutines parallelW uses.
-func workers(n, threads int) int {
-	if threads <= 0 {
-		threads = runtime.GOMAXPROCS(0)
-	}
-	return max(1, min(threads, (n+chunk-1)/chunk))
-}
-
-// parallelW is parallel with the worker number w ∈ [0, workers(n, threads))
-// passed to f, for per-worker scratch space. Which worker handles a chunk
-// varies from run to run, so scratch must not carry results.
-func parallelW(n, threads int, f func(w, lo, hi int)) {
-	nw := workers(n, threads)
-	nChunks := (n + chunk - 1) / chunk
-	if nw <= 1 {
-		for lo := 0; lo < n; lo += chunk {
-			f(0, lo, min(lo+chunk, n))
-		}
-		return
-	}
-	next := make(chan int, nChunks)
-	for c := 0; c < nChunks; c++ {
-		next <- c
-	}
-	close(next)
-	var wg sync.WaitGroup
-	for w := 0; w < nw; w++ {
-		wg.Add(1)
-		go func(w int) {
-			defer wg.Done()
-			for c := range next {
-				lo := c * chunk
-				f(w, lo, min(lo+chunk, n))
-			}
-		}(w)
-	}
-	wg.Wait()
-}

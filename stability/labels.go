@@ -1,6 +1,10 @@
 package stability
 
-import "fmt"
+import (
+	"fmt"
+
+	"plumb/internal/par"
+)
 
 func checkLabels(y []float64, labels []string, k int) (int, error) {
 	if err := checkLayout("layout", y); err != nil {
@@ -86,7 +90,7 @@ func predict(y []float64, code []int32, nLabels, k, threads int) []int32 {
 	n := len(code)
 	nb := mapNeighbors(y, k, nil, threads)
 	pred := make([]int32, n)
-	parallel(n, threads, func(lo, hi int) {
+	par.Chunks(n, chunk, threads, func(_, lo, hi int) {
 		count := make([]int, nLabels)
 		for i := lo; i < hi; i++ {
 			row := nb[i*k : (i+1)*k]
@@ -124,7 +128,7 @@ func labelScore(y []float64, labels []string, k, threads int, agreement bool) (f
 		return share(good), nil
 	}
 	nb := mapNeighbors(y, k, nil, threads)
-	parallel(n, threads, func(lo, hi int) {
+	par.Chunks(n, chunk, threads, func(_, lo, hi int) {
 		for i := lo; i < hi; i++ {
 			same := 0
 			for _, j := range nb[i*k : (i+1)*k] {

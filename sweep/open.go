@@ -7,7 +7,8 @@ import (
 	"os"
 	"path/filepath"
 
-	"plumb/internal/pq"
+	"plumb/internal/parquetio"
+	"plumb/stability"
 	"plumb/tsne"
 )
 
@@ -39,17 +40,11 @@ type RunRow struct {
 // RunScore is one row of scores/runs.parquet: faithfulness of one layout
 // to the input. Label scores are NaN without labels.
 type RunScore struct {
-	RunID, SettingID                                     string
-	Trustworthiness, Continuity, KNNRecall, DistSpearman float64
-	LabelAccuracy, LabelPurity                           float64
-	K, Sampled                                           int
-	KL                                                   float64
-}
-
-// Spread holds the median and interquartile range (Q3 − Q1, quantiles as
-// stability.Quantile) of one score over the runs or pairs of a setting.
-type Spread struct {
-	Median, IQR float64
+	RunID, SettingID                                         string
+	Trustworthiness, Continuity, KNNRecall, DistanceSpearman float64
+	LabelAccuracy, LabelPurity                               float64
+	K, Sampled                                               int
+	KL                                                       float64
 }
 
 // SettingScore is one row of scores/settings.parquet. Statistics that
@@ -59,10 +54,10 @@ type SettingScore struct {
 	RunsDone, RunsFailed int
 	// Across pairs of runs: Procrustes disparity, map-neighbour Jaccard,
 	// Spearman correlation of pairwise map distances.
-	Disparity, Jaccard, PairSpearman Spread
+	Disparity, Jaccard, PairSpearman stability.MedianIQR
 	// Across runs: faithfulness scores and final KL.
-	Trustworthiness, Continuity, KNNRecall, DistSpearman Spread
-	LabelAccuracy, LabelPurity, KL                       Spread
+	Trustworthiness, Continuity, KNNRecall, DistanceSpearman stability.MedianIQR
+	LabelAccuracy, LabelPurity, KL                           stability.MedianIQR
 	// UnstableShare is the fraction of points flagged unstable.
 	UnstableShare float64
 }
@@ -79,8 +74,8 @@ type PointScore struct {
 
 // PairScore is one row of scores/pairs.parquet.
 type PairScore struct {
-	SettingID, RunA, RunB            string
-	Disparity, Jaccard, DistSpearman float64
+	SettingID, RunA, RunB                string
+	Disparity, Jaccard, DistanceSpearman float64
 }
 
 // Study is a study directory opened for reading.
@@ -157,7 +152,7 @@ func rowFromRecord(r *Run, rec *Record) RunRow {
 // colReader pulls typed columns out of a table, remembering the first
 // error.
 type colReader struct {
-	t    *pq.Table
+	t    *parquetio.Table
 	path string
 	err  error
 }
@@ -204,7 +199,7 @@ func (c *colReader) boolean(name string) []bool {
 }
 
 func readTable(path string) (*colReader, error) {
-	t, err := pq.Read(path)
+	t, err := parquetio.Read(path)
 	if err != nil {
 		return nil, err
 	}
@@ -270,7 +265,7 @@ func (s *Study) Layout(runID string) (*Layout, error) {
 	if err != nil {
 		return nil, err
 	}
-	t, err := pq.Read(path)
+	t, err := parquetio.Read(path)
 	if err != nil {
 		return nil, err
 	}

@@ -88,8 +88,8 @@ type Stats struct {
 	Planned, InShard, Skipped, Done, Failed, Stopped int
 }
 
-// Summary is the outcome of Execute.
-type Summary struct {
+// Result is the outcome of Execute.
+type Result struct {
 	Stats Stats
 	// Jobs and Threads are the parallelism used.
 	Jobs, Threads int
@@ -333,7 +333,7 @@ func round(d time.Duration) time.Duration {
 // Cancelling ctx stops the runs in flight (their files are not written);
 // finished runs stay. When every run of the plan is finished — or when the
 // sweep is not sharded — runs.parquet is rebuilt from the records.
-func Execute(ctx context.Context, ds *dataset.Dataset, plan *Plan, opt Options) (*Summary, error) {
+func Execute(ctx context.Context, ds *dataset.Dataset, plan *Plan, opt Options) (*Result, error) {
 	if err := Validate(plan, ds); err != nil {
 		return nil, err
 	}
@@ -370,7 +370,7 @@ func Execute(ctx context.Context, ds *dataset.Dataset, plan *Plan, opt Options) 
 		todo = append(todo, r)
 	}
 	jobs, threads := parallelism(opt, ds.N, len(todo))
-	sum := &Summary{Jobs: jobs, Threads: threads}
+	sum := &Result{Jobs: jobs, Threads: threads}
 	emit := func(e Event) {}
 	var emitMu sync.Mutex
 	if opt.Events != nil {

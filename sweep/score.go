@@ -34,8 +34,8 @@ type ScoreOptions struct {
 	SpreadThreshold float64
 }
 
-// ScoreSummary counts the rows written by Score.
-type ScoreSummary struct {
+// ScoreResult counts the rows written by Score.
+type ScoreResult struct {
 	Runs, Settings, Points, Pairs int
 	K                             int
 }
@@ -70,7 +70,7 @@ type ScoreSummary struct {
 // distances are ranked once for all runs and each layout's once for all
 // its pairs (stability.DistanceRanks). The tables are the same as scoring
 // every run on its own, whatever the batches and Threads.
-func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOptions) (*ScoreSummary, error) {
+func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOptions) (*ScoreResult, error) {
 	info, err := ReadInfo(dir)
 	if err != nil {
 		return nil, fmt.Errorf("score: %w", err)
@@ -185,19 +185,19 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 			layouts, done := sr.layouts, sr.runs
 			ss.RunsDone = len(done)
 			runScores = append(runScores, scores...)
-			col := func(f func(RunScore) float64) Spread {
+			col := func(f func(RunScore) float64) stability.MedianIQR {
 				v := make([]float64, 0, len(scores))
 				for _, r := range scores {
 					if x := f(r); !math.IsNaN(x) {
 						v = append(v, x)
 					}
 				}
-				return spreadOf(v)
+				return medianIQROf(v)
 			}
 			ss.Trustworthiness = col(func(r RunScore) float64 { return r.Trustworthiness })
 			ss.Continuity = col(func(r RunScore) float64 { return r.Continuity })
 			ss.KNNRecall = col(func(r RunScore) float64 { return r.KNNRecall })
-			ss.DistSpearman = col(func(r RunScore) float64 { return r.DistSpearman })
+			ss.DistanceSpearman = col(func(r RunScore) float64 { return r.DistanceSpearman })
 			ss.LabelAccuracy = col(func(r RunScore) float64 { return r.LabelAccuracy })
 			ss.LabelPurity = col(func(r RunScore) float64 { return r.LabelPurity })
 			ss.KL = col(func(r RunScore) float64 { return r.KL })
@@ -229,14 +229,14 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 						return nil, fmt.Errorf("score: setting %s: runs %s and %s: %w", s.ID, done[pa.A].ID, done[pa.B].ID, err)
 					}
 					pairs = append(pairs, PairScore{SettingID: s.ID, RunA: done[pa.A].ID, RunB: done[pa.B].ID,
-						Disparity: pa.Disparity, Jaccard: pa.Jaccard, DistSpearman: dc})
+						Disparity: pa.Disparity, Jaccard: pa.Jaccard, DistanceSpearman: dc})
 					if !math.IsNaN(dc) {
 						sp = append(sp, dc)
 					}
 				}
-				ss.Disparity = Spread{Median: ag.Disparity.Median, IQR: ag.Disparity.IQR}
-				ss.Jaccard = Spread{Median: ag.Jaccard.Median, IQR: ag.Jaccard.IQR}
-				ss.PairSpearman = spreadOf(sp)
+				ss.Disparity = stability.MedianIQR{Median: ag.Disparity.Median, IQR: ag.Disparity.IQR}
+				ss.Jaccard = stability.MedianIQR{Median: ag.Jaccard.Median, IQR: ag.Jaccard.IQR}
+				ss.PairSpearman = medianIQROf(sp)
 				ps, g, err := stability.SpreadOf(layouts, opt.SpreadThreshold)
 				if err != nil {
 					return nil, fmt.Errorf("score: setting %s: %w", s.ID, err)
@@ -254,7 +254,7 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 	if err := writeScoreTables(dir, info, k, runScores, settings, points, pairs); err != nil {
 		return nil, fmt.Errorf("score: %w", err)
 	}
-	return &ScoreSummary{Runs: len(runScores), Settings: len(settings), Points: len(points), Pairs: len(pairs), K: k}, nil
+	return &ScoreResult{Runs: len(runScores), Settings: len(settings), Points: len(points), Pairs: len(pairs), K: k}, nil
 }
 
 // scoreBatchFloats bounds the layout values Score holds at once (2 per
@@ -304,11 +304,11 @@ func readSettingRuns(ctx context.Context, dir string, info *Info, s *Setting, ru
 	return sr, nil
 }
 
-func nan2() Spread { return Spread{Median: math.NaN(), IQR: math.NaN()} }
+func nan2() stability.MedianIQR { return stability.MedianIQR{Median: math.NaN(), IQR: math.NaN()} }
 
 // spreadOf returns the median and IQR of v (Hyndman & Fan definition 7,
 // stability.Quantile), NaN for no values.
-func spreadOf(v []float64) Spread {
+func medianIQROf(v []float64) stability.MedianIQR {
 	if len(v) == 0 {
 		return nan2()
 	}
@@ -316,7 +316,7 @@ func spreadOf(v []float64) Spread {
 	if err != nil {
 		return nan2()
 	}
-	return Spread{Median: s.Median, IQR: s.IQR}
+	return stability.MedianIQR{Median: s.Median, IQR: s.IQR}
 }
 
 // runScorer computes the scores of single runs against the study's input.
@@ -372,7 +372,7 @@ func (sc *runScorer) score(y []float64, f *stability.Faithfulness) (RunScore, *s
 		return RunScore{}, nil, err
 	}
 	rs := RunScore{Trustworthiness: f.Trustworthiness.Value, Continuity: f.Continuity.Value, KNNRecall: f.KNNRecall.Value,
-		DistSpearman: dc, LabelAccuracy: math.NaN(), LabelPurity: math.NaN(), K: k, Sampled: f.Trustworthiness.Queries}
+		DistanceSpearman: dc, LabelAccuracy: math.NaN(), LabelPurity: math.NaN(), K: k, Sampled: f.Trustworthiness.Queries}
 	if ds.Labels != nil {
 		if rs.LabelAccuracy, err = stability.LabelAccuracyThreads(y, ds.Labels, k, threads); err != nil {
 			return RunScore{}, nil, err

@@ -98,7 +98,7 @@ func TestScoreBatchedEqualsOneShot(t *testing.T) {
 				if dc.Pairs != wantPairs {
 					t.Fatalf("distance correlation over %d pairs, want %d", dc.Pairs, wantPairs)
 				}
-				got := [4]float64{rs.Trustworthiness, rs.Continuity, rs.KNNRecall, rs.DistSpearman}
+				got := [4]float64{rs.Trustworthiness, rs.Continuity, rs.KNNRecall, rs.DistanceSpearman}
 				want := [4]float64{f.Trustworthiness.Value, f.Continuity.Value, f.KNNRecall.Value, dc.Value}
 				if got != want || rs.Sampled != f.Trustworthiness.Queries {
 					t.Errorf("run %s: table %v (%d queries), one-shot %v (%d)", rs.RunID, got, rs.Sampled, want, f.Trustworthiness.Queries)
@@ -109,8 +109,8 @@ func TestScoreBatchedEqualsOneShot(t *testing.T) {
 				if err != nil {
 					t.Fatal(err)
 				}
-				if pr.DistSpearman != dc.Value {
-					t.Errorf("pair %s-%s: table %v, one-shot %v", pr.RunA, pr.RunB, pr.DistSpearman, dc.Value)
+				if pr.DistanceSpearman != dc.Value {
+					t.Errorf("pair %s-%s: table %v, one-shot %v", pr.RunA, pr.RunB, pr.DistanceSpearman, dc.Value)
 				}
 			}
 		})

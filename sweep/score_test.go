@@ -10,7 +10,7 @@ import (
 	"strings"
 	"testing"
 
-	"plumb/internal/pq"
+	"plumb/internal/parquetio"
 )
 
 func TestScoreTables(t *testing.T) {
@@ -28,7 +28,7 @@ func TestScoreTables(t *testing.T) {
 		t.Fatalf("got %+v", sum)
 	}
 	for name, rows := range map[string]int{ScoreRunsFile: 4, ScoreSettingsFile: 2, ScorePointsFile: 300, ScorePairsFile: 2} {
-		tb, err := pq.Read(filepath.Join(dir, ScoresDir, name))
+		tb, err := parquetio.Read(filepath.Join(dir, ScoresDir, name))
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -184,7 +184,7 @@ func TestScoreUndefinedIsNull(t *testing.T) {
 	runs, _ := p.Runs()
 	bad := runs[0]
 	path := layoutPath(dir, bad.ID)
-	tb, err := pq.Read(path)
+	tb, err := parquetio.Read(path)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -196,13 +196,13 @@ func TestScoreUndefinedIsNull(t *testing.T) {
 			}
 		}
 	}
-	if err := pq.Write(path, tb); err != nil {
+	if err := parquetio.Write(path, tb); err != nil {
 		t.Fatal(err)
 	}
 	if _, err := Score(context.Background(), dir, ds, ScoreOptions{K: 10}); err != nil {
 		t.Fatalf("Score with a collapsed layout: %v", err)
 	}
-	rt, err := pq.Read(filepath.Join(dir, ScoresDir, ScoreRunsFile))
+	rt, err := parquetio.Read(filepath.Join(dir, ScoresDir, ScoreRunsFile))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -224,16 +224,16 @@ func TestScoreUndefinedIsNull(t *testing.T) {
 	// The collapsed layout cannot be aligned (Procrustes needs a layout
 	// of non-zero size): it is left out of the seed-to-seed agreement, so
 	// its setting (2 seeds) has no pair; the other setting keeps its one.
-	if len(st.Pairs) != 1 || st.Pairs[0].RunA == bad.ID || st.Pairs[0].RunB == bad.ID || math.IsNaN(st.Pairs[0].DistSpearman) {
+	if len(st.Pairs) != 1 || st.Pairs[0].RunA == bad.ID || st.Pairs[0].RunB == bad.ID || math.IsNaN(st.Pairs[0].DistanceSpearman) {
 		t.Errorf("pairs %+v, want one, of the other setting, with a defined distance Spearman", st.Pairs)
 	}
 	for _, ss := range st.SettingScores {
 		if ss.ID == bad.Setting.ID {
 			// The setting's one other run still has a defined score; the
 			// agreement of fewer than 2 layouts is undefined.
-			if math.IsNaN(ss.DistSpearman.Median) || !math.IsNaN(ss.Disparity.Median) || ss.RunsDone != 2 {
+			if math.IsNaN(ss.DistanceSpearman.Median) || !math.IsNaN(ss.Disparity.Median) || ss.RunsDone != 2 {
 				t.Errorf("setting %s: distance Spearman %v, disparity %v, runs done %d; want a value, NaN, 2",
-					ss.ID, ss.DistSpearman.Median, ss.Disparity.Median, ss.RunsDone)
+					ss.ID, ss.DistanceSpearman.Median, ss.Disparity.Median, ss.RunsDone)
 			}
 		}
 	}

@@ -8,7 +8,8 @@ import (
 	"strconv"
 	"strings"
 
-	"plumb/internal/pq"
+	"plumb/internal/parquetio"
+	"plumb/stability"
 )
 
 // Files of the scores/ directory.
@@ -24,18 +25,18 @@ const (
 var spreadColumns = []string{"disparity", "jaccard", "pair_spearman", "trustworthiness", "continuity",
 	"knn_recall", "distance_spearman", "label_accuracy", "label_purity", "kl"}
 
-func (ss *SettingScore) spreads() []*Spread {
-	return []*Spread{&ss.Disparity, &ss.Jaccard, &ss.PairSpearman, &ss.Trustworthiness, &ss.Continuity,
-		&ss.KNNRecall, &ss.DistSpearman, &ss.LabelAccuracy, &ss.LabelPurity, &ss.KL}
+func (ss *SettingScore) medianIQRs() []*stability.MedianIQR {
+	return []*stability.MedianIQR{&ss.Disparity, &ss.Jaccard, &ss.PairSpearman, &ss.Trustworthiness, &ss.Continuity,
+		&ss.KNNRecall, &ss.DistanceSpearman, &ss.LabelAccuracy, &ss.LabelPurity, &ss.KL}
 }
 
 // nullable returns a nullable float column, NaN entries null.
-func nullable(name string, v []float64) pq.Column {
+func nullable(name string, v []float64) parquetio.Column {
 	valid := make([]bool, len(v))
 	for i, x := range v {
 		valid[i] = !math.IsNaN(x)
 	}
-	return pq.Column{Name: name, Values: v, Nullable: true, Valid: allTrueNil(valid)}
+	return parquetio.Column{Name: name, Values: v, Nullable: true, Valid: allTrueNil(valid)}
 }
 
 func scoresPath(dir, name string) string { return filepath.Join(dir, ScoresDir, name) }
@@ -58,15 +59,15 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 		kk, sa := make([]int32, n), make([]int32, n)
 		for i, r := range runs {
 			id[i], sid[i] = r.RunID, r.SettingID
-			tw[i], co[i], kr[i], ds[i], la[i], lp[i], kl[i] = r.Trustworthiness, r.Continuity, r.KNNRecall, r.DistSpearman, r.LabelAccuracy, r.LabelPurity, r.KL
+			tw[i], co[i], kr[i], ds[i], la[i], lp[i], kl[i] = r.Trustworthiness, r.Continuity, r.KNNRecall, r.DistanceSpearman, r.LabelAccuracy, r.LabelPurity, r.KL
 			kk[i], sa[i] = int32(r.K), int32(r.Sampled)
 		}
-		t := &pq.Table{Meta: scoreMeta(info, "scores.runs", k), Columns: []pq.Column{
+		t := &parquetio.Table{Meta: scoreMeta(info, "scores.runs", k), Columns: []parquetio.Column{
 			{Name: "run_id", Values: id}, {Name: "setting_id", Values: sid},
 			{Name: "trustworthiness", Values: tw}, {Name: "continuity", Values: co}, {Name: "knn_recall", Values: kr},
 			nullable("distance_spearman", ds), nullable("label_accuracy", la), nullable("label_purity", lp),
 			{Name: "k", Values: kk}, {Name: "sampled", Values: sa}, {Name: "kl", Values: kl}}}
-		if err := pq.Write(scoresPath(dir, ScoreRunsFile), t); err != nil {
+		if err := parquetio.Write(scoresPath(dir, ScoreRunsFile), t); err != nil {
 			return err
 		}
 	}
@@ -88,11 +89,11 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 				lr[i] = math.NaN()
 			}
 			ei[i], it[i], done[i], failed[i] = int32(s.ExaggerationIters), int32(s.Iters), int32(s.RunsDone), int32(s.RunsFailed)
-			for j, sp := range s.spreads() {
+			for j, sp := range s.medianIQRs() {
 				stats[2*j][i], stats[2*j+1][i] = sp.Median, sp.IQR
 			}
 		}
-		cols := []pq.Column{{Name: "setting_id", Values: sid}, {Name: "perplexity", Values: perp},
+		cols := []parquetio.Column{{Name: "setting_id", Values: sid}, {Name: "perplexity", Values: perp},
 			nullable("learning_rate", lr), {Name: "learning_rate_spec", Values: lrs}, {Name: "exaggeration", Values: ex},
 			{Name: "exaggeration_iters", Values: ei}, {Name: "iters", Values: it}, {Name: "init", Values: init},
 			{Name: "gradient", Values: grad}, {Name: "theta", Values: th},
@@ -101,7 +102,7 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 			cols = append(cols, nullable(name+"_median", stats[2*j]), nullable(name+"_iqr", stats[2*j+1]))
 		}
 		cols = append(cols, nullable("unstable_share", share))
-		if err := pq.Write(scoresPath(dir, ScoreSettingsFile), &pq.Table{Meta: scoreMeta(info, "scores.settings", k), Columns: cols}); err != nil {
+		if err := parquetio.Write(scoresPath(dir, ScoreSettingsFile), &parquetio.Table{Meta: scoreMeta(info, "scores.settings", k), Columns: cols}); err != nil {
 			return err
 		}
 	}
@@ -115,11 +116,11 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 		for i, p := range points {
 			sid[i], id[i], pt[i], sp[i], un[i], cx[i], cy[i] = p.SettingID, p.ID, int32(p.Point), p.Spread, p.Unstable, p.ConsensusX, p.ConsensusY
 		}
-		t := &pq.Table{Meta: scoreMeta(info, "scores.points", k), Columns: []pq.Column{
+		t := &parquetio.Table{Meta: scoreMeta(info, "scores.points", k), Columns: []parquetio.Column{
 			{Name: "setting_id", Values: sid}, {Name: "point", Values: pt}, {Name: "id", Values: id},
 			{Name: "spread", Values: sp}, {Name: "unstable", Values: un},
 			{Name: "consensus_x", Values: cx}, {Name: "consensus_y", Values: cy}}}
-		if err := pq.Write(scoresPath(dir, ScorePointsFile), t); err != nil {
+		if err := parquetio.Write(scoresPath(dir, ScorePointsFile), t); err != nil {
 			return err
 		}
 	}
@@ -129,12 +130,12 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 		sid, a, b := make([]string, n), make([]string, n), make([]string, n)
 		di, ja, ds := make([]float64, n), make([]float64, n), make([]float64, n)
 		for i, p := range pairs {
-			sid[i], a[i], b[i], di[i], ja[i], ds[i] = p.SettingID, p.RunA, p.RunB, p.Disparity, p.Jaccard, p.DistSpearman
+			sid[i], a[i], b[i], di[i], ja[i], ds[i] = p.SettingID, p.RunA, p.RunB, p.Disparity, p.Jaccard, p.DistanceSpearman
 		}
-		t := &pq.Table{Meta: scoreMeta(info, "scores.pairs", k), Columns: []pq.Column{
+		t := &parquetio.Table{Meta: scoreMeta(info, "scores.pairs", k), Columns: []parquetio.Column{
 			{Name: "setting_id", Values: sid}, {Name: "run_a", Values: a}, {Name: "run_b", Values: b},
 			{Name: "disparity", Values: di}, {Name: "jaccard", Values: ja}, nullable("distance_spearman", ds)}}
-		if err := pq.Write(scoresPath(dir, ScorePairsFile), t); err != nil {
+		if err := parquetio.Write(scoresPath(dir, ScorePairsFile), t); err != nil {
 			return err
 		}
 	}
@@ -158,7 +159,7 @@ func checkScoreTables(dir string, info *Info) (k int, present bool, problem stri
 	var ks []string
 	byK := map[string][]string{}
 	for _, name := range scoreTables {
-		m, _, err := pq.ReadMeta(scoresPath(dir, name))
+		m, _, err := parquetio.ReadMeta(scoresPath(dir, name))
 		switch {
 		case err != nil:
 			return 0, true, fmt.Sprintf("%s/%s is missing or unreadable", ScoresDir, name)
@@ -228,7 +229,7 @@ func (s *Study) readScores() error {
 		s.RunScores = make([]RunScore, len(id))
 		for i := range id {
 			s.RunScores[i] = RunScore{RunID: id[i], SettingID: sid[i], Trustworthiness: tw[i], Continuity: co[i],
-				KNNRecall: kr[i], DistSpearman: ds[i], LabelAccuracy: la[i], LabelPurity: lp[i], K: int(kk[i]),
+				KNNRecall: kr[i], DistanceSpearman: ds[i], LabelAccuracy: la[i], LabelPurity: lp[i], K: int(kk[i]),
 				Sampled: int(sa[i]), KL: kl[i]}
 		}
 	}
@@ -255,7 +256,7 @@ func (s *Study) readScores() error {
 				ss.Setting.ID = sid[i]
 			}
 			ss.RunsDone, ss.RunsFailed, ss.UnstableShare = int(done[i]), int(failed[i]), share[i]
-			for j, sp := range ss.spreads() {
+			for j, sp := range ss.medianIQRs() {
 				sp.Median, sp.IQR = stats[2*j][i], stats[2*j+1][i]
 			}
 		}
@@ -287,7 +288,7 @@ func (s *Study) readScores() error {
 		}
 		s.Pairs = make([]PairScore, len(sid))
 		for i := range sid {
-			s.Pairs[i] = PairScore{SettingID: sid[i], RunA: a[i], RunB: b[i], Disparity: di[i], Jaccard: ja[i], DistSpearman: ds[i]}
+			s.Pairs[i] = PairScore{SettingID: sid[i], RunA: a[i], RunB: b[i], Disparity: di[i], Jaccard: ja[i], DistanceSpearman: ds[i]}
 		}
 	}
 	return nil

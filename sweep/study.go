@@ -11,8 +11,9 @@ import (
 	"strings"
 	"time"
 
+	"plumb/internal/atomicfile"
 	"plumb/internal/dataset"
-	"plumb/internal/pq"
+	"plumb/internal/parquetio"
 	"plumb/tsne"
 )
 
@@ -178,7 +179,7 @@ func prepare(dir string, info *Info, runs []*Run, force bool, tempAge time.Durat
 		if err != nil {
 			return err
 		}
-		if err := pq.WriteFile(filepath.Join(dir, StudyFile), append(b, '\n')); err != nil {
+		if err := atomicfile.WriteFile(filepath.Join(dir, StudyFile), append(b, '\n')); err != nil {
 			return fmt.Errorf("write %s: %w", StudyFile, err)
 		}
 	}
@@ -260,7 +261,7 @@ func baseMeta(info *Info, table string) map[string]string {
 const staleAge = 5 * time.Minute
 
 // cleanStudyTemps removes the temporary files of the study's shared files
-// (study.json, runs.parquet and scores/*.parquet, which pq.WriteAtomic
+// (study.json, runs.parquet and scores/*.parquet, which parquetio.WriteAtomic
 // names ".NAME.tmp-*") that are at least minAge old. The rule its callers
 // follow:
 //
@@ -270,7 +271,7 @@ const staleAge = 5 * time.Minute
 //     at the same moment may run at once), remove only those older than
 //     staleAge.
 func cleanStudyTemps(dir string, minAge time.Duration) {
-	pats := []string{pq.TempPattern(filepath.Join(dir, StudyFile)), pq.TempPattern(filepath.Join(dir, RunsFile)),
+	pats := []string{atomicfile.TempPattern(filepath.Join(dir, StudyFile)), atomicfile.TempPattern(filepath.Join(dir, RunsFile)),
 		filepath.Join(dir, ScoresDir, ".*.tmp-*")}
 	for _, pat := range pats {
 		m, _ := filepath.Glob(pat)
@@ -286,7 +287,7 @@ func cleanStudyTemps(dir string, minAge time.Duration) {
 // the run's own files (only the run's shard writes them).
 func cleanTemps(dir, id string) {
 	for _, p := range []string{layoutPath(dir, id), tracePath(dir, id), recordPath(dir, id)} {
-		m, _ := filepath.Glob(pq.TempPattern(p))
+		m, _ := filepath.Glob(atomicfile.TempPattern(p))
 		for _, f := range m {
 			os.Remove(f)
 		}
@@ -310,9 +311,9 @@ func writeRun(dir string, info *Info, ds *dataset.Dataset, r *Run, res *tsne.Res
 		for i, tp := range res.Trace {
 			ids[i], iters[i], kls[i] = r.ID, int32(tp.Iter), tp.KL
 		}
-		tr := &pq.Table{Meta: meta("trace"), Columns: []pq.Column{
+		tr := &parquetio.Table{Meta: meta("trace"), Columns: []parquetio.Column{
 			{Name: "run_id", Values: ids}, {Name: "iter", Values: iters}, {Name: "kl", Values: kls}}}
-		if err := pq.Write(tracePath(dir, r.ID), tr); err != nil {
+		if err := parquetio.Write(tracePath(dir, r.ID), tr); err != nil {
 			return err
 		}
 	}
@@ -320,7 +321,7 @@ func writeRun(dir string, info *Info, ds *dataset.Dataset, r *Run, res *tsne.Res
 	if err != nil {
 		return err
 	}
-	if err := pq.WriteFile(recordPath(dir, r.ID), append(b, '\n')); err != nil {
+	if err := atomicfile.WriteFile(recordPath(dir, r.ID), append(b, '\n')); err != nil {
 		return fmt.Errorf("write record of run %s: %w", r.ID, err)
 	}
 	if rec.Status != StatusDone {
@@ -337,16 +338,16 @@ func writeRun(dir string, info *Info, ds *dataset.Dataset, r *Run, res *tsne.Res
 	for i := 0; i < n; i++ {
 		ids[i], pts[i], xs[i], ys[i] = r.ID, int32(i), res.Y[2*i], res.Y[2*i+1]
 	}
-	cols := []pq.Column{{Name: "run_id", Values: ids}, {Name: "point", Values: pts}, {Name: "id", Values: ds.IDs}}
+	cols := []parquetio.Column{{Name: "run_id", Values: ids}, {Name: "point", Values: pts}, {Name: "id", Values: ds.IDs}}
 	if ds.Labels != nil {
-		cols = append(cols, pq.Column{Name: "label", Values: ds.Labels})
+		cols = append(cols, parquetio.Column{Name: "label", Values: ds.Labels})
 	}
-	cols = append(cols, pq.Column{Name: "x", Values: xs}, pq.Column{Name: "y", Values: ys})
+	cols = append(cols, parquetio.Column{Name: "x", Values: xs}, parquetio.Column{Name: "y", Values: ys})
 	m := meta("layout")
 	m["plumb.seed"] = strconv.FormatUint(r.Seed, 10)
 	m["plumb.kl"] = formatFloat(res.KL)
 	m["plumb.iterations"] = strconv.Itoa(res.Iters)
-	return pq.Write(layoutPath(dir, r.ID), &pq.Table{Meta: m, Columns: cols})
+	return parquetio.Write(layoutPath(dir, r.ID), &parquetio.Table{Meta: m, Columns: cols})
 }
 
 // readRecord reads and checks a run's record against the study.
@@ -393,7 +394,7 @@ func checkMeta(path string, m map[string]string, info *Info, r *Run, table strin
 // 0..n−1 in order, finite coordinates. It returns the 2N coordinates.
 func readLayout(dir string, info *Info, r *Run) ([]float64, error) {
 	path := layoutPath(dir, r.ID)
-	t, err := pq.Read(path)
+	t, err := parquetio.Read(path)
 	if err != nil {
 		return nil, err
 	}
@@ -440,7 +441,7 @@ func verify(dir string, info *Info, r *Run) *Record {
 		return rec
 	}
 	tp := tracePath(dir, r.ID)
-	m, _, err := pq.ReadMeta(tp)
+	m, _, err := parquetio.ReadMeta(tp)
 	if err != nil || checkMeta(tp, m, info, r, "trace") != nil {
 		return nil
 	}
@@ -491,7 +492,7 @@ func writeRunsTable(dir string, info *Info, runs []*Run) (int, error) {
 		itDone = append(itDone, int32(rec.IterationsDone))
 		secs = append(secs, rec.Seconds)
 	}
-	t := &pq.Table{Meta: baseMeta(info, "runs"), Columns: []pq.Column{
+	t := &parquetio.Table{Meta: baseMeta(info, "runs"), Columns: []parquetio.Column{
 		{Name: "run_id", Values: nonNil(runID)},
 		{Name: "setting_id", Values: nonNil(settingID)},
 		{Name: "perplexity", Values: nonNilF(perp)},
@@ -511,7 +512,7 @@ func writeRunsTable(dir string, info *Info, runs []*Run) (int, error) {
 		{Name: "iterations_done", Values: nonNilI(itDone)},
 		{Name: "seconds", Values: nonNilF(secs)},
 	}}
-	if err := pq.Write(filepath.Join(dir, RunsFile), t); err != nil {
+	if err := parquetio.Write(filepath.Join(dir, RunsFile), t); err != nil {
 		return 0, err
 	}
 	return len(runID), nil

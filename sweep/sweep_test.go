@@ -12,7 +12,7 @@ import (
 	"time"
 
 	"plumb/internal/dataset"
-	"plumb/internal/pq"
+	"plumb/internal/parquetio"
 	"plumb/tsne"
 )
 
@@ -40,7 +40,7 @@ func smallPlan(t testing.TB) *Plan {
 
 var irisOptions = dataset.Options{IDColumn: "id", LabelColumn: "species"}
 
-func runSweep(t testing.TB, ds *dataset.Dataset, p *Plan, dir string, mod func(*Options)) *Summary {
+func runSweep(t testing.TB, ds *dataset.Dataset, p *Plan, dir string, mod func(*Options)) *Result {
 	t.Helper()
 	opt := Options{Dir: dir, Input: NewInput("iris.csv", dataset.Options{IDColumn: "id", LabelColumn: "species"}, ds), Version: "test"}
 	if mod != nil {
@@ -71,7 +71,7 @@ func TestEndToEndIris(t *testing.T) {
 	}
 	runs, _ := p.Runs()
 	for _, r := range runs {
-		lt, err := pq.Read(filepath.Join(dir, LayoutsDir, r.ID+".parquet"))
+		lt, err := parquetio.Read(filepath.Join(dir, LayoutsDir, r.ID+".parquet"))
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -94,7 +94,7 @@ func TestEndToEndIris(t *testing.T) {
 		if lt.Meta[MetaPlanHash] != p.Hash() || lt.Meta[MetaFingerprint] != ds.Fingerprint || lt.Meta[MetaRunID] != r.ID {
 			t.Errorf("layout %s: metadata %v", r.ID, lt.Meta)
 		}
-		tr, err := pq.Read(filepath.Join(dir, TracesDir, r.ID+".parquet"))
+		tr, err := parquetio.Read(filepath.Join(dir, TracesDir, r.ID+".parquet"))
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -103,7 +103,7 @@ func TestEndToEndIris(t *testing.T) {
 			t.Errorf("trace %s: got %d rows, want at least 3", r.ID, tr.Rows())
 		}
 	}
-	rt, err := pq.Read(filepath.Join(dir, RunsFile))
+	rt, err := parquetio.Read(filepath.Join(dir, RunsFile))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -145,14 +145,14 @@ func TestEndToEndIris(t *testing.T) {
 
 // decoded returns every Parquet file of a study decoded (timings removed)
 // and the list of file names.
-func decoded(t *testing.T, dir string) map[string]*pq.Table {
+func decoded(t *testing.T, dir string) map[string]*parquetio.Table {
 	t.Helper()
-	out := map[string]*pq.Table{}
+	out := map[string]*parquetio.Table{}
 	filepath.Walk(dir, func(path string, fi os.FileInfo, err error) error {
 		if err != nil || fi.IsDir() || filepath.Ext(path) != ".parquet" {
 			return nil
 		}
-		tb, err := pq.Read(path)
+		tb, err := parquetio.Read(path)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -236,7 +236,7 @@ func TestDeterministicAcrossParallelism(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var ref map[string]*pq.Table
+	var ref map[string]*parquetio.Table
 	for _, par := range [][2]int{{1, 1}, {1, 2}, {3, 1}} {
 		dir := t.TempDir()
 		runSweep(t, ds, p, dir, func(o *Options) { o.Jobs, o.Threads = par[0], par[1] })

@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"slices"
+
+	"plumb/internal/par"
 )
 
 // Perplexity calibration constants, as in common reference code
@@ -127,7 +129,7 @@ func affConditional(nb *Neighbors, perplexity float64, threads int, share bool) 
 		c.Index = make([]int32, n*k)
 	}
 	logPerp := math.Log(perplexity)
-	workers := nbWorkers(n, affChunk, threads)
+	workers := par.Workers(n, affChunk, threads)
 	type work struct {
 		sq     []float64
 		seen   []int32 // seen[j] == i+1 when j is already in row i
@@ -135,7 +137,7 @@ func affConditional(nb *Neighbors, perplexity float64, threads int, share bool) 
 		unconv int
 	}
 	ws := make([]work, workers)
-	nbParallel(n, affChunk, threads, func(lo, hi, w int) {
+	par.Chunks(n, affChunk, threads, func(w, lo, hi int) {
 		wk := &ws[w]
 		if wk.sq == nil {
 			wk.sq = make([]float64, k)
@@ -335,7 +337,7 @@ func (c *Conditional) Joint(threads int) *Sparse {
 		cb   []int32
 		vb   []float64
 	}
-	ws := make([]scratch, nbWorkers(n, affChunk, threads))
+	ws := make([]scratch, par.Workers(n, affChunk, threads))
 	load := func(w, i int, values bool) *scratch {
 		sc := &ws[w]
 		if sc.keys == nil {
@@ -364,7 +366,7 @@ func (c *Conditional) Joint(threads int) *Sparse {
 	}
 	// Row sizes of the union, then the merge itself.
 	rowPtr := make([]int, n+1)
-	nbParallel(n, affChunk, threads, func(lo, hi, w int) {
+	par.Chunks(n, affChunk, threads, func(w, lo, hi int) {
 		for i := lo; i < hi; i++ {
 			sc := load(w, i, false)
 			rowPtr[i+1] = affMergeRow(sc.ca, nil, sc.cb, nil, nil, nil, 0)
@@ -375,7 +377,7 @@ func (c *Conditional) Joint(threads int) *Sparse {
 	}
 	p := &Sparse{N: n, RowPtr: rowPtr, Col: make([]int32, rowPtr[n]), Val: make([]float64, rowPtr[n])}
 	scale := 1 / (2 * float64(n))
-	nbParallel(n, affChunk, threads, func(lo, hi, w int) {
+	par.Chunks(n, affChunk, threads, func(w, lo, hi int) {
 		for i := lo; i < hi; i++ {
 			sc := load(w, i, true)
 			a, b := rowPtr[i], rowPtr[i+1]
@@ -460,9 +462,9 @@ func ExactAffinities(x []float64, n, d int, perplexity float64, threads int) (*S
 		p.RowPtr[i] = i * m
 	}
 	logPerp := math.Log(perplexity)
-	workers := nbWorkers(n, affChunk, threads)
+	workers := par.Workers(n, affChunk, threads)
 	sqs := make([][]float64, workers)
-	nbParallel(n, affChunk, threads, func(lo, hi, w int) {
+	par.Chunks(n, affChunk, threads, func(w, lo, hi int) {
 		if sqs[w] == nil {
 			sqs[w] = make([]float64, m)
 		}
@@ -492,7 +494,7 @@ func ExactAffinities(x []float64, n, d int, perplexity float64, threads int) (*S
 		}
 		return i*m + j
 	}
-	nbParallel(n, affChunk, threads, func(lo, hi, _ int) {
+	par.Chunks(n, affChunk, threads, func(_, lo, hi int) {
 		for i := lo; i < hi; i++ {
 			for j := i + 1; j < n; j++ {
 				a, b := pos(i, j), pos(j, i)

@@ -1,6 +1,10 @@
 package tsne
 
-import "math"
+import (
+	"math"
+
+	"plumb/internal/par"
+)
 
 // BarnesHut computes the t-SNE gradient with the tree approximation of
 // van der Maaten (2014): attraction exactly over the stored entries of P,
@@ -52,8 +56,8 @@ import "math"
 // force-calculation algorithm", Nature 324, 1986; J. E. Barnes, "A modified
 // tree code: don't laugh; it runs", J. Comp. Phys. 87, 1990.
 type BarnesHut struct {
-	theta  float64
-	runner *chunkRunner
+	theta float64
+	pool  *par.Pool
 
 	// per-call inputs
 	y     []float64
@@ -74,8 +78,8 @@ type BarnesHut struct {
 	leaves  []int32 // leaf nodes in tree order
 	scratch chan *bhScratch
 
-	firstFn func(chunk int) // tree build and attraction
-	rowsFn  func(chunk int) // tree walks
+	firstFn func(worker, chunk int) // tree build and attraction
+	rowsFn  func(worker, chunk int) // tree walks
 }
 
 // bhScratch holds one worker's interaction lists for a group of points.
@@ -123,9 +127,9 @@ func NewBarnesHut(theta float64, threads int) *BarnesHut {
 	if !(theta >= 0) {
 		panic("tsne: negative Barnes-Hut theta")
 	}
-	g := &BarnesHut{theta: theta, runner: newChunkRunner(threads)}
-	g.scratch = make(chan *bhScratch, g.runner.threads)
-	for t := 0; t < g.runner.threads; t++ {
+	g := &BarnesHut{theta: theta, pool: par.NewPool(threads)}
+	g.scratch = make(chan *bhScratch, g.pool.Threads())
+	for t := 0; t < g.pool.Threads(); t++ {
 		// Sized for typical lists so that steady-state calls do not
 		// allocate; append grows them if a group needs more.
 		g.scratch <- &bhScratch{cells: cellList{buf: make([]float64, 0, 1024*cellBlockLen)}, direct: make([]int32, 0, 1024), near: make([]float64, 0, 8192)}
@@ -173,8 +177,8 @@ func (g *BarnesHut) Gradient(dst, y []float64, p *Sparse, exaggeration float64) 
 	// First pass: chunk 0 builds the tree (sequential) while the other
 	// threads compute the attraction, which does not need it; second pass:
 	// the tree walks. The outputs are disjoint (tree, dst, rep and zRow).
-	g.runner.run(1+numChunks(n, chunkRows), g.firstFn)
-	g.runner.run(numChunks(len(g.leaves), bhLeafChunk), g.rowsFn)
+	g.pool.Run(1+numChunks(n, chunkRows), g.firstFn)
+	g.pool.Run(numChunks(len(g.leaves), bhLeafChunk), g.rowsFn)
 	z := 0.0
 	for _, v := range g.zRow {
 		z += v
@@ -439,7 +443,7 @@ func (g *BarnesHut) split(idx int, lo, hi int32, side float64, depth int) {
 // point of the group; the resulting lists of cells and of leaves to sum
 // exactly are then evaluated for each point of the group without further
 // tests. Each point's sums depend only on the tree, not on the chunking.
-func (g *BarnesHut) rows(chunk int) {
+func (g *BarnesHut) rows(_, chunk int) {
 	sc := <-g.scratch
 	defer func() { g.scratch <- sc }()
 	nodes, ys := g.nodes, g.ys
@@ -519,7 +523,7 @@ func (g *BarnesHut) rows(chunk int) {
 
 // first runs chunk c of the first pass: the tree build for c = 0,
 // attraction chunk c − 1 otherwise.
-func (g *BarnesHut) first(c int) {
+func (g *BarnesHut) first(_, c int) {
 	if c == 0 {
 		g.build(g.y)
 		return

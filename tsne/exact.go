@@ -1,5 +1,7 @@
 package tsne
 
+import "plumb/internal/par"
+
 // Exact computes the t-SNE gradient by summing over every pair of points,
 // O(N²) time and O(N) memory per evaluation:
 //
@@ -14,7 +16,7 @@ package tsne
 // Coincident points (duplicates) contribute w = 1 and no force on each
 // other; nothing divides by a distance.
 type Exact struct {
-	runner *chunkRunner
+	pool *par.Pool
 
 	// per-call inputs
 	y     []float64
@@ -25,7 +27,7 @@ type Exact struct {
 	rep  []float64 // 2N repulsion numerators Σ_j w² (y_i − y_j)
 	zRow []float64 // N per-row sums Σ_j w_ij
 
-	rowsFn func(chunk int)
+	rowsFn func(worker, chunk int)
 }
 
 var _ Gradient = (*Exact)(nil)
@@ -33,7 +35,7 @@ var _ Gradient = (*Exact)(nil)
 // NewExact returns an exact gradient using up to threads goroutines
 // (0 means runtime.GOMAXPROCS(0)).
 func NewExact(threads int) *Exact {
-	g := &Exact{runner: newChunkRunner(threads)}
+	g := &Exact{pool: par.NewPool(threads)}
 	g.rowsFn = g.rows
 	return g
 }
@@ -56,7 +58,7 @@ func (g *Exact) Gradient(dst, y []float64, p *Sparse, exaggeration float64) ([]f
 	dst = checkGradientArgs(dst, y, p)
 	g.Reset(n)
 	g.y, g.p, g.alpha, g.dst = y, p, exaggeration, dst
-	g.runner.run(numChunks(n, chunkRows), g.rowsFn)
+	g.pool.Run(numChunks(n, chunkRows), g.rowsFn)
 	z := 0.0
 	for _, v := range g.zRow {
 		z += v
@@ -68,7 +70,7 @@ func (g *Exact) Gradient(dst, y []float64, p *Sparse, exaggeration float64) ([]f
 
 // rows computes, for one chunk of rows, the attraction (written to dst),
 // the repulsion numerators and the row sums of w.
-func (g *Exact) rows(chunk int) {
+func (g *Exact) rows(_, chunk int) {
 	y, n := g.y, len(g.y)/2
 	lo, hi := chunk*chunkRows, min((chunk+1)*chunkRows, n)
 	for i := lo; i < hi; i++ {

@@ -3,6 +3,8 @@ package tsne
 import (
 	"math"
 	"runtime"
+
+	"plumb/internal/par"
 )
 
 // FFT computes the t-SNE gradient with FFT-accelerated interpolation
@@ -64,7 +66,7 @@ type FFT struct {
 	IntervalsPerUnit float64
 
 	threads int
-	pool    *fftPool
+	pool    *par.Pool
 	s       fftState
 }
 
@@ -77,7 +79,7 @@ func NewFFT(threads int) *FFT {
 		threads = runtime.GOMAXPROCS(0)
 	}
 	g := &FFT{threads: threads}
-	g.pool = newFFTPool(g, threads)
+	g.pool = par.NewPool(threads)
 	g.s.init(threads)
 	return g
 }
@@ -208,7 +210,7 @@ func (g *FFT) Gradient(dst, y []float64, p *Sparse, exaggeration float64) ([]flo
 	s.zPart = fftGrowF(s.zPart, ntask)
 
 	// Bounding box.
-	g.pool.run(ntask, s.fnBounds)
+	g.pool.Run(ntask, s.fnBounds)
 	xmin, xmax, ymin, ymax := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
 	for t := 0; t < ntask; t++ {
 		xmin = math.Min(xmin, s.mins[4*t])
@@ -240,7 +242,7 @@ func (g *FFT) Gradient(dst, y []float64, p *Sparse, exaggeration float64) ([]flo
 	s.wts = fftGrowF(s.wts, 6*n)
 	s.order = fftGrowI(s.order, n)
 	s.rep = fftGrowF(s.rep, 2*n)
-	g.pool.run(ntask, s.fnPrep)
+	g.pool.Run(ntask, s.fnPrep)
 	nbox := nb * nb
 	s.start = fftGrowI(s.start, nbox+1)
 	clear(s.start)
@@ -261,17 +263,17 @@ func (g *FFT) Gradient(dst, y []float64, p *Sparse, exaggeration float64) ([]flo
 	s.start[0] = 0
 
 	// Spread, convolve, gather.
-	g.pool.run(nb, s.fnSpread)
+	g.pool.Run(nb, s.fnSpread)
 	if kernelStale {
 		nk := (s.hl + fftBatch - 1) / fftBatch
-		g.pool.run(nk, s.fnKCols)
-		g.pool.run(nk, s.fnKRows)
+		g.pool.Run(nk, s.fnKCols)
+		g.pool.Run(nk, s.fnKRows)
 		s.kh, s.knb = h, nb
 	}
-	g.pool.run(2*s.nsx, s.fnColsFwd)
-	g.pool.run(2*s.nsy, s.fnRowsConv)
-	g.pool.run(2*s.nsx, s.fnColsInv)
-	g.pool.run(ntask, s.fnGather)
+	g.pool.Run(2*s.nsx, s.fnColsFwd)
+	g.pool.Run(2*s.nsy, s.fnRowsConv)
+	g.pool.Run(2*s.nsx, s.fnColsInv)
+	g.pool.Run(ntask, s.fnGather)
 	var z float64
 	for t := 0; t < ntask; t++ {
 		z += s.zPart[t]
@@ -280,7 +282,7 @@ func (g *FFT) Gradient(dst, y []float64, p *Sparse, exaggeration float64) ([]flo
 		z = math.SmallestNonzeroFloat64
 	}
 	s.zinv = 1 / z
-	g.pool.run(ntask, s.fnFinish)
+	g.pool.Run(ntask, s.fnFinish)
 	s.y, s.p, s.dst = nil, nil, nil
 	return dst, z
 }

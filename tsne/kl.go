@@ -1,6 +1,10 @@
 package tsne
 
-import "math"
+import (
+	"math"
+
+	"plumb/internal/par"
+)
 
 // KL returns the Kullback-Leibler divergence KL(P‖Q) of the layout y, where
 // q_ij = w_ij / Z and w_ij = (1 + ‖y_i − y_j‖²)⁻¹, given the normalisation
@@ -39,8 +43,8 @@ func KL(y []float64, p *Sparse, z float64) float64 {
 func ExactZ(y []float64, threads int) float64 {
 	n := len(y) / 2
 	zRow := make([]float64, n)
-	r := newChunkRunner(threads)
-	r.run(numChunks(n, chunkRows), func(chunk int) {
+	r := par.NewPool(threads)
+	r.Run(numChunks(n, chunkRows), func(_, chunk int) {
 		lo, hi := chunk*chunkRows, min((chunk+1)*chunkRows, n)
 		for i := lo; i < hi; i++ {
 			// The row sums of the Exact gradient (sumDirect over the
@@ -78,13 +82,13 @@ type klEval struct {
 	p        *Sparse
 	plogp, s float64
 	part     []float64
-	runner   *chunkRunner
+	pool     *par.Pool
 	y        []float64 // layout of the current call
-	fn       func(chunk int)
+	fn       func(worker, chunk int)
 }
 
 func newKLEval(p *Sparse, threads int) *klEval {
-	k := &klEval{p: p, runner: newChunkRunner(threads), part: make([]float64, numChunks(p.N, klRows))}
+	k := &klEval{p: p, pool: par.NewPool(threads), part: make([]float64, numChunks(p.N, klRows))}
 	for _, v := range p.Val {
 		if v > 0 {
 			k.plogp += v * math.Log(v)
@@ -95,7 +99,7 @@ func newKLEval(p *Sparse, threads int) *klEval {
 	return k
 }
 
-func (k *klEval) chunk(c int) {
+func (k *klEval) chunk(_, c int) {
 	p, y := k.p, k.y
 	var plogw float64
 	for i := c * klRows; i < min((c+1)*klRows, p.N); i++ {
@@ -107,7 +111,7 @@ func (k *klEval) chunk(c int) {
 // kl returns KL(P‖Q) of the layout y given the normalisation z.
 func (k *klEval) kl(y []float64, z float64) float64 {
 	k.y = y
-	k.runner.run(len(k.part), k.fn)
+	k.pool.Run(len(k.part), k.fn)
 	k.y = nil
 	var plogw float64
 	for _, v := range k.part {

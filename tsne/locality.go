@@ -1,5 +1,7 @@
 package tsne
 
+import "plumb/internal/par"
+
 // LocalityMinN is the smallest n for which Embed and sweeps renumber the
 // points for memory locality (LocalityOrder) before computing P. The
 // attraction reads the layout at the columns of P, so with neighbours
@@ -79,7 +81,7 @@ func (nb *Neighbors) Renumber(order []int32) {
 			cur = src
 		}
 	}
-	nbParallel(n, 1024, 0, func(lo, hi, _ int) {
+	par.Chunks(n, 1024, 0, func(_, lo, hi int) {
 		for e := lo * k; e < hi*k; e++ {
 			nb.Index[e] = inv[nb.Index[e]]
 		}

@@ -3,9 +3,8 @@ package tsne
 import (
 	"fmt"
 	"math"
-	"runtime"
-	"sync"
-	"sync/atomic"
+
+	"plumb/internal/par"
 )
 
 // BruteForceMaxN is the largest n for which ExactNeighbors compares every
@@ -114,52 +113,6 @@ func (nb *Neighbors) Truncate(k int) *Neighbors {
 		copy(out.Dist[i*k:(i+1)*k], nb.Dist[i*nb.K:i*nb.K+k])
 	}
 	return out
-}
-
-// nbThreads resolves a thread count: < 1 means runtime.GOMAXPROCS(0).
-func nbThreads(threads int) int {
-	if threads < 1 {
-		return runtime.GOMAXPROCS(0)
-	}
-	return threads
-}
-
-// nbParallel calls fn(lo, hi, w) for the fixed chunks [lo, hi) of [0, n)
-// of size chunk, on at most threads goroutines; w in [0, workers) names the
-// goroutine so that fn can use a per-worker workspace (w < nbWorkers(n,
-// chunk, threads)). fn must write only state owned by its chunk or by
-// worker w for the result to be independent of scheduling.
-func nbParallel(n, chunk, threads int, fn func(lo, hi, w int)) {
-	nchunks := (n + chunk - 1) / chunk
-	workers := nbWorkers(n, chunk, threads)
-	if workers == 1 {
-		for c := 0; c < nchunks; c++ {
-			fn(c*chunk, min((c+1)*chunk, n), 0)
-		}
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for w := 0; w < workers; w++ {
-		wg.Add(1)
-		go func(w int) {
-			defer wg.Done()
-			for {
-				c := int(next.Add(1) - 1)
-				if c >= nchunks {
-					return
-				}
-				fn(c*chunk, min((c+1)*chunk, n), w)
-			}
-		}(w)
-	}
-	wg.Wait()
-}
-
-// nbWorkers is the number of goroutines nbParallel starts.
-func nbWorkers(n, chunk, threads int) int {
-	nchunks := (n + chunk - 1) / chunk
-	return max(1, min(nbThreads(threads), nchunks))
 }
 
 // nbSqDist returns the squared Euclidean distance between a and b
@@ -308,9 +261,9 @@ func (h *nbHeap) drain(index []int32, dist []float64) {
 // nbBruteForce compares every query with every other point.
 func nbBruteForce(x []float64, n, d, k, threads int) *Neighbors {
 	nb := &Neighbors{N: n, K: k, Index: make([]int32, n*k), Dist: make([]float64, n*k)}
-	heaps := make([]*nbHeap, nbWorkers(n, nbChunk, threads))
+	heaps := make([]*nbHeap, par.Workers(n, nbChunk, threads))
 	rows := make([][]float64, len(heaps))
-	nbParallel(n, nbChunk, threads, func(lo, hi, w int) {
+	par.Chunks(n, nbChunk, threads, func(w, lo, hi int) {
 		h := heaps[w]
 		if h == nil {
 			h = newNBHeap(k)

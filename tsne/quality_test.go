@@ -5,9 +5,10 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
-	"plumb/tsne"
 	"strconv"
 	"testing"
+
+	"plumb/tsne"
 )
 
 // qualityData is a labelled open data set read from testdata.

@@ -3,6 +3,8 @@ package tsne
 import (
 	"math"
 	"math/rand/v2"
+
+	"plumb/internal/par"
 )
 
 // vpLeafSize is the largest subtree stored as a flat bucket and scanned
@@ -213,8 +215,8 @@ func (s *vpSearch) maybe(ni int32, lb, slack float64) {
 func nbVPTree(x []float64, n, d, k, threads int) *Neighbors {
 	t := newVPTree(x, n, d)
 	nb := &Neighbors{N: n, K: k, Index: make([]int32, n*k), Dist: make([]float64, n*k)}
-	searches := make([]*vpSearch, nbWorkers(n, nbChunk, threads))
-	nbParallel(n, nbChunk, threads, func(lo, hi, w int) {
+	searches := make([]*vpSearch, par.Workers(n, nbChunk, threads))
+	par.Chunks(n, nbChunk, threads, func(w, lo, hi int) {
 		s := searches[w]
 		if s == nil {
 			s = &vpSearch{t: t, h: newNBHeap(k), leaf: make([]float64, vpLeafSize)}

@@ -6,9 +6,9 @@ import (
 
 	"github.com/urfave/cli/v2"
 
-	"plumb/internal/gate"
-	"plumb/internal/pq"
-	"plumb/internal/report"
+	"plumb/cmd/plumb/internal/gate"
+	"plumb/cmd/plumb/internal/studyview"
+	"plumb/internal/atomicfile"
 )
 
 func init() {
@@ -78,11 +78,11 @@ func checkAction(c *cli.Context) error {
 			}
 		}
 	}
-	bs, err := report.Open(base)
+	bs, err := studyview.Open(base)
 	if err != nil {
 		return &exitError{code: 2, err: fmt.Errorf("baseline: %w", err)}
 	}
-	cs, err := report.Open(cur)
+	cs, err := studyview.Open(cur)
 	if err != nil {
 		return &exitError{code: 2, err: fmt.Errorf("current study: %w", err)}
 	}
@@ -102,7 +102,7 @@ func checkAction(c *cli.Context) error {
 	if f := c.String("junit"); f != "" {
 		b, err := res.JUnit()
 		if err == nil {
-			err = pq.WriteFile(f, b)
+			err = atomicfile.WriteFile(f, b)
 		}
 		if err != nil {
 			return &exitError{code: 2, err: fmt.Errorf("--junit %s: %w", f, err)}

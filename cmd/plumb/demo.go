@@ -11,9 +11,9 @@ import (
 
 	"github.com/urfave/cli/v2"
 
+	"plumb/cmd/plumb/internal/demo"
+	"plumb/cmd/plumb/internal/report"
 	"plumb/internal/dataset"
-	"plumb/internal/demo"
-	"plumb/internal/report"
 	"plumb/sweep"
 )
 

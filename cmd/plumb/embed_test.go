@@ -7,7 +7,7 @@ import (
 	"strings"
 	"testing"
 
-	"plumb/internal/pq"
+	"plumb/internal/parquetio"
 )
 
 // TestEmbedParquet embeds testdata/iris.csv (Fisher's iris, scikit-learn's
@@ -19,7 +19,7 @@ func TestEmbedParquet(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d, stderr:\n%s", code, stderr)
 	}
-	tab, err := pq.Read(out)
+	tab, err := parquetio.Read(out)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -20,7 +20,7 @@ import (
 	"testing"
 	"time"
 
-	"plumb/internal/pq"
+	"plumb/internal/parquetio"
 )
 
 // krBuild builds the plumb binary into a temporary directory.
@@ -138,7 +138,7 @@ func krTemps(dir string) []string {
 	return out
 }
 
-// krCheckFiles decodes every Parquet file (pq.Read) and every JSON file
+// krCheckFiles decodes every Parquet file (parquetio.Read) and every JSON file
 // under dir; a partial or corrupt file fails the test.
 func krCheckFiles(t *testing.T, dir string) {
 	t.Helper()
@@ -148,7 +148,7 @@ func krCheckFiles(t *testing.T, dir string) {
 		}
 		switch filepath.Ext(p) {
 		case ".parquet":
-			if _, err := pq.Read(p); err != nil {
+			if _, err := parquetio.Read(p); err != nil {
 				t.Errorf("corrupt file after kill: %v", err)
 			}
 		case ".json":
@@ -173,7 +173,7 @@ func krStudy(t *testing.T, dir string) map[string]map[string]any {
 		rel, _ := filepath.Rel(dir, p)
 		switch filepath.Ext(p) {
 		case ".parquet":
-			tb, err := pq.Read(p)
+			tb, err := parquetio.Read(p)
 			if err != nil {
 				t.Errorf("%s: %v", rel, err)
 				return nil
@@ -320,7 +320,7 @@ func TestKillResume(t *testing.T) {
 	}
 
 	// runs.parquet lists each run once, done.
-	tb, err := pq.Read(filepath.Join(dir, "runs.parquet"))
+	tb, err := parquetio.Read(filepath.Join(dir, "runs.parquet"))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -407,7 +407,7 @@ func krInterrupt(t *testing.T, bin, dir string, sig os.Signal, want map[string]m
 	}
 	// Records of the kept runs exist; runs.parquet (written on the way out)
 	// lists exactly them.
-	tb, err := pq.Read(filepath.Join(dir, "runs.parquet"))
+	tb, err := parquetio.Read(filepath.Join(dir, "runs.parquet"))
 	if err != nil {
 		t.Errorf("runs.parquet after %v: %v", sig, err)
 	} else if tb.Rows() != len(kept) {
@@ -429,8 +429,8 @@ func krInterrupt(t *testing.T, bin, dir string, sig os.Signal, want map[string]m
 }
 
 // TestResumeCleansStudyTemps plants the temporary files a kill during a
-// study-level write leaves (pq writes ".NAME.tmp-RANDOM" beside NAME, see
-// internal/pq/doc.go) and checks that readers ignore them and who removes
+// study-level write leaves (atomicfile writes ".NAME.tmp-RANDOM" beside NAME, see
+// internal/atomicfile/atomicfile.go) and checks that readers ignore them and who removes
 // them (the rule of sweep/study.go cleanStudyTemps): an unsharded resume,
 // the study's only writer, removes them whatever their age; a shard of a
 // sharded sweep and `plumb score` (which two shards finishing together may
@@ -525,7 +525,7 @@ func TestScoreKilledBetweenTables(t *testing.T) {
 		}
 	}
 	for _, f := range []string{"runs.parquet", "settings.parquet", "points.parquet", "pairs.parquet"} {
-		m, _, err := pq.ReadMeta(filepath.Join(dir, "scores", f))
+		m, _, err := parquetio.ReadMeta(filepath.Join(dir, "scores", f))
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -557,7 +557,7 @@ func TestScoreKilledBetweenTables(t *testing.T) {
 		t.Fatalf("sweep again: %d %s", code, stderr)
 	}
 	for _, f := range []string{"runs.parquet", "settings.parquet", "points.parquet", "pairs.parquet"} {
-		m, _, err := pq.ReadMeta(filepath.Join(dir, "scores", f))
+		m, _, err := parquetio.ReadMeta(filepath.Join(dir, "scores", f))
 		if err != nil || m["plumb.k"] != "7" {
 			t.Errorf("after the sweep, scores/%s: plumb.k = %q (err %v), want 7", f, m["plumb.k"], err)
 		}

@@ -8,8 +8,9 @@ import (
 	"os"
 	"strconv"
 
+	"plumb/internal/atomicfile"
 	"plumb/internal/dataset"
-	"plumb/internal/pq"
+	"plumb/internal/parquetio"
 )
 
 // writeLayout writes one row per point (id, label when given, x, y) to out,
@@ -22,11 +23,11 @@ func writeLayout(out, format string, data *dataset.Dataset, y []float64, rec emb
 	}
 	switch format {
 	case "csv":
-		if err := pq.WriteAtomic(out, func(f *os.File) error { return writeLayoutCSV(f, data, y) }); err != nil {
+		if err := atomicfile.Write(out, func(f *os.File) error { return writeLayoutCSV(f, data, y) }); err != nil {
 			return fmt.Errorf("write %s: %w", out, err)
 		}
 		pretty, _ := json.MarshalIndent(rec, "", "  ")
-		if err := pq.WriteFile(out+".json", append(pretty, '\n')); err != nil {
+		if err := atomicfile.WriteFile(out+".json", append(pretty, '\n')); err != nil {
 			return fmt.Errorf("write %s.json: %w", out, err)
 		}
 		return nil
@@ -39,21 +40,21 @@ func writeLayout(out, format string, data *dataset.Dataset, y []float64, rec emb
 			point[i] = int32(i)
 			xs[i], ys[i] = y[2*i], y[2*i+1]
 		}
-		cols := []pq.Column{
+		cols := []parquetio.Column{
 			{Name: "point", Values: point},
 			{Name: "id", Values: data.IDs},
 		}
 		if data.Labels != nil {
-			cols = append(cols, pq.Column{Name: "label", Values: data.Labels})
+			cols = append(cols, parquetio.Column{Name: "label", Values: data.Labels})
 		}
-		cols = append(cols, pq.Column{Name: "x", Values: xs}, pq.Column{Name: "y", Values: ys})
-		t := &pq.Table{Columns: cols, Meta: map[string]string{
+		cols = append(cols, parquetio.Column{Name: "x", Values: xs}, parquetio.Column{Name: "y", Values: ys})
+		t := &parquetio.Table{Columns: cols, Meta: map[string]string{
 			"plumb.version":           version,
 			"plumb.table":             "layout",
 			"plumb.input_fingerprint": data.Fingerprint,
 			"plumb.run":               string(meta),
 		}}
-		return pq.Write(out, t)
+		return parquetio.Write(out, t)
 	}
 	return fmt.Errorf("unknown layout format %q", format)
 }

@@ -6,7 +6,8 @@ import (
 
 	"github.com/urfave/cli/v2"
 
-	"plumb/internal/report"
+	"plumb/cmd/plumb/internal/report"
+	"plumb/cmd/plumb/internal/studyview"
 )
 
 func init() {
@@ -66,7 +67,7 @@ func reportAction(c *cli.Context) error {
 
 // writeReport opens the study in dir and writes its report into out.
 func writeReport(dir, out string, rule report.Rule) (*report.Output, error) {
-	st, err := report.Open(dir)
+	st, err := studyview.Open(dir)
 	if err != nil {
 		return nil, err
 	}

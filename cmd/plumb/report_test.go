@@ -8,7 +8,8 @@ import (
 	"strings"
 	"testing"
 
-	"plumb/internal/report"
+	"plumb/cmd/plumb/internal/report"
+	"plumb/cmd/plumb/internal/studyview"
 )
 
 func TestReportCommand(t *testing.T) {
@@ -30,7 +31,7 @@ func TestReportCommand(t *testing.T) {
 	// (Fisher 1936), the plan of irisStudy, and the chosen setting's median
 	// trustworthiness as stored in the study.
 	m, _ := os.ReadFile(filepath.Join(out, "methods.md"))
-	st, err := report.Open(base)
+	st, err := studyview.Open(base)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -42,7 +43,7 @@ func TestReportCommand(t *testing.T) {
 		"4 runs, of which 4 finished", "iterations (in all) 400", "early-exaggeration iterations 100",
 		"initialisation random", "k = " + strconv.Itoa(st.K),
 		// scores below 1 are printed with 4 decimals
-		"median trustworthiness " + fmt.Sprintf("%.4f", rec.Chosen.Trust)} {
+		"median trustworthiness " + fmt.Sprintf("%.4f", rec.Chosen.Trustworthiness)} {
 		if !strings.Contains(string(m), want) {
 			t.Errorf("methods.md lacks %q:\n%s", want, m)
 		}

@@ -14,7 +14,7 @@ import (
 	"strings"
 	"testing"
 
-	"plumb/internal/pq"
+	"plumb/internal/parquetio"
 )
 
 // rbIris is testdata/iris.csv (Fisher's iris via scikit-learn's copy,
@@ -134,7 +134,7 @@ func TestBadInputs(t *testing.T) {
 		return p
 	}
 	hdr := rbLines(t)[0]
-	// A Parquet copy of iris (written with plumb/internal/pq), then a
+	// A Parquet copy of iris (written with plumb/internal/parquetio), then a
 	// corrupted and a truncated copy of it.
 	irisPq := filepath.Join(tmp, "iris.parquet")
 	{
@@ -154,17 +154,17 @@ func TestBadInputs(t *testing.T) {
 			}
 		}
 		names := strings.Split(hdr, ",")
-		cols := []pq.Column{{Name: "id", Values: ids}, {Name: "species", Values: species}}
+		cols := []parquetio.Column{{Name: "id", Values: ids}, {Name: "species", Values: species}}
 		for j := 0; j < 4; j++ {
-			cols = append(cols, pq.Column{Name: names[2+j], Values: feats[j]})
+			cols = append(cols, parquetio.Column{Name: names[2+j], Values: feats[j]})
 		}
-		if err := pq.Write(irisPq, &pq.Table{Columns: cols}); err != nil {
+		if err := parquetio.Write(irisPq, &parquetio.Table{Columns: cols}); err != nil {
 			t.Fatal(err)
 		}
 		// A Parquet file whose feature column holds strings.
-		strCols := append([]pq.Column{}, cols...)
-		strCols[3] = pq.Column{Name: names[3], Values: species}
-		if err := pq.Write(filepath.Join(tmp, "string_feature.parquet"), &pq.Table{Columns: strCols}); err != nil {
+		strCols := append([]parquetio.Column{}, cols...)
+		strCols[3] = parquetio.Column{Name: names[3], Values: species}
+		if err := parquetio.Write(filepath.Join(tmp, "string_feature.parquet"), &parquetio.Table{Columns: strCols}); err != nil {
 			t.Fatal(err)
 		}
 	}
@@ -438,13 +438,13 @@ func TestSingleFeatureColumn(t *testing.T) {
 }
 
 // rbOpenLayout decodes the single layout of a one-run study.
-func rbOpenLayout(t *testing.T, dir string) (*pq.Table, error) {
+func rbOpenLayout(t *testing.T, dir string) (*parquetio.Table, error) {
 	t.Helper()
 	m, _ := filepath.Glob(filepath.Join(dir, "layouts", "*.parquet"))
 	if len(m) != 1 {
 		t.Fatalf("want one layout, got %v", m)
 	}
-	return pq.Read(m[0])
+	return parquetio.Read(m[0])
 }
 
 // TestStudyDirectoryConflicts: a study directory made from other data, or
@@ -513,7 +513,7 @@ func TestDamagedStudy(t *testing.T) {
 	if code != 0 || !strings.Contains(stderr, "1 runs done, 0 failed, 2 already finished") {
 		t.Errorf("resume after damage: exit %d\n%s", code, stderr)
 	}
-	if _, err := pq.Read(lays[1]); err != nil {
+	if _, err := parquetio.Read(lays[1]); err != nil {
 		t.Errorf("damaged layout not redone: %v", err)
 	}
 	// A garbled study.json.
@@ -601,7 +601,7 @@ func TestLargeSeed(t *testing.T) {
 	if _, stderr, code := plumb(t, rbSweep(rbIris, out, "--seeds", seed+"-"+seed, "--no-score")...); code != 0 {
 		t.Fatalf("exit %d %s", code, stderr)
 	}
-	tb, err := pq.Read(filepath.Join(out, "runs.parquet"))
+	tb, err := parquetio.Read(filepath.Join(out, "runs.parquet"))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -12,6 +12,7 @@ import (
 
 	"github.com/urfave/cli/v2"
 
+	"plumb/stability"
 	"plumb/sweep"
 )
 
@@ -102,7 +103,7 @@ func showRows(st *sweep.Study) []*settingRow {
 		r.set("runs_done", done)
 		r.set("runs_failed", failed)
 		if ss, ok := byID[s.ID]; ok {
-			add := func(name string, sp sweep.Spread) {
+			add := func(name string, sp stability.MedianIQR) {
 				r.set(name+"_median", sp.Median)
 				r.set(name+"_iqr", sp.IQR)
 			}
@@ -113,30 +114,16 @@ func showRows(st *sweep.Study) []*settingRow {
 			add("trustworthiness", ss.Trustworthiness)
 			add("continuity", ss.Continuity)
 			add("knn_recall", ss.KNNRecall)
-			add("distance_spearman", ss.DistSpearman)
+			add("distance_spearman", ss.DistanceSpearman)
 			add("label_accuracy", ss.LabelAccuracy)
 			add("label_purity", ss.LabelPurity)
 			r.set("unstable_share", ss.UnstableShare)
 		} else {
-			r.set("kl_median", median(kls))
+			r.set("kl_median", stability.Quantile(kls, 0.5))
 		}
 		rows = append(rows, r)
 	}
 	return rows
-}
-
-func median(v []float64) float64 {
-	if len(v) == 0 {
-		return math.NaN()
-	}
-	s := append([]float64(nil), v...)
-	sort.Float64s(s)
-	h := float64(len(s)-1) / 2
-	lo := int(h)
-	if lo+1 >= len(s) {
-		return s[lo]
-	}
-	return s[lo] + (h-float64(lo))*(s[lo+1]-s[lo])
 }
 
 func showAction(c *cli.Context) error {

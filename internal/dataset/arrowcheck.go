@@ -333,12 +333,12 @@ var allocFloor int64 = 256 << 20
 // compresses about 1000-fold) while refusing the gigabyte requests of
 // damaged page headers.
 func allocatorFor(size int64) memory.Allocator {
-	max := allocFloor
-	if s := 1024 * size; s > max {
-		max = s
+	limit := allocFloor
+	if s := 1024 * size; s > limit {
+		limit = s
 	}
-	if max > int64(^uint(0)>>1) {
-		max = int64(^uint(0) >> 1)
+	if limit > int64(^uint(0)>>1) {
+		limit = int64(^uint(0) >> 1)
 	}
-	return &cappedAllocator{Allocator: memory.NewGoAllocator(), max: int(max)}
+	return &cappedAllocator{Allocator: memory.NewGoAllocator(), max: int(limit)}
 }

@@ -6,7 +6,8 @@ import (
 	"os"
 	"path/filepath"
 
-	"plumb/internal/pq"
+	"plumb/cmd/plumb/internal/studyview"
+	"plumb/internal/atomicfile"
 )
 
 // Options configures Write.
@@ -30,12 +31,12 @@ type Output struct {
 }
 
 // Candidates turns the study's settings into the rule's score table.
-func Candidates(st *Study) []Candidate {
+func Candidates(st *studyview.View) []Candidate {
 	var cs []Candidate
 	for _, s := range st.Settings {
 		cs = append(cs, Candidate{
 			ID: s.ID, Runs: s.RunsDone,
-			Trust: s.Trust.Median, TrustIQR: s.Trust.IQR,
+			Trustworthiness: s.Trustworthiness.Median, TrustworthinessIQR: s.Trustworthiness.IQR,
 			Disparity: s.Disparity.Median, DispIQR: s.Disparity.IQR,
 			Jaccard: s.Jaccard.Median, JaccardIQR: s.Jaccard.IQR,
 			KL: s.KL.Median, KLIQR: s.KL.IQR,
@@ -46,7 +47,7 @@ func Candidates(st *Study) []Candidate {
 
 // Build computes the recommendation, the figures and the methods text
 // without touching the disk.
-func Build(st *Study, opt Options) (rec *Recommendation, recErr error, figs []*Figure, methods []string, err error) {
+func Build(st *studyview.View, opt Options) (rec *Recommendation, recErr error, figs []*Figure, methods []string, err error) {
 	if len(st.Settings) == 0 {
 		return nil, nil, nil, nil, errors.New("report: the study has no settings")
 	}
@@ -105,21 +106,21 @@ func Build(st *Study, opt Options) (rec *Recommendation, recErr error, figs []*F
 // figures/NAME.png for each figure, methods.md and index.html (last, so a
 // present index.html means a complete report). Every file is written
 // atomically (temporary file in the same directory, then rename).
-func Write(st *Study, dir string, opt Options) (*Output, error) {
+func Write(st *studyview.View, dir string, opt Options) (*Output, error) {
 	rec, recErr, figs, methods, err := Build(st, opt)
 	if err != nil {
 		return nil, err
 	}
 	out := &Output{Dir: dir, Index: filepath.Join(dir, "index.html"), Recommendation: rec, Figures: figs}
 	if rec != nil {
-		out.Chosen = st.Label(st.setting(rec.Chosen.ID))
+		out.Chosen = st.Label(st.Setting(rec.Chosen.ID))
 	}
 	figDir := filepath.Join(dir, "figures")
 	if err := os.MkdirAll(figDir, 0o755); err != nil {
 		return nil, fmt.Errorf("report: %w", err)
 	}
 	put := func(path string, data []byte) error {
-		if err := pq.WriteFile(path, data); err != nil {
+		if err := atomicfile.WriteFile(path, data); err != nil {
 			return fmt.Errorf("report: %w", err)
 		}
 		out.Files = append(out.Files, path)

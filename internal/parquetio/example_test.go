@@ -1,19 +1,19 @@
-package pq_test
+package parquetio_test
 
 import (
 	"fmt"
 	"os"
 	"path/filepath"
 
-	"plumb/internal/pq"
+	"plumb/internal/parquetio"
 )
 
 func ExampleWrite() {
-	dir, _ := os.MkdirTemp("", "pq")
+	dir, _ := os.MkdirTemp("", "parquetio")
 	defer os.RemoveAll(dir)
 	path := filepath.Join(dir, "t.parquet")
-	err := pq.Write(path, &pq.Table{
-		Columns: []pq.Column{
+	err := parquetio.Write(path, &parquetio.Table{
+		Columns: []parquetio.Column{
 			{Name: "point", Values: []int32{0, 1}},
 			{Name: "x", Values: []float64{0.5, -1}},
 			{Name: "label", Values: []string{"a", ""}, Nullable: true, Valid: []bool{true, false}},
@@ -24,7 +24,7 @@ func ExampleWrite() {
 		fmt.Println(err)
 		return
 	}
-	t, _ := pq.Read(path)
+	t, _ := parquetio.Read(path)
 	x, _ := t.Float64("x")
 	fmt.Println(t.Rows(), x, t.Column("label").IsNull(1), t.Meta["plumb.table"])
 	// Output: 2 [0.5 -1] true example

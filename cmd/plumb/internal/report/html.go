@@ -5,6 +5,9 @@ import (
 	"fmt"
 	"html"
 	"strings"
+
+	"plumb/cmd/plumb/internal/studyview"
+	"plumb/stability"
 )
 
 const css = `body{font-family:sans-serif;color:#222;max-width:1100px;margin:1.5em auto;padding:0 1em;line-height:1.45}
@@ -44,7 +47,7 @@ const sortJS = `(function(){
 })();`
 
 // page renders index.html.
-func page(st *Study, rec *Recommendation, recErr error, figs []*Figure, methods []string) []byte {
+func page(st *studyview.View, rec *Recommendation, recErr error, figs []*Figure, methods []string) []byte {
 	var b bytes.Buffer
 	h := html.EscapeString
 	w := func(format string, a ...any) { fmt.Fprintf(&b, format, a...) }
@@ -74,19 +77,19 @@ func page(st *Study, rec *Recommendation, recErr error, figs []*Figure, methods 
 	if rec == nil {
 		w("<p class=\"pick\">No recommendation: %s.</p>\n", h(strings.TrimPrefix(recErr.Error(), "report: ")))
 	} else {
-		s := st.setting(rec.Chosen.ID)
+		s := st.Setting(rec.Chosen.ID)
 		w("<div class=\"pick\"><p><strong>Recommended setting: %s</strong> (id <code>%s</code>).</p>\n", h(st.Label(s)), h(s.ID))
 		w("<p>Median over %d seeds: trustworthiness %s, seed-to-seed disparity %s, kNN Jaccard %s, final KL %s; %.1f%% of points unstable.</p>\n",
-			s.RunsDone, h(fmtSummary(s.Trust)), h(fmtSummary(s.Disparity)), h(fmtSummary(s.Jaccard)), h(fmtSummary(s.KL)), 100*s.UnstableShare)
+			s.RunsDone, h(fmtMedianIQR(s.Trustworthiness)), h(fmtMedianIQR(s.Disparity)), h(fmtMedianIQR(s.Jaccard)), h(fmtMedianIQR(s.KL)), 100*s.UnstableShare)
 		if rec.RunnerUp != nil {
-			ru := st.setting(rec.RunnerUp.ID)
+			ru := st.Setting(rec.RunnerUp.ID)
 			w("<p>Runner-up: <strong>%s</strong>. Decided at the <em>%s</em> step: the runner-up was not chosen because %s.</p>\n", h(st.Label(ru)), h(stepWords[rec.DecidedBy]), h(rec.Why))
 			w("<table><thead><tr><th class=\"l\">score</th><th>recommended</th><th>runner-up</th><th>recommended − runner-up</th></tr></thead><tbody>\n")
 			for _, row := range []struct {
 				name string
 				a, b float64
 			}{
-				{"trustworthiness (higher is better)", rec.Chosen.Trust, rec.RunnerUp.Trust},
+				{"trustworthiness (higher is better)", rec.Chosen.Trustworthiness, rec.RunnerUp.Trustworthiness},
 				{"disparity (lower is better)", rec.Chosen.Disparity, rec.RunnerUp.Disparity},
 				{"kNN Jaccard (higher is better)", rec.Chosen.Jaccard, rec.RunnerUp.Jaccard},
 				{"final KL (lower is better)", rec.Chosen.KL, rec.RunnerUp.KL},
@@ -100,7 +103,7 @@ func page(st *Study, rec *Recommendation, recErr error, figs []*Figure, methods 
 		if len(rec.Indistinguishable) > 0 {
 			var names []string
 			for _, id := range rec.Indistinguishable {
-				names = append(names, h(st.Label(st.setting(id))))
+				names = append(names, h(st.Label(st.Setting(id))))
 			}
 			w("<p>Indistinguishable from the recommendation (within tolerance or overlapping spread on both trustworthiness and disparity): %s. Any of these is as defensible on these numbers.</p>\n", strings.Join(names, "; "))
 		} else {
@@ -167,23 +170,23 @@ func rec0(r *Recommendation) Rule {
 	return r.Rule
 }
 
-func settingsTable(b *bytes.Buffer, st *Study, rec *Recommendation) {
+func settingsTable(b *bytes.Buffer, st *studyview.View, rec *Recommendation) {
 	h := html.EscapeString
 	varied := st.Varied()
 	cols := []struct {
 		name string
-		get  func(*Setting) Summary
+		get  func(*studyview.Setting) stability.MedianIQR
 	}{
-		{"trustworthiness", func(s *Setting) Summary { return s.Trust }},
-		{"continuity", func(s *Setting) Summary { return s.Continuity }},
-		{"kNN recall", func(s *Setting) Summary { return s.KNNRecall }},
-		{"distance Spearman", func(s *Setting) Summary { return s.Spearman }},
-		{"label accuracy", func(s *Setting) Summary { return s.LabelAccuracy }},
-		{"label purity", func(s *Setting) Summary { return s.LabelPurity }},
-		{"disparity", func(s *Setting) Summary { return s.Disparity }},
-		{"kNN Jaccard", func(s *Setting) Summary { return s.Jaccard }},
-		{"seed distance Spearman", func(s *Setting) Summary { return s.PairSpearman }},
-		{"final KL", func(s *Setting) Summary { return s.KL }},
+		{"trustworthiness", func(s *studyview.Setting) stability.MedianIQR { return s.Trustworthiness }},
+		{"continuity", func(s *studyview.Setting) stability.MedianIQR { return s.Continuity }},
+		{"kNN recall", func(s *studyview.Setting) stability.MedianIQR { return s.KNNRecall }},
+		{"distance Spearman", func(s *studyview.Setting) stability.MedianIQR { return s.DistanceSpearman }},
+		{"label accuracy", func(s *studyview.Setting) stability.MedianIQR { return s.LabelAccuracy }},
+		{"label purity", func(s *studyview.Setting) stability.MedianIQR { return s.LabelPurity }},
+		{"disparity", func(s *studyview.Setting) stability.MedianIQR { return s.Disparity }},
+		{"kNN Jaccard", func(s *studyview.Setting) stability.MedianIQR { return s.Jaccard }},
+		{"seed distance Spearman", func(s *studyview.Setting) stability.MedianIQR { return s.PairSpearman }},
+		{"final KL", func(s *studyview.Setting) stability.MedianIQR { return s.KL }},
 	}
 	// Leave out score columns with no value anywhere (e.g. label accuracy
 	// without labels).
@@ -256,7 +259,7 @@ var stepWords = map[string]string{
 }
 
 // seedless lists the settings whose seeds all gave the same map.
-func seedless(st *Study) []string {
+func seedless(st *studyview.View) []string {
 	var out []string
 	for i := range st.Settings {
 		s := &st.Settings[i]

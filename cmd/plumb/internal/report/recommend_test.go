@@ -13,7 +13,7 @@ import (
 // rule as stated in Rule.Words (default tolerances 0.01 / 0.01 / 0.02).
 func TestRecommendFollowsRule(t *testing.T) {
 	c := func(id string, trust, disp, jac, kl float64) Candidate {
-		return Candidate{ID: id, Runs: 5, Trust: trust, Disparity: disp, Jaccard: jac, KL: kl}
+		return Candidate{ID: id, Runs: 5, Trustworthiness: trust, Disparity: disp, Jaccard: jac, KL: kl}
 	}
 	cases := []struct {
 		name      string
@@ -76,7 +76,7 @@ func TestRecommendFollowsRule(t *testing.T) {
 			name: "single candidate has no runner-up",
 			cands: []Candidate{
 				c("a", 0.95, 0.02, 0.70, 1.0),
-				{ID: "b", Runs: 1, Trust: 0.99, Disparity: math.NaN(), Jaccard: math.NaN(), KL: 0.1},
+				{ID: "b", Runs: 1, Trustworthiness: 0.99, Disparity: math.NaN(), Jaccard: math.NaN(), KL: 0.1},
 			},
 			chosen: "a", ranking: []string{"a"},
 		},
@@ -113,14 +113,14 @@ func TestRecommendFollowsRule(t *testing.T) {
 
 func TestRecommendExclusionsAndIndistinguishable(t *testing.T) {
 	cands := []Candidate{
-		{ID: "a", Runs: 5, Trust: 0.950, TrustIQR: 0.004, Disparity: 0.030, DispIQR: 0.02, Jaccard: 0.7, KL: 1},
+		{ID: "a", Runs: 5, Trustworthiness: 0.950, TrustworthinessIQR: 0.004, Disparity: 0.030, DispIQR: 0.02, Jaccard: 0.7, KL: 1},
 		// Medians 0.015 apart on trust (beyond 0.01) but ranges overlap:
 		// 0.935±0.01 reaches 0.945, 0.950±0.002 reaches 0.948 — no overlap;
 		// with IQR 0.03 it reaches 0.950: overlap.
-		{ID: "b", Runs: 5, Trust: 0.935, TrustIQR: 0.030, Disparity: 0.035, DispIQR: 0.01, Jaccard: 0.7, KL: 1},
-		{ID: "c", Runs: 5, Trust: 0.800, TrustIQR: 0.001, Disparity: 0.030, DispIQR: 0.01, Jaccard: 0.7, KL: 1},
+		{ID: "b", Runs: 5, Trustworthiness: 0.935, TrustworthinessIQR: 0.030, Disparity: 0.035, DispIQR: 0.01, Jaccard: 0.7, KL: 1},
+		{ID: "c", Runs: 5, Trustworthiness: 0.800, TrustworthinessIQR: 0.001, Disparity: 0.030, DispIQR: 0.01, Jaccard: 0.7, KL: 1},
 		{ID: "d", Runs: 0},
-		{ID: "e", Runs: 3, Trust: math.NaN(), Disparity: 0.1, Jaccard: 0.5},
+		{ID: "e", Runs: 3, Trustworthiness: math.NaN(), Disparity: 0.1, Jaccard: 0.5},
 	}
 	rec, err := Recommend(cands, Rule{})
 	if err != nil {

@@ -7,6 +7,8 @@ import (
 	"strings"
 
 	"plumb/align"
+	"plumb/cmd/plumb/internal/studyview"
+	"plumb/stability"
 )
 
 // Figure is one rendered figure.
@@ -40,7 +42,7 @@ func shortName(p string) string {
 	return p
 }
 
-func (s *Study) shortLabel(st *Setting) string {
+func shortLabel(s *studyview.View, st *studyview.Setting) string {
 	var parts []string
 	for _, p := range s.Varied() {
 		parts = append(parts, shortName(p.Name)+" "+st.Param(p.Name))
@@ -165,7 +167,7 @@ func (m mapper) at(x, y float64) (float64, float64) {
 // scale by least squares would shrink maps that disagree with the
 // reference, s = tr Σ / ‖B‖², and make them look small.) It returns the
 // layouts by setting index (nil where a setting has no consensus).
-func alignedConsensus(st *Study, ref int) ([][]float64, error) {
+func alignedConsensus(st *studyview.View, ref int) ([][]float64, error) {
 	out := make([][]float64, len(st.Settings))
 	base := st.Settings[ref].Consensus
 	rb := rmsRadius(base)
@@ -227,7 +229,7 @@ func gridDims(n int) (cols, rows int) {
 }
 
 // layoutsFigure draws the aligned small multiples.
-func layoutsFigure(st *Study, ref int, chosen string) (*Figure, error) {
+func layoutsFigure(st *studyview.View, ref int, chosen string) (*Figure, error) {
 	aligned, err := alignedConsensus(st, ref)
 	if err != nil {
 		return nil, err
@@ -259,7 +261,7 @@ func layoutsFigure(st *Study, ref int, chosen string) (*Figure, error) {
 		s := &st.Settings[i]
 		px := 10 + float64(i%cols)*(panel+14)
 		py := 30 + float64(i/cols)*(panel+head+8)
-		title := fmt.Sprintf("#%d %s", i+1, st.shortLabel(s))
+		title := fmt.Sprintf("#%d %s", i+1, shortLabel(st, s))
 		if s.ID == chosen {
 			title += " (recommended)"
 		}
@@ -313,16 +315,16 @@ func layoutsFigure(st *Study, ref int, chosen string) (*Figure, error) {
 	} else {
 		colourBar(c, 14, ly, 200, "per-point spread (0 to 95th percentile)")
 	}
-	cap := "One panel per setting: the consensus of its seeds, rotated and reflected by ordinary Procrustes onto the reference setting and scaled to its size so that panels are comparable; the few points beyond the 0.5th–99.5th percentile box are drawn on the frame. Where seeds disagree (high disparity) the consensus is an average of different maps and can place points between their positions in any single run. "
+	caption := "One panel per setting: the consensus of its seeds, rotated and reflected by ordinary Procrustes onto the reference setting and scaled to its size so that panels are comparable; the few points beyond the 0.5th–99.5th percentile box are drawn on the frame. Where seeds disagree (high disparity) the consensus is an average of different maps and can place points between their positions in any single run. "
 	if cols2 != nil {
-		cap += "Colour shows the label (" + st.Input.LabelColumn + "). "
+		caption += "Colour shows the label (" + st.Input.LabelColumn + "). "
 	} else {
-		cap += "Colour shows each point's spread across seeds (darker = less stable). "
+		caption += "Colour shows each point's spread across seeds (darker = less stable). "
 	}
 	if len(idx) < len(st.IDs) {
-		cap += fmt.Sprintf("%d of %d points drawn (evenly spaced subset). ", len(idx), len(st.IDs))
+		caption += fmt.Sprintf("%d of %d points drawn (evenly spaced subset). ", len(idx), len(st.IDs))
 	}
-	return finish(c, "layouts", cap)
+	return finish(c, "layouts", caption)
 }
 
 func colourBar(c *canvas, x, y, w float64, label string) {
@@ -368,8 +370,8 @@ func finish(c *canvas, name, caption string) (*Figure, error) {
 	return &Figure{Name: name, Caption: caption, SVG: c.svg(), PNG: p}, nil
 }
 
-// quantile returns the q-quantile of the finite values (linear
-// interpolation between order statistics, as numpy's default), NaN if none.
+// quantile returns stability.Quantile of the finite values of v, NaN if
+// none.
 func quantile(v []float64, q float64) float64 {
 	var s []float64
 	for _, x := range v {
@@ -377,35 +379,26 @@ func quantile(v []float64, q float64) float64 {
 			s = append(s, x)
 		}
 	}
-	if len(s) == 0 {
-		return math.NaN()
-	}
-	sort.Float64s(s)
-	pos := q * float64(len(s)-1)
-	i := int(pos)
-	if i >= len(s)-1 {
-		return s[len(s)-1]
-	}
-	return s[i] + (pos-float64(i))*(s[i+1]-s[i])
+	return stability.Quantile(s, q)
 }
 
 // scoreDef names one headline score for heatmaps and tables.
 type scoreDef struct {
 	key, title  string
 	lowerBetter bool
-	get         func(*Setting) Summary
+	get         func(*studyview.Setting) stability.MedianIQR
 }
 
 var headline = []scoreDef{
-	{"disparity", "median seed-to-seed Procrustes disparity", true, func(s *Setting) Summary { return s.Disparity }},
-	{"jaccard", "median seed-to-seed kNN Jaccard", false, func(s *Setting) Summary { return s.Jaccard }},
-	{"trustworthiness", "median trustworthiness", false, func(s *Setting) Summary { return s.Trust }},
-	{"kl", "median final KL divergence", true, func(s *Setting) Summary { return s.KL }},
+	{"disparity", "median seed-to-seed Procrustes disparity", true, func(s *studyview.Setting) stability.MedianIQR { return s.Disparity }},
+	{"jaccard", "median seed-to-seed kNN Jaccard", false, func(s *studyview.Setting) stability.MedianIQR { return s.Jaccard }},
+	{"trustworthiness", "median trustworthiness", false, func(s *studyview.Setting) stability.MedianIQR { return s.Trustworthiness }},
+	{"kl", "median final KL divergence", true, func(s *studyview.Setting) stability.MedianIQR { return s.KL }},
 }
 
 // heatmapAxes picks the two parameters on the axes (the first two that
 // vary; perplexity first when it varies) and the facet parameters.
-func heatmapAxes(st *Study) (x, y *Param, facets []Param) {
+func heatmapAxes(st *studyview.View) (x, y *studyview.Param, facets []studyview.Param) {
 	v := st.Varied()
 	sort.SliceStable(v, func(i, j int) bool { return v[i].Name == "perplexity" && v[j].Name != "perplexity" })
 	if len(v) > 0 {
@@ -420,7 +413,7 @@ func heatmapAxes(st *Study) (x, y *Param, facets []Param) {
 	return
 }
 
-func facetKey(s *Setting, facets []Param) string {
+func facetKey(s *studyview.Setting, facets []studyview.Param) string {
 	var parts []string
 	for _, f := range facets {
 		parts = append(parts, shortName(f.Name)+" "+s.Param(f.Name))
@@ -445,7 +438,7 @@ func fmtScore(x float64) string {
 
 // heatmapFigure draws one score over two parameters, one facet per
 // combination of the other varied parameters.
-func heatmapFigure(st *Study, sd scoreDef) (*Figure, error) {
+func heatmapFigure(st *studyview.View, sd scoreDef) (*Figure, error) {
 	xp, yp, facets := heatmapAxes(st)
 	xs, ys := []string{""}, []string{""}
 	if xp != nil {
@@ -496,7 +489,7 @@ func heatmapFigure(st *Study, sd scoreDef) (*Figure, error) {
 				c.text(ox+left-6, top+float64(yi)*ch+ch/2+4, shortName(yp.Name)+" "+yv, 11, "end", black)
 			}
 			for xi, xv := range xs {
-				var s *Setting
+				var s *studyview.Setting
 				for i := range st.Settings {
 					t := &st.Settings[i]
 					if facetKey(t, facets) != key {
@@ -537,13 +530,13 @@ func heatmapFigure(st *Study, sd scoreDef) (*Figure, error) {
 			c.text(ox+left+float64(len(xs))*cw/2, top+float64(len(ys))*ch+30, xp.Name, 11, "middle", black)
 		}
 	}
-	cap := fmt.Sprintf("The %s of each setting (%s). Cells are coloured from the smallest value in the study (light) to the largest (dark); hover a cell in the page for the IQR.", sd.title, better)
-	return finish(c, "heatmap-"+sd.key, cap)
+	caption := fmt.Sprintf("The %s of each setting (%s). Cells are coloured from the smallest value in the study (light) to the largest (dark); hover a cell in the page for the IQR.", sd.title, better)
+	return finish(c, "heatmap-"+sd.key, caption)
 }
 
 // stabilityFigure draws the chosen setting's consensus coloured by spread,
 // unstable points ringed.
-func stabilityFigure(st *Study, si int) (*Figure, error) {
+func stabilityFigure(st *studyview.View, si int) (*Figure, error) {
 	s := &st.Settings[si]
 	size := 460.0
 	c := newCanvas(size+260, size+70, "Per-point stability of the recommended setting")
@@ -580,9 +573,9 @@ func stabilityFigure(st *Study, si int) (*Figure, error) {
 	c.text(lx, 104, fmt.Sprintf("(0 to %s, the 95th pct.)", fmtScore(smax)), 10, "start", grey)
 	c.ring(lx+5, 126, 4.5, hexColor("#c0392b"))
 	c.text(lx+16, 130, "flagged unstable", 11, "start", black)
-	cap := fmt.Sprintf("The consensus layout of %s; each point's colour is its spread across the %d finished seeds (distance from the consensus after alignment), red rings mark points flagged unstable (%.1f%% of all).",
+	caption := fmt.Sprintf("The consensus layout of %s; each point's colour is its spread across the %d finished seeds (distance from the consensus after alignment), red rings mark points flagged unstable (%.1f%% of all).",
 		st.Label(s), s.RunsDone, 100*s.UnstableShare)
-	return finish(c, "stability", cap)
+	return finish(c, "stability", caption)
 }
 
 // jitter returns a fixed offset in [-1, 1] for the k-th point of a strip.
@@ -600,12 +593,12 @@ func jitter(k int) float64 {
 }
 
 // spreadFigure draws seed-to-seed strip plots of four scores.
-func spreadFigure(st *Study) (*Figure, error) {
+func spreadFigure(st *studyview.View) (*Figure, error) {
 	type row struct {
 		title string
 		vals  func(id string) []float64
 	}
-	runVals := func(get func(*Run) float64) func(string) []float64 {
+	runVals := func(get func(*studyview.Run) float64) func(string) []float64 {
 		return func(id string) []float64 {
 			var v []float64
 			for i := range st.Runs {
@@ -617,7 +610,7 @@ func spreadFigure(st *Study) (*Figure, error) {
 			return v
 		}
 	}
-	pairVals := func(get func(*Pair) float64) func(string) []float64 {
+	pairVals := func(get func(*studyview.Pair) float64) func(string) []float64 {
 		return func(id string) []float64 {
 			var v []float64
 			for i := range st.Pairs {
@@ -629,10 +622,10 @@ func spreadFigure(st *Study) (*Figure, error) {
 		}
 	}
 	rows := []row{
-		{"trustworthiness per run", runVals(func(r *Run) float64 { return r.Trust })},
-		{"final KL divergence per run", runVals(func(r *Run) float64 { return r.KL })},
-		{"Procrustes disparity per pair of runs", pairVals(func(p *Pair) float64 { return p.Disparity })},
-		{"kNN Jaccard per pair of runs", pairVals(func(p *Pair) float64 { return p.Jaccard })},
+		{"trustworthiness per run", runVals(func(r *studyview.Run) float64 { return r.Trustworthiness })},
+		{"final KL divergence per run", runVals(func(r *studyview.Run) float64 { return r.KL })},
+		{"Procrustes disparity per pair of runs", pairVals(func(p *studyview.Pair) float64 { return p.Disparity })},
+		{"kNN Jaccard per pair of runs", pairVals(func(p *studyview.Pair) float64 { return p.Jaccard })},
 	}
 	n := len(st.Settings)
 	colW := math.Max(36, math.Min(80, 760/float64(max(n, 1))))
@@ -687,7 +680,7 @@ func spreadFigure(st *Study) (*Figure, error) {
 }
 
 // traceFigure draws the KL traces, one panel per setting, shared axes.
-func traceFigure(st *Study) (*Figure, error) {
+func traceFigure(st *studyview.View) (*Figure, error) {
 	n := len(st.Settings)
 	cols, rows := gridDims(n)
 	pw, ph := 210.0, 120.0
@@ -715,7 +708,7 @@ func traceFigure(st *Study) (*Figure, error) {
 		s := &st.Settings[i]
 		px := 50 + float64(i%cols)*(pw+20)
 		py := 34 + float64(i/cols)*(ph+44)
-		c.text(px, py+10, fmt.Sprintf("#%d %s", i+1, truncate(st.shortLabel(s), 32)), 11, "start", black)
+		c.text(px, py+10, fmt.Sprintf("#%d %s", i+1, truncate(shortLabel(st, s), 32)), 11, "start", black)
 		top := py + 16
 		c.rect(px, top, pw, ph, rgb{0xfa, 0xfa, 0xfa}, &light, "")
 		k := 0

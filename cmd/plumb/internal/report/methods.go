@@ -5,6 +5,9 @@ import (
 	"math"
 	"sort"
 	"strings"
+
+	"plumb/cmd/plumb/internal/studyview"
+	"plumb/stability"
 )
 
 // paramWords gives the usual parameter names a reader-friendly form.
@@ -32,7 +35,7 @@ func paramWords(name string) string {
 
 // scoreRange returns the smallest and largest finite median of a score
 // across settings.
-func scoreRange(st *Study, get func(*Setting) Summary) (lo, hi float64) {
+func scoreRange(st *studyview.View, get func(*studyview.Setting) stability.MedianIQR) (lo, hi float64) {
 	lo, hi = math.Inf(1), math.Inf(-1)
 	for i := range st.Settings {
 		if v := get(&st.Settings[i]).Median; finite(v) {
@@ -53,7 +56,7 @@ func seedList(s []uint64) string {
 	return strings.Join(p, ", ")
 }
 
-func fmtSummary(s Summary) string {
+func fmtMedianIQR(s stability.MedianIQR) string {
 	if !finite(s.Median) {
 		return "not available"
 	}
@@ -63,7 +66,7 @@ func fmtSummary(s Summary) string {
 // Methods returns the methods paragraph(s) for the study and the
 // recommendation (rec may be nil), as plain text ready to paste: one
 // string per paragraph.
-func Methods(st *Study, rec *Recommendation) []string {
+func Methods(st *studyview.View, rec *Recommendation) []string {
 	var varied, fixed []string
 	for _, p := range st.Grid {
 		if len(p.Values) > 1 {
@@ -117,29 +120,29 @@ func Methods(st *Study, rec *Recommendation) []string {
 		fmt.Fprintf(&b, ", on a fixed sample of %d points", st.Sampled)
 	}
 	b.WriteString(". ")
-	dlo, dhi := scoreRange(st, func(s *Setting) Summary { return s.Disparity })
-	jlo, jhi := scoreRange(st, func(s *Setting) Summary { return s.Jaccard })
-	tlo, thi := scoreRange(st, func(s *Setting) Summary { return s.Trust })
-	klo, khi := scoreRange(st, func(s *Setting) Summary { return s.KL })
+	dlo, dhi := scoreRange(st, func(s *studyview.Setting) stability.MedianIQR { return s.Disparity })
+	jlo, jhi := scoreRange(st, func(s *studyview.Setting) stability.MedianIQR { return s.Jaccard })
+	tlo, thi := scoreRange(st, func(s *studyview.Setting) stability.MedianIQR { return s.Trustworthiness })
+	klo, khi := scoreRange(st, func(s *studyview.Setting) stability.MedianIQR { return s.KL })
 	fmt.Fprintf(&b, "Across settings, the median seed-to-seed disparity ranged from %s to %s, the median kNN Jaccard from %s to %s, the median trustworthiness from %s to %s and the median final KL divergence from %s to %s.",
 		fmtScore(dlo), fmtScore(dhi), fmtScore(jlo), fmtScore(jhi), fmtScore(tlo), fmtScore(thi), fmtScore(klo), fmtScore(khi))
 	paras := []string{b.String()}
 
 	if rec != nil {
-		s := st.setting(rec.Chosen.ID)
+		s := st.Setting(rec.Chosen.ID)
 		var r strings.Builder
 		fmt.Fprintf(&r, "Following a stated rule (faithfulness first: median trustworthiness within %g of the best; then stability: median disparity within %g of the lowest, then median Jaccard within %g of the highest; then the lowest median KL), we chose %s. ",
 			rec.Rule.TrustTolerance, rec.Rule.DisparityTolerance, rec.Rule.JaccardTolerance, st.Label(s))
 		fmt.Fprintf(&r, "Over its %d finished seeds it had median trustworthiness %s, seed-to-seed disparity %s, kNN Jaccard %s and final KL divergence %s; %.1f%% of its points were flagged unstable.",
-			s.RunsDone, fmtSummary(s.Trust), fmtSummary(s.Disparity), fmtSummary(s.Jaccard), fmtSummary(s.KL), 100*s.UnstableShare)
+			s.RunsDone, fmtMedianIQR(s.Trustworthiness), fmtMedianIQR(s.Disparity), fmtMedianIQR(s.Jaccard), fmtMedianIQR(s.KL), 100*s.UnstableShare)
 		if rec.RunnerUp != nil {
-			ru := st.setting(rec.RunnerUp.ID)
+			ru := st.Setting(rec.RunnerUp.ID)
 			fmt.Fprintf(&r, " The runner-up, %s, was not chosen because %s.", st.Label(ru), rec.Why)
 		}
 		if len(rec.Indistinguishable) > 0 {
 			var names []string
 			for _, id := range rec.Indistinguishable {
-				names = append(names, st.Label(st.setting(id)))
+				names = append(names, st.Label(st.Setting(id)))
 			}
 			sort.Strings(names)
 			fmt.Fprintf(&r, " Within the tolerances or the seed-to-seed spread, %s could not be told apart from it.", strings.Join(names, "; "))
@@ -150,7 +153,7 @@ func Methods(st *Study, rec *Recommendation) []string {
 }
 
 // MethodsMarkdown is the content of methods.md.
-func MethodsMarkdown(st *Study, rec *Recommendation) string {
+func MethodsMarkdown(st *studyview.View, rec *Recommendation) string {
 	var b strings.Builder
 	b.WriteString("# Methods\n\n")
 	for _, p := range Methods(st, rec) {
@@ -211,3 +214,5 @@ func contains(v []string, s string) bool {
 	}
 	return false
 }
+
+func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }

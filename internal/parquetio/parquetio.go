@@ -1,4 +1,4 @@
-package pq
+package parquetio
 
 import (
 	"context"
@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"path/filepath"
 	"slices"
 	"sort"
 
@@ -17,6 +16,8 @@ import (
 	"github.com/apache/arrow-go/v18/parquet/compress"
 	"github.com/apache/arrow-go/v18/parquet/file"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
+
+	"plumb/internal/atomicfile"
 )
 
 // Column is one named column of a Table.
@@ -130,11 +131,11 @@ func (t *Table) Bool(name string) ([]bool, error) { return typed[bool](t, name, 
 // directory must exist.
 func Write(path string, t *Table) error {
 	if err := validate(t); err != nil {
-		return fmt.Errorf("pq: write %s: %w", path, err)
+		return fmt.Errorf("parquetio: write %s: %w", path, err)
 	}
-	err := WriteAtomic(path, func(f *os.File) error { return encode(f, t) })
+	err := atomicfile.Write(path, func(f *os.File) error { return encode(f, t) })
 	if err != nil {
-		return fmt.Errorf("pq: write %s: %w", path, err)
+		return fmt.Errorf("parquetio: write %s: %w", path, err)
 	}
 	return nil
 }
@@ -245,66 +246,6 @@ func encode(f *os.File, t *Table) error {
 	return fw.Close()
 }
 
-// WriteAtomic creates path atomically: fill is called with a temporary file
-// in path's directory (named ".BASE.tmp-RANDOM"); if it succeeds the file
-// is synced, closed and renamed to path and the directory is synced. On
-// any error the temporary file is removed and path is left untouched.
-func WriteAtomic(path string, fill func(f *os.File) error) (err error) {
-	dir, base := filepath.Split(path)
-	if dir == "" {
-		dir = "."
-	}
-	f, err := os.CreateTemp(dir, "."+base+".tmp-*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	defer func() {
-		if err != nil {
-			f.Close()
-			os.Remove(tmp)
-		}
-	}()
-	if err = fill(f); err != nil {
-		return err
-	}
-	// os.CreateTemp makes the file 0600; give it 0644, the mode files
-	// usually get, so a study on a shared file system is readable by others.
-	if err = f.Chmod(0o644); err != nil {
-		return err
-	}
-	if err = f.Sync(); err != nil {
-		return err
-	}
-	if err = f.Close(); err != nil {
-		return err
-	}
-	if err = os.Rename(tmp, path); err != nil {
-		return err
-	}
-	if d, derr := os.Open(dir); derr == nil {
-		// Best effort: some file systems do not support syncing a directory.
-		d.Sync()
-		d.Close()
-	}
-	return nil
-}
-
-// WriteFile writes data to path atomically (see WriteAtomic).
-func WriteFile(path string, data []byte) error {
-	return WriteAtomic(path, func(f *os.File) error {
-		_, err := f.Write(data)
-		return err
-	})
-}
-
-// TempPattern returns the glob matching the temporary files WriteAtomic
-// may leave behind for path when the process is killed mid-write.
-func TempPattern(path string) string {
-	dir, base := filepath.Split(path)
-	return filepath.Join(dir, "."+base+".tmp-*")
-}
-
 // ErrCorrupt is wrapped by the errors Read returns for files that are not
 // valid Parquet or hold unsupported column types.
 var ErrCorrupt = errors.New("not a readable Parquet table")
@@ -317,15 +258,15 @@ func Read(path string) (t *Table, err error) {
 		// The Parquet decoder may panic on some corrupt inputs; a corrupt
 		// file is a data error, never a crash.
 		if r := recover(); r != nil {
-			t, err = nil, fmt.Errorf("pq: read %s: %w (%v)", path, ErrCorrupt, r)
+			t, err = nil, fmt.Errorf("parquetio: read %s: %w (%v)", path, ErrCorrupt, r)
 		}
 	}()
 	rdr, err := file.OpenParquetFile(path, false)
 	if err != nil {
 		if errors.Is(err, os.ErrNotExist) {
-			return nil, fmt.Errorf("pq: read %s: %w", path, err)
+			return nil, fmt.Errorf("parquetio: read %s: %w", path, err)
 		}
-		return nil, fmt.Errorf("pq: read %s: %w (%v)", path, ErrCorrupt, err)
+		return nil, fmt.Errorf("parquetio: read %s: %w (%v)", path, ErrCorrupt, err)
 	}
 	defer rdr.Close()
 	t = &Table{Meta: map[string]string{}}
@@ -336,11 +277,11 @@ func Read(path string) (t *Table, err error) {
 	mem := memory.NewGoAllocator()
 	fr, err := pqarrow.NewFileReader(rdr, pqarrow.ArrowReadProperties{}, mem)
 	if err != nil {
-		return nil, fmt.Errorf("pq: read %s: %w (%v)", path, ErrCorrupt, err)
+		return nil, fmt.Errorf("parquetio: read %s: %w (%v)", path, ErrCorrupt, err)
 	}
 	tbl, err := fr.ReadTable(context.Background())
 	if err != nil {
-		return nil, fmt.Errorf("pq: read %s: %w (%v)", path, ErrCorrupt, err)
+		return nil, fmt.Errorf("parquetio: read %s: %w (%v)", path, ErrCorrupt, err)
 	}
 	defer tbl.Release()
 	n := int(tbl.NumRows())
@@ -348,7 +289,7 @@ func Read(path string) (t *Table, err error) {
 		col := tbl.Column(i)
 		c, err := convert(col, n)
 		if err != nil {
-			return nil, fmt.Errorf("pq: read %s: column %q: %w", path, col.Name(), err)
+			return nil, fmt.Errorf("parquetio: read %s: column %q: %w", path, col.Name(), err)
 		}
 		t.Columns = append(t.Columns, c)
 	}
@@ -408,15 +349,15 @@ func gather[T any, A interface {
 func ReadMeta(path string) (meta map[string]string, rows int64, err error) {
 	defer func() {
 		if r := recover(); r != nil {
-			meta, rows, err = nil, 0, fmt.Errorf("pq: read %s: %w (%v)", path, ErrCorrupt, r)
+			meta, rows, err = nil, 0, fmt.Errorf("parquetio: read %s: %w (%v)", path, ErrCorrupt, r)
 		}
 	}()
 	rdr, err := file.OpenParquetFile(path, false)
 	if err != nil {
 		if errors.Is(err, os.ErrNotExist) {
-			return nil, 0, fmt.Errorf("pq: read %s: %w", path, err)
+			return nil, 0, fmt.Errorf("parquetio: read %s: %w", path, err)
 		}
-		return nil, 0, fmt.Errorf("pq: read %s: %w (%v)", path, ErrCorrupt, err)
+		return nil, 0, fmt.Errorf("parquetio: read %s: %w (%v)", path, ErrCorrupt, err)
 	}
 	defer rdr.Close()
 	meta = map[string]string{}

@@ -9,42 +9,43 @@ import (
 	"strings"
 	"testing"
 
-	"plumb/internal/report"
+	"plumb/cmd/plumb/internal/studyview"
+	"plumb/stability"
 )
 
 // study builds a seeded synthetic study (two settings, 90 points in three
 // blobs) for the gate's property tests.
-func study(fp string) *report.Study {
+func study(fp string) *studyview.View {
 	r := rand.New(rand.NewPCG(5, 6))
 	n := 90
-	st := &report.Study{Dir: "s", Input: report.Input{Fingerprint: fp, N: n, D: 4}, K: 10}
+	st := &studyview.View{Dir: "s", Input: studyview.Input{Fingerprint: fp, N: n, D: 4}, K: 10}
 	for i := 0; i < n; i++ {
 		st.IDs = append(st.IDs, fmt.Sprintf("p%02d", i))
 	}
 	for si, perp := range []string{"10", "30"} {
-		s := report.Setting{ID: "set" + perp, RunsDone: 3, Runs: 3,
-			Params: []report.Field{{Name: "perplexity", Value: perp}, {Name: "iters", Value: "1000"}}}
+		s := studyview.Setting{ID: "set" + perp, RunsDone: 3, Runs: 3,
+			Params: []studyview.Field{{Name: "perplexity", Value: perp}, {Name: "iters", Value: "1000"}}}
 		s.Consensus = make([]float64, 2*n)
 		for i := 0; i < n; i++ {
 			g := float64(i % 3)
 			s.Consensus[2*i] = 10*g + r.NormFloat64()
 			s.Consensus[2*i+1] = 5*g*float64(si+1) + r.NormFloat64()
 		}
-		s.Trust = report.Summary{Median: 0.95, IQR: 0.01}
-		s.Disparity = report.Summary{Median: 0.01, IQR: 0.005}
-		s.Jaccard = report.Summary{Median: 0.8, IQR: 0.02}
-		s.KL = report.Summary{Median: 1.0, IQR: 0.02}
+		s.Trustworthiness = stability.MedianIQR{Median: 0.95, IQR: 0.01}
+		s.Disparity = stability.MedianIQR{Median: 0.01, IQR: 0.005}
+		s.Jaccard = stability.MedianIQR{Median: 0.8, IQR: 0.02}
+		s.KL = stability.MedianIQR{Median: 1.0, IQR: 0.02}
 		st.Settings = append(st.Settings, s)
 	}
 	return st
 }
 
-func clone(s *report.Study) *report.Study {
+func clone(s *studyview.View) *studyview.View {
 	c := *s
 	c.Settings = nil
 	for _, st := range s.Settings {
 		st.Consensus = append([]float64(nil), st.Consensus...)
-		st.Params = append([]report.Field(nil), st.Params...)
+		st.Params = append([]studyview.Field(nil), st.Params...)
 		c.Settings = append(c.Settings, st)
 	}
 	c.IDs = append([]string(nil), s.IDs...)
@@ -142,13 +143,13 @@ func TestMovedClusterRegresses(t *testing.T) {
 func TestScoreChangesRegress(t *testing.T) {
 	cases := []struct {
 		name string
-		edit func(*report.Setting)
+		edit func(*studyview.Setting)
 		want string
 	}{
-		{"trust drop", func(s *report.Setting) { s.Trust.Median -= 0.02 }, "trustworthiness fell"},
-		{"stability loss", func(s *report.Setting) { s.Disparity.Median += 0.06 }, "seed-to-seed disparity rose"},
-		{"jaccard loss", func(s *report.Setting) { s.Jaccard.Median -= 0.06 }, "seed-to-seed Jaccard fell"},
-		{"kl rise", func(s *report.Setting) { s.KL.Median *= 1.06 }, "final KL rose"},
+		{"trust drop", func(s *studyview.Setting) { s.Trustworthiness.Median -= 0.02 }, "trustworthiness fell"},
+		{"stability loss", func(s *studyview.Setting) { s.Disparity.Median += 0.06 }, "seed-to-seed disparity rose"},
+		{"jaccard loss", func(s *studyview.Setting) { s.Jaccard.Median -= 0.06 }, "seed-to-seed Jaccard fell"},
+		{"kl rise", func(s *studyview.Setting) { s.KL.Median *= 1.06 }, "final KL rose"},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
@@ -168,7 +169,7 @@ func TestScoreChangesRegress(t *testing.T) {
 	base := study("fp1")
 	cur := clone(base)
 	s := &cur.Settings[0]
-	s.Trust.Median -= 0.009
+	s.Trustworthiness.Median -= 0.009
 	s.Disparity.Median += 0.049
 	s.KL.Median *= 1.049
 	if res, _ := Compare(base, cur, Options{}); res.Outcome != Pass {

@@ -1,4 +1,4 @@
-// Package pq writes and reads the small, flat Parquet tables of a plumb
+// Package parquetio writes and reads the small, flat Parquet tables of a plumb
 // study: a list of named, typed columns of equal length plus file-level
 // key-value metadata.
 //
@@ -17,4 +17,4 @@
 //   - Apache Parquet format specification, https://parquet.apache.org/docs/file-format/
 //   - Apache Arrow for Go, github.com/apache/arrow-go/v18 (pqarrow).
 //   - POSIX rename(2): replacing a file within one file system is atomic.
-package pq
+package parquetio

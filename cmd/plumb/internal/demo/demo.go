@@ -10,7 +10,7 @@ import (
 	"path/filepath"
 	"strconv"
 
-	"plumb/internal/pq"
+	"plumb/internal/atomicfile"
 )
 
 // Channel is one numeric column of the demo data with the affine map from
@@ -182,7 +182,7 @@ func WriteCSV(dir string, d *Data) (string, error) {
 		return "", fmt.Errorf("demo: %w", err)
 	}
 	path := filepath.Join(dir, FileName)
-	if err := pq.WriteFile(path, d.CSV()); err != nil {
+	if err := atomicfile.WriteFile(path, d.CSV()); err != nil {
 		return "", fmt.Errorf("demo: %w", err)
 	}
 	return path, nil

@@ -1,4 +1,4 @@
-package report
+package studyview
 
 import (
 	"fmt"
@@ -7,6 +7,7 @@ import (
 	"strconv"
 	"strings"
 
+	"plumb/stability"
 	"plumb/sweep"
 )
 
@@ -28,16 +29,16 @@ func lrText(v float64) string {
 	return ff(v)
 }
 
-// FromSweep adapts a study opened with sweep.Open to the report model:
+// FromSweep adapts a study opened with sweep.Open to the read model:
 // plan, input, the score tables, the consensus layouts and, for finished
 // runs, the KL traces (a missing trace file leaves that run without one).
 // The study must have been scored.
-func FromSweep(s *sweep.Study) (*Study, error) {
+func FromSweep(s *sweep.Study) (*View, error) {
 	if s.SettingScores == nil {
 		return nil, &NotScoredError{Dir: s.Dir}
 	}
 	info, plan := s.Info, s.Plan
-	st := &Study{Dir: s.Dir, Tool: "plumb", Version: info.Version, Created: info.Created, PlanHash: info.PlanHash,
+	st := &View{Dir: s.Dir, Tool: "plumb", Version: info.Version, Created: info.Created, PlanHash: info.PlanHash,
 		Seeds: append([]uint64(nil), plan.Seeds...), K: s.ScoresK}
 	in := info.Input
 	pre := "none"
@@ -160,7 +161,6 @@ func FromSweep(s *sweep.Study) (*Study, error) {
 	for i := range s.SettingScores {
 		scores[s.SettingScores[i].ID] = &s.SettingScores[i]
 	}
-	sum := func(v sweep.Spread) Summary { return Summary{v.Median, v.IQR} }
 	index := map[string]int{}
 	for _, ps := range s.Settings {
 		set := Setting{ID: ps.ID, Runs: len(plan.Seeds), Params: []Field{
@@ -171,16 +171,16 @@ func FromSweep(s *sweep.Study) (*Study, error) {
 		if withTheta {
 			set.Params = append(set.Params, Field{"theta", ff(ps.Theta)})
 		}
-		nan := Summary{math.NaN(), math.NaN()}
-		set.Disparity, set.Jaccard, set.Trust, set.Continuity = nan, nan, nan, nan
-		set.KNNRecall, set.Spearman, set.LabelAccuracy, set.KL = nan, nan, nan, nan
+		nan := stability.MedianIQR{Median: math.NaN(), IQR: math.NaN()}
+		set.Disparity, set.Jaccard, set.Trustworthiness, set.Continuity = nan, nan, nan, nan
+		set.KNNRecall, set.DistanceSpearman, set.LabelAccuracy, set.KL = nan, nan, nan, nan
 		set.PairSpearman, set.LabelPurity = nan, nan
 		if sc := scores[ps.ID]; sc != nil {
 			set.RunsDone = sc.RunsDone
-			set.Disparity, set.Jaccard = sum(sc.Disparity), sum(sc.Jaccard)
-			set.Trust, set.Continuity, set.KNNRecall = sum(sc.Trustworthiness), sum(sc.Continuity), sum(sc.KNNRecall)
-			set.Spearman, set.LabelAccuracy, set.KL = sum(sc.DistSpearman), sum(sc.LabelAccuracy), sum(sc.KL)
-			set.PairSpearman, set.LabelPurity = sum(sc.PairSpearman), sum(sc.LabelPurity)
+			set.Disparity, set.Jaccard = sc.Disparity, sc.Jaccard
+			set.Trustworthiness, set.Continuity, set.KNNRecall = sc.Trustworthiness, sc.Continuity, sc.KNNRecall
+			set.DistanceSpearman, set.LabelAccuracy, set.KL = sc.DistanceSpearman, sc.LabelAccuracy, sc.KL
+			set.PairSpearman, set.LabelPurity = sc.PairSpearman, sc.LabelPurity
 			set.UnstableShare = sc.UnstableShare
 		}
 		index[ps.ID] = len(st.Settings)
@@ -208,10 +208,10 @@ func FromSweep(s *sweep.Study) (*Study, error) {
 	for _, r := range s.Rows {
 		run := Run{ID: r.RunID, SettingID: r.SettingID, Seed: r.Seed, Status: r.Status, Error: r.Error, KL: r.KL,
 			Iters: r.IterationsDone, Seconds: r.Seconds,
-			Trust: math.NaN(), Continuity: math.NaN(), KNNRecall: math.NaN(), Spearman: math.NaN(), LabelAccuracy: math.NaN()}
+			Trustworthiness: math.NaN(), Continuity: math.NaN(), KNNRecall: math.NaN(), DistanceSpearman: math.NaN(), LabelAccuracy: math.NaN()}
 		if rs := runScore[r.RunID]; rs != nil {
-			run.Trust, run.Continuity, run.KNNRecall = rs.Trustworthiness, rs.Continuity, rs.KNNRecall
-			run.Spearman, run.LabelAccuracy = rs.DistSpearman, rs.LabelAccuracy
+			run.Trustworthiness, run.Continuity, run.KNNRecall = rs.Trustworthiness, rs.Continuity, rs.KNNRecall
+			run.DistanceSpearman, run.LabelAccuracy = rs.DistanceSpearman, rs.LabelAccuracy
 		}
 		if r.Status == sweep.StatusDone {
 			if tr, err := s.Trace(r.RunID); err == nil {
@@ -229,7 +229,7 @@ func FromSweep(s *sweep.Study) (*Study, error) {
 }
 
 // Open reads the study in dir with sweep.Open and adapts it (FromSweep).
-func Open(dir string) (*Study, error) {
+func Open(dir string) (*View, error) {
 	s, err := sweep.Open(dir)
 	if err != nil {
 		return nil, err

@@ -1,14 +1,16 @@
-package report
+package studyview
 
 import (
-	"math"
 	"strings"
+
+	"plumb/stability"
 )
 
-// Study is everything a report is made from: the plan, the input, and the
-// score tables of one study directory, already read into memory. The sweep
-// package's reader is adapted to it by FromSweep; tests build it by hand.
-type Study struct {
+// View is everything a report or a gate is made from: the plan, the input,
+// and the score tables of one study directory, already read into memory.
+// The sweep package's reader is adapted to it by FromSweep; tests build it
+// by hand.
+type View struct {
 	// Dir is the study directory (shown in the page; may be empty).
 	Dir string
 	// Tool and Version name the program that made the study.
@@ -62,12 +64,6 @@ type Field struct {
 	Name, Value string
 }
 
-// Summary is the median and interquartile range of a score across the runs
-// (or pairs of runs) of one setting. NaN means not available.
-type Summary struct {
-	Median, IQR float64
-}
-
 // Setting is one combination of parameters with its scores across seeds.
 type Setting struct {
 	ID string
@@ -78,15 +74,15 @@ type Setting struct {
 	// Disparity is the seed-to-seed Procrustes disparity (lower is more
 	// stable) and Jaccard the seed-to-seed kNN Jaccard overlap (higher is
 	// more stable), both over pairs of runs.
-	Disparity, Jaccard Summary
+	Disparity, Jaccard stability.MedianIQR
 	// PairSpearman is the seed-to-seed Spearman correlation of pairwise
 	// map distances (higher is more stable).
-	PairSpearman Summary
+	PairSpearman stability.MedianIQR
 	// Faithfulness to the input, across runs (higher is better); the label
 	// scores are NaN without labels.
-	Trust, Continuity, KNNRecall, Spearman, LabelAccuracy, LabelPurity Summary
+	Trustworthiness, Continuity, KNNRecall, DistanceSpearman, LabelAccuracy, LabelPurity stability.MedianIQR
 	// KL is the final KL divergence across runs (lower is better).
-	KL Summary
+	KL stability.MedianIQR
 	// UnstableShare is the share of points flagged unstable.
 	UnstableShare float64
 	// Consensus is the consensus layout (2N, row-major) of the setting's
@@ -106,8 +102,8 @@ type Run struct {
 	Iters         int
 	Seconds       float64
 	// Faithfulness scores of this run (NaN when not scored).
-	Trust, Continuity, KNNRecall, Spearman, LabelAccuracy float64
-	Trace                                                 []TracePoint
+	Trustworthiness, Continuity, KNNRecall, DistanceSpearman, LabelAccuracy float64
+	Trace                                                                   []TracePoint
 }
 
 // TracePoint is the KL divergence at one iteration.
@@ -123,7 +119,7 @@ type Pair struct {
 }
 
 // Varied returns the grid parameters with more than one value.
-func (s *Study) Varied() []Param {
+func (s *View) Varied() []Param {
 	var v []Param
 	for _, p := range s.Grid {
 		if len(p.Values) > 1 {
@@ -146,7 +142,7 @@ func (s *Setting) Param(name string) string {
 // Label names a setting by the parameters that vary in the study, for
 // example "perplexity 30, learning_rate auto"; with nothing varied it is
 // the setting id.
-func (s *Study) Label(st *Setting) string {
+func (s *View) Label(st *Setting) string {
 	var parts []string
 	for _, p := range s.Varied() {
 		parts = append(parts, p.Name+" "+st.Param(p.Name))
@@ -157,8 +153,8 @@ func (s *Study) Label(st *Setting) string {
 	return strings.Join(parts, ", ")
 }
 
-// setting returns the setting with the id, or nil.
-func (s *Study) setting(id string) *Setting {
+// Setting returns the setting with the id, or nil.
+func (s *View) Setting(id string) *Setting {
 	for i := range s.Settings {
 		if s.Settings[i].ID == id {
 			return &s.Settings[i]
@@ -168,6 +164,4 @@ func (s *Study) setting(id string) *Setting {
 }
 
 // HasLabels reports whether the points carry labels.
-func (s *Study) HasLabels() bool { return len(s.Labels) == len(s.IDs) && len(s.Labels) > 0 }
-
-func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+func (s *View) HasLabels() bool { return len(s.Labels) == len(s.IDs) && len(s.Labels) > 0 }

@@ -12,11 +12,11 @@ import (
 type Candidate struct {
 	ID string
 	// Runs is the number of finished runs behind the scores.
-	Runs                int
-	Trust, TrustIQR     float64
-	Disparity, DispIQR  float64
-	Jaccard, JaccardIQR float64
-	KL, KLIQR           float64
+	Runs                                int
+	Trustworthiness, TrustworthinessIQR float64
+	Disparity, DispIQR                  float64
+	Jaccard, JaccardIQR                 float64
+	KL, KLIQR                           float64
 }
 
 // Rule holds the tolerances of the recommendation rule. Zero fields take
@@ -102,7 +102,7 @@ func Recommend(cands []Candidate, rule Rule) (*Recommendation, error) {
 		switch {
 		case c.Runs < 2:
 			rec.Excluded = append(rec.Excluded, Exclusion{c.ID, fmt.Sprintf("%d finished run(s); agreement across seeds needs two", c.Runs)})
-		case !finite(c.Trust):
+		case !finite(c.Trustworthiness):
 			rec.Excluded = append(rec.Excluded, Exclusion{c.ID, "trustworthiness not available"})
 		case !finite(c.Disparity) || !finite(c.Jaccard):
 			rec.Excluded = append(rec.Excluded, Exclusion{c.ID, "seed-to-seed agreement not available"})
@@ -139,8 +139,8 @@ func Recommend(cands []Candidate, rule Rule) (*Recommendation, error) {
 		if c.ID == chosen.ID {
 			continue
 		}
-		if close(c.Trust, c.TrustIQR, chosen.Trust, chosen.TrustIQR, rule.TrustTolerance) &&
-			close(c.Disparity, c.DispIQR, chosen.Disparity, chosen.DispIQR, rule.DisparityTolerance) {
+		if indistinguishable(c.Trustworthiness, c.TrustworthinessIQR, chosen.Trustworthiness, chosen.TrustworthinessIQR, rule.TrustTolerance) &&
+			indistinguishable(c.Disparity, c.DispIQR, chosen.Disparity, chosen.DispIQR, rule.DisparityTolerance) {
 			rec.Indistinguishable = append(rec.Indistinguishable, c.ID)
 		}
 	}
@@ -156,9 +156,9 @@ func findCandidate(cs []Candidate, id string) Candidate {
 	panic("report: candidate vanished")
 }
 
-// close reports whether two medians are within tol or their ranges
+// indistinguishable reports whether two medians are within tol or their ranges
 // median ± IQR/2 overlap.
-func close(a, aIQR, b, bIQR, tol float64) bool {
+func indistinguishable(a, aIQR, b, bIQR, tol float64) bool {
 	if math.Abs(a-b) <= tol {
 		return true
 	}
@@ -185,11 +185,11 @@ func (r Rule) pick(cs []Candidate) pick {
 	p := pick{faithful: map[string]bool{}, stable: map[string]bool{}, agreeing: map[string]bool{}}
 	p.bestT = math.Inf(-1)
 	for _, c := range cs {
-		p.bestT = math.Max(p.bestT, c.Trust)
+		p.bestT = math.Max(p.bestT, c.Trustworthiness)
 	}
 	p.bestD = math.Inf(1)
 	for _, c := range cs {
-		if c.Trust >= p.bestT-r.TrustTolerance {
+		if c.Trustworthiness >= p.bestT-r.TrustTolerance {
 			p.faithful[c.ID] = true
 			p.bestD = math.Min(p.bestD, c.Disparity)
 		}

@@ -7,6 +7,9 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"plumb/cmd/plumb/internal/studyview"
+	"plumb/stability"
 )
 
 // Same study in, same bytes out: the page carries no clock time and every
@@ -31,32 +34,32 @@ func TestWriteDeterministic(t *testing.T) {
 func TestWriteEdgeCases(t *testing.T) {
 	cases := []struct {
 		name   string
-		edit   func(*Study)
+		edit   func(*studyview.View)
 		want   []string
 		chosen string
 	}{
 		{
 			name: "no labels: colour by spread",
-			edit: func(s *Study) { s.Labels = nil; s.Input.LabelColumn = "" },
+			edit: func(s *studyview.View) { s.Labels = nil; s.Input.LabelColumn = "" },
 			want: []string{"spread across seeds (darker = less stable)"},
 		},
 		{
 			name: "a setting without finished runs",
-			edit: func(s *Study) {
+			edit: func(s *studyview.View) {
 				x := &s.Settings[0]
 				x.RunsDone, x.Consensus, x.Spread, x.Unstable = 0, nil, nil, nil
-				nan := Summary{math.NaN(), math.NaN()}
-				x.Disparity, x.Jaccard, x.Trust, x.KL = nan, nan, nan, nan
+				nan := stability.MedianIQR{Median: math.NaN(), IQR: math.NaN()}
+				x.Disparity, x.Jaccard, x.Trustworthiness, x.KL = nan, nan, nan, nan
 			},
 			want: []string{"no finished runs", "0 finished run(s); agreement across seeds needs two"},
 		},
 		{
 			name: "single setting, single seed: no recommendation",
-			edit: func(s *Study) {
+			edit: func(s *studyview.View) {
 				s.Settings = s.Settings[:1]
 				s.Settings[0].RunsDone = 1
-				s.Settings[0].Disparity = Summary{math.NaN(), math.NaN()}
-				s.Grid = []Param{{"perplexity", []string{"5"}}}
+				s.Settings[0].Disparity = stability.MedianIQR{Median: math.NaN(), IQR: math.NaN()}
+				s.Grid = []studyview.Param{{Name: "perplexity", Values: []string{"5"}}}
 				s.Seeds = s.Seeds[:1]
 			},
 			want: []string{"No recommendation: no setting has two finished runs"},

@@ -12,6 +12,8 @@ import (
 	"testing"
 
 	"golang.org/x/net/html"
+
+	"plumb/stability"
 )
 
 func TestWriteReport(t *testing.T) {
@@ -160,13 +162,13 @@ func TestMethodsNumbers(t *testing.T) {
 		t.Fatal(err)
 	}
 	m := strings.Join(Methods(st, rec), "\n")
-	chosen := st.setting(rec.Chosen.ID)
+	chosen := st.Setting(rec.Chosen.ID)
 	for _, want := range []string{
 		"plumb test", "n = 120 points", "d = 5 features", "standardised", "0123456789ab",
 		"perplexity ∈ {5, 15, 30}", "learning rate ∈ {auto, 200}", "(6 settings)", "3 seeds (1, 2, 3)",
 		"19 runs, of which 18 finished and 1 failed", "early exaggeration 12", "iterations (in all) 500",
 		"the exact O(n²) sum", "k = 10",
-		"median trustworthiness " + fmtScore(chosen.Trust.Median) + " (IQR " + fmtScore(chosen.Trust.IQR) + ")",
+		"median trustworthiness " + fmtScore(chosen.Trustworthiness.Median) + " (IQR " + fmtScore(chosen.Trustworthiness.IQR) + ")",
 		"perplexity 30, learning_rate auto",
 		"max(n / (4 · exaggeration), 50)",
 	} {
@@ -188,7 +190,7 @@ func TestBuildRejectsBadConsensus(t *testing.T) {
 // note that its stability scores cannot measure sensitivity to the start.
 func TestSeedlessNote(t *testing.T) {
 	st := syntheticStudy()
-	st.Settings[0].Disparity = Summary{0, 0}
+	st.Settings[0].Disparity = stability.MedianIQR{Median: 0, IQR: 0}
 	out, err := Write(st, t.TempDir(), Options{})
 	if err != nil {
 		t.Fatal(err)

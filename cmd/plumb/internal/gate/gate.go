@@ -7,7 +7,7 @@ import (
 	"strings"
 
 	"plumb/align"
-	"plumb/internal/report"
+	"plumb/cmd/plumb/internal/studyview"
 	"plumb/stability"
 )
 
@@ -147,7 +147,7 @@ type Result struct {
 
 // key is the matching key of a setting: name=value of every parameter not
 // ignored, sorted by name.
-func key(s *report.Setting, ignore map[string]bool) string {
+func key(s *studyview.Setting, ignore map[string]bool) string {
 	var parts []string
 	for _, f := range s.Params {
 		if !ignore[f.Name] {
@@ -160,7 +160,7 @@ func key(s *report.Setting, ignore map[string]bool) string {
 
 // label names a setting by the parameters in show (all of them when show
 // is empty), as name=value pairs in the setting's order.
-func label(s *report.Setting, ignore, show map[string]bool) string {
+func label(s *studyview.Setting, ignore, show map[string]bool) string {
 	var parts []string
 	for _, f := range s.Params {
 		if !ignore[f.Name] && (len(show) == 0 || show[f.Name]) {
@@ -175,9 +175,9 @@ func label(s *report.Setting, ignore, show map[string]bool) string {
 
 // varying returns the parameters that take more than one value across the
 // settings of both studies; labels name settings by these.
-func varying(base, cur *report.Study, ignore map[string]bool) map[string]bool {
+func varying(base, cur *studyview.View, ignore map[string]bool) map[string]bool {
 	vals := map[string]map[string]bool{}
-	for _, st := range []*report.Study{base, cur} {
+	for _, st := range []*studyview.View{base, cur} {
 		for i := range st.Settings {
 			for _, f := range st.Settings[i].Params {
 				if vals[f.Name] == nil {
@@ -200,7 +200,7 @@ func varying(base, cur *report.Study, ignore map[string]bool) map[string]bool {
 // Result with Outcome Incomparable and a Reason, not an error; errors are
 // reserved for broken inputs (for example a consensus layout of the wrong
 // length).
-func Compare(base, cur *report.Study, opt Options) (*Result, error) {
+func Compare(base, cur *studyview.View, opt Options) (*Result, error) {
 	th := opt.Thresholds.Defaults()
 	res := &Result{Baseline: base.Dir, Current: cur.Dir, Thresholds: th, Settings: []SettingResult{}}
 	if !opt.AllowOtherData && base.Input.Fingerprint != cur.Input.Fingerprint {
@@ -214,18 +214,18 @@ func Compare(base, cur *report.Study, opt Options) (*Result, error) {
 		ignore[n] = true
 	}
 	show := varying(base, cur, ignore)
-	curBy := map[string]*report.Setting{}
+	curBy := map[string]*studyview.Setting{}
 	for i := range cur.Settings {
 		curBy[key(&cur.Settings[i], ignore)] = &cur.Settings[i]
 	}
 	matched := map[string]bool{}
-	var pairs [][2]*report.Setting
+	var pairs [][2]*studyview.Setting
 	for i := range base.Settings {
 		b := &base.Settings[i]
 		k := key(b, ignore)
 		if c, ok := curBy[k]; ok && !matched[k] {
 			matched[k] = true
-			pairs = append(pairs, [2]*report.Setting{b, c})
+			pairs = append(pairs, [2]*studyview.Setting{b, c})
 		} else {
 			res.OnlyBaseline = append(res.OnlyBaseline, label(b, ignore, show))
 		}
@@ -290,7 +290,7 @@ func Compare(base, cur *report.Study, opt Options) (*Result, error) {
 	return res, nil
 }
 
-func compareSetting(b, c *report.Setting, bi, ci []int, missing, k int, th Thresholds, name string, ids []string) (*SettingResult, error) {
+func compareSetting(b, c *studyview.Setting, bi, ci []int, missing, k int, th Thresholds, name string, ids []string) (*SettingResult, error) {
 	sr := &SettingResult{Label: name, BaselineID: b.ID, CurrentID: c.ID, Points: len(bi), MissingPoints: missing, K: k,
 		Disparity: math.NaN(), Jaccard: math.NaN(), Changes: []ScoreChange{}, Moved: []Moved{}, Failures: []string{}}
 	sr.DisparityLimit = th.MaxDisparity
@@ -335,7 +335,7 @@ func compareSetting(b, c *report.Setting, bi, ci []int, missing, k int, th Thres
 		}
 		sr.Changes = append(sr.Changes, ch)
 	}
-	bt, ct := b.Trust.Median, c.Trust.Median
+	bt, ct := b.Trustworthiness.Median, c.Trustworthiness.Median
 	add("trustworthiness", bt, ct, ct < bt-th.MaxTrustDrop,
 		fmt.Sprintf("trustworthiness fell by %.4f (> %g)", bt-ct, th.MaxTrustDrop))
 	bd, cd := b.Disparity.Median, c.Disparity.Median

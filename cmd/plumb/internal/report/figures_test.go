@@ -5,6 +5,8 @@ import (
 	"math"
 	"strings"
 	"testing"
+
+	"plumb/cmd/plumb/internal/studyview"
 )
 
 // Panels are comparable: if every setting's consensus is a rotated,
@@ -43,13 +45,13 @@ func TestAlignedConsensusRecoversCopies(t *testing.T) {
 // With a third varied parameter the heatmaps get one facet per value.
 func TestHeatmapFacets(t *testing.T) {
 	st := syntheticStudy()
-	st.Grid = append(st.Grid, Param{"init", []string{"pca", "random"}})
-	var more []Setting
+	st.Grid = append(st.Grid, studyview.Param{Name: "init", Values: []string{"pca", "random"}})
+	var more []studyview.Setting
 	for _, s := range st.Settings {
 		for _, in := range []string{"pca", "random"} {
 			c := s
 			c.ID = s.ID + "-" + in
-			c.Params = append(append([]Field(nil), s.Params...), Field{"init", in})
+			c.Params = append(append([]studyview.Field(nil), s.Params...), studyview.Field{Name: "init", Value: in})
 			more = append(more, c)
 		}
 	}
@@ -73,9 +75,9 @@ func TestHeatmapFacets(t *testing.T) {
 
 func ExampleRecommend() {
 	rec, err := Recommend([]Candidate{
-		{ID: "perp-5", Runs: 5, Trust: 0.93, Disparity: 0.20, Jaccard: 0.55, KL: 1.10},
-		{ID: "perp-30", Runs: 5, Trust: 0.95, Disparity: 0.03, Jaccard: 0.90, KL: 0.80},
-		{ID: "perp-50", Runs: 5, Trust: 0.948, Disparity: 0.02, Jaccard: 0.91, KL: 0.70},
+		{ID: "perp-5", Runs: 5, Trustworthiness: 0.93, Disparity: 0.20, Jaccard: 0.55, KL: 1.10},
+		{ID: "perp-30", Runs: 5, Trustworthiness: 0.95, Disparity: 0.03, Jaccard: 0.90, KL: 0.80},
+		{ID: "perp-50", Runs: 5, Trustworthiness: 0.948, Disparity: 0.02, Jaccard: 0.91, KL: 0.70},
 	}, Rule{})
 	if err != nil {
 		fmt.Println(err)
