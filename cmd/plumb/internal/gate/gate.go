@@ -360,7 +360,10 @@ func Compare(base, cur *Study, opt Options) (*Result, error) {
 	bi, ci, onlyB, _ := align.MatchByID(base.IDs, cur.IDs)
 	if len(bi) < 3 {
 		res.Outcome = Incomparable
-		res.Reason = fmt.Sprintf("%d point id(s) in common: the baseline has %d points, the current study %d", len(bi), len(base.IDs), len(cur.IDs))
+		res.Reason = fmt.Sprintf("no point id in common: the baseline has %d points, the current study %d", len(base.IDs), len(cur.IDs))
+		if len(bi) > 0 {
+			res.Reason = fmt.Sprintf("only %d point id(s) in common (at least 3 are needed): the baseline has %d points, the current study %d", len(bi), len(base.IDs), len(cur.IDs))
+		}
 		return res, nil
 	}
 	k := o.K
