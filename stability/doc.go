@@ -27,6 +27,13 @@
 // for all the layouts, and DistanceRanks ranks the input's (or one
 // layout's) pair distances once for every correlation against it.
 //
+// Whether two sets of runs of one setting differ — a baseline and tonight's
+// runs, say — is a question about pair scores: CompareSets measures how
+// much less alike runs of different sets are than runs of one set, and
+// judges the shift against every relabelling of the runs into the two sets
+// (a permutation test, exact under the hypothesis that the runs are
+// exchangeable, whatever their distribution).
+//
 // Every score is deterministic: random choices are seeded by the caller,
 // parallel loops use fixed chunks, and neighbour ties are broken by the
 // smaller point index.
@@ -52,6 +59,12 @@
 //   - R. J. Hyndman and Y. Fan, "Sample quantiles in statistical packages",
 //     The American Statistician 50(4):361–365, 1996 (definition 7, the
 //     linear interpolation used by numpy.quantile's default).
+//   - R. A. Fisher, The Design of Experiments, Oliver & Boyd, 1935.
+//   - G. J. Székely and M. L. Rizzo, "Testing for equal distributions in
+//     high dimension", InterStat 5, 2004.
+//   - B. Phipson and G. K. Smyth, "Permutation p-values should never be
+//     zero", Statistical Applications in Genetics and Molecular Biology
+//     9(1), 2010.
 //   - J. L. Bentley, "Multidimensional binary search trees used for
 //     associative searching", Communications of the ACM 18(9):509–517, 1975.
 package stability

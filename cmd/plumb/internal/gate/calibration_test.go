@@ -2,6 +2,7 @@ package gate
 
 import (
 	"fmt"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"strings"
@@ -40,14 +41,15 @@ func TestFalseAlarmRate(t *testing.T) {
 			if r.Status != sweep.StatusDone {
 				continue
 			}
-			id := r.RunID
-			runs = append(runs, Run{Seed: r.Seed, KL: r.KL, Trust: nanValue(), Layout: func() ([]float64, error) {
-				l, err := s.Layout(id)
-				if err != nil {
-					return nil, err
-				}
-				return inInputOrder(l, n)
-			}})
+			l, err := s.Layout(r.RunID)
+			if err != nil {
+				t.Fatal(err)
+			}
+			y, err := inInputOrder(l, n)
+			if err != nil {
+				t.Fatal(err)
+			}
+			runs = append(runs, Run{Seed: r.Seed, KL: r.KL, Trust: nanValue(), Layout: func() ([]float64, error) { return y, nil }})
 		}
 		return runs
 	}
@@ -113,6 +115,32 @@ func TestFalseAlarmRate(t *testing.T) {
 			}
 			if size >= 6 && float64(got[Regression]) > 0.01*float64(trials)+2 {
 				t.Errorf("%s %dv%d: %d false alarms in %d trials", data, size, size, got[Regression], trials)
+			}
+		}
+		// Resampled trials: each draws 2·size distinct runs at random from
+		// the pool (trials share runs, so they are not independent, but
+		// each is a draw under the null hypothesis).
+		rs := rand.New(rand.NewPCG(2026, 12))
+		resampled := map[string]int{"iris": 1000, "digits": 300}[data]
+		for _, size := range []int{6, 10} {
+			got := outcome{}
+			for i := 0; i < resampled; i++ {
+				perm := rs.Perm(len(base))[:2*size]
+				var b, c []Run
+				for j, p := range perm {
+					if j < size {
+						b = append(b, base[p])
+					} else {
+						c = append(c, base[p])
+					}
+				}
+				got[trial(b, c, pid)]++
+			}
+			t.Logf("%s, same code and data, other seeds, %d v %d runs, resampled: %d trials, %s; false alarms (exit 1) %.2f%%",
+				data, size, size, resampled, show(got), 100*float64(got[Regression])/float64(resampled))
+			if len(why) > 0 {
+				t.Logf("  failures: %v", why)
+				clear(why)
 			}
 		}
 		entries, _ := os.ReadDir(dir)

@@ -200,9 +200,10 @@ type Result struct {
 	// KBaseline and KCurrent are the studies' score k; K the k of the
 	// Jaccard overlaps computed here.
 	KBaseline, KCurrent, K int
-	// Testable counts the layout tests that could reach the level (the
-	// Bonferroni divisor, after Tarone).
-	Testable int
+	// Divisor is the Bonferroni divisor after Tarone's count (the level of
+	// each layout test is Alpha/Divisor); Testable counts the layout tests
+	// that could reach that level.
+	Divisor, Testable int
 	// Settings in the baseline's order.
 	Settings []SettingResult
 	// OnlyBaseline and OnlyCurrent name settings found in one study only;
@@ -215,13 +216,14 @@ type Result struct {
 // TestDescription states the layout test, its reference and the levels.
 func (r *Result) TestDescription() string {
 	o := r.Options
+	level := fmt.Sprintf("p ≤ %g/%d (Bonferroni; %d test(s) can reach it, Tarone 1990)", o.Alpha, max(r.Divisor, 1), r.Testable)
 	return fmt.Sprintf("layout test: for each setting, every pair of runs is scored (kNN Jaccard at k = %d; Procrustes disparity); "+
 		"the shift = (mean score across the studies) against (mean within each study), and its reference is the permutation "+
 		"distribution over every relabelling of the runs into the two studies (exact up to %d relabelings, else %d random ones). "+
-		"A setting fails when p ≤ %g/%d (Bonferroni over the %d tests that can reach it, Tarone 1990) and the shift is at least "+
+		"A setting fails when %s and the shift is at least "+
 		"%g in Jaccard or %g in disparity. Runs with the same start (seed, or PCA) on the same data must reproduce the baseline "+
 		"within %g of the layout's RMS radius. Trustworthiness may fall by at most %g; final KL may rise by at most %g%%.",
-		r.K, stability.MaxExactRelabelings, stability.MonteCarloRelabelings, o.Alpha, max(r.Testable, 1), r.Testable,
+		r.K, stability.MaxExactRelabelings, stability.MonteCarloRelabelings, level,
 		o.MinJaccardShift, o.MinDisparityShift, o.ExactTolerance, o.MaxTrustDrop, 100*o.MaxKLRise)
 }
 
@@ -417,7 +419,7 @@ func judge(res *Result) {
 		}
 	}
 	level := o.Alpha / float64(K)
-	res.Testable = 0
+	res.Divisor, res.Testable = K, 0
 	for i := range res.Settings {
 		s := &res.Settings[i]
 		for _, t := range []*Test{&s.Jaccard, &s.Disparity} {

@@ -87,7 +87,7 @@ func (r *Result) JSON() ([]byte, error) {
 	}{Outcome: r.Outcome, ExitCode: r.ExitCode(), Reason: r.Reason, Baseline: r.Baseline, Current: r.Current, Test: r.TestDescription(),
 		Settings: []jsonSetting{}, OnlyBaseline: nonNil(r.OnlyBaseline), OnlyCurrent: nonNil(r.OnlyCurrent), PlanDiffs: nonNil(r.PlanDiffs)}
 	out.Thresholds = map[string]any{
-		"alpha": o.Alpha, "tests_counted": r.Testable, "min_jaccard_shift": o.MinJaccardShift, "min_disparity_shift": o.MinDisparityShift,
+		"alpha": o.Alpha, "bonferroni_divisor": r.Divisor, "tests_reaching_level": r.Testable, "min_jaccard_shift": o.MinJaccardShift, "min_disparity_shift": o.MinDisparityShift,
 		"max_trust_drop": o.MaxTrustDrop, "max_kl_rise_relative": o.MaxKLRise, "exact_tolerance": o.ExactTolerance,
 		"k": r.K, "k_baseline": r.KBaseline, "k_current": r.KCurrent, "moved": o.Moved,
 	}
