@@ -26,13 +26,14 @@ func init() {
 			"hypothesis that the runs are exchangeable). A setting fails when p ≤ --alpha divided by the\n" +
 			"number of tests that can reach it (Bonferroni with Tarone's count) and the shift is at least\n" +
 			"--min-jaccard-shift or --min-disparity-shift. The chance that same code, same data and other\n" +
-			"seeds fail is therefore at most --alpha. Few runs cannot reach a small p-value (3 and 3 runs:\n" +
-			"p ≥ 0.1); such settings are 'untested' unless a run with the same seed (or a PCA start) in\n" +
-			"both studies must reproduce the baseline exactly, which is checked whenever the data and\n" +
-			"every parameter are the same. Median trustworthiness may fall by --max-trust-drop and median\n" +
-			"final KL rise by --max-kl-rise (relative). The studies must have been scored with the same k\n" +
-			"and made with the same plan apart from the grid and the seeds (neighbour search, theta and any\n" +
-			"field that changes what a run sees), else they are not compared.\n\n" +
+			"seeds fail the layout tests is therefore at most --alpha. Few runs cannot reach a small\n" +
+			"p-value (3 and 3 runs: p ≥ 0.1); such settings are 'untested' unless a run with the same\n" +
+			"seed (or a PCA start) in both studies must reproduce the baseline exactly, which is checked\n" +
+			"whenever the data and every parameter are the same. Median trustworthiness may fall by\n" +
+			"--max-trust-drop and median final KL rise by --max-kl-rise (relative). The studies must\n" +
+			"have been scored with the same k and made with the same plan apart from the grid and the\n" +
+			"seeds (neighbour search, theta and any field that changes what a run sees), else they are\n" +
+			"not compared.\n\n" +
 			"Exit status:\n" +
 			"  0  pass: every setting within run-to-run variation\n" +
 			"  1  regression: a setting changed, failed or is missing (named in the output)\n" +
