@@ -240,14 +240,17 @@ func key(s *Setting, ignore map[string]bool) string {
 	return strings.Join(parts, ",")
 }
 
-// label names a setting by the parameters in show (all when show is
-// empty).
+// label names a setting by the parameters in show; when show is nil, by
+// all of them; when it is empty (nothing varies), by its first parameter.
 func label(s *Setting, show map[string]bool) string {
 	var parts []string
 	for _, f := range s.Params {
-		if len(show) == 0 || show[f.Name] {
+		if show == nil || show[f.Name] {
 			parts = append(parts, f.Name+"="+f.Value)
 		}
+	}
+	if len(parts) == 0 && len(s.Params) > 0 {
+		parts = append(parts, s.Params[0].Name+"="+s.Params[0].Value)
 	}
 	if len(parts) == 0 {
 		return s.ID
