@@ -623,7 +623,10 @@ func compareSetting(b, c *Setting, bi, ci []int, missing, k int, o Options, name
 			return nil, fmt.Errorf("gate: setting %s: %w", name, err)
 		}
 	}
-	if sr.Jaccard.Shift >= o.MinJaccardShift || sr.Disparity.Shift >= o.MinDisparityShift || len(sr.Failures) > 0 {
+	// The points whose neighbourhoods changed most are listed for settings
+	// that may fail (m·n + pairs of neighbour searches; skipped otherwise).
+	candidate := func(t Test) bool { return t.Shift >= t.Margin && t.P <= o.Alpha }
+	if candidate(sr.Jaccard) || candidate(sr.Disparity) || len(sr.Failures) > 0 {
 		mv, err := movedMost(lays, m, k, ids, bi, o.Moved)
 		if err != nil {
 			return nil, fmt.Errorf("gate: setting %s: %w", name, err)
