@@ -565,7 +565,10 @@ type PointSpread struct {
 }
 
 // Spread computes per-point spread from a generalised Procrustes result
-// (align.Generalized of the runs of one setting). If threshold ≤ 0,
+// (align.Generalized of the runs of one setting). Spread measures global
+// placement — how far a point lies from its consensus position, which is
+// large for points far from the map's centre and for clusters that move as
+// a whole — not whether a point changes group; CoAssignment reads that. If threshold ≤ 0,
 // DefaultSpreadThreshold is used. Cost O(S N).
 func Spread(g *align.GPAResult, threshold float64) (*PointSpread, error) {
 	if g == nil || len(g.Aligned) == 0 || g.RMSRadius <= 0 || len(g.Consensus)%2 != 0 {

@@ -8,11 +8,11 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"os"
 	"sort"
 	"strconv"
 	"strings"
 
+	"plumb/internal/dataset"
 	"plumb/tsne"
 )
 
@@ -29,6 +29,7 @@ type Spec struct {
 	Gradient          string `json:"gradient,omitempty"`           // default "auto"
 	Theta             string `json:"theta,omitempty"`              // default tsne.DefaultTheta ("0.8")
 	Seeds             string `json:"seeds,omitempty"`              // default "1" (one run per setting, seed 1)
+	Subsample         string `json:"subsample,omitempty"`          // default "1" (every run embeds all points)
 	Neighbors         string `json:"neighbors,omitempty"`          // default "auto"
 	KLEvery           string `json:"kl_every,omitempty"`           // default "50"
 
@@ -37,67 +38,69 @@ type Spec struct {
 	from map[string]string
 }
 
+// SpecField describes one field of Spec: its plan-file key (the flag name
+// with "_" for "-") and a one-line description with the default. Adding a
+// field to Spec means adding it to SpecFields; merging, plan files and the
+// command's flags follow from the table.
+type SpecField struct {
+	// Key is the plan-file key, e.g. "learning_rate".
+	Key string
+	// Doc describes the values and the default, for help texts.
+	Doc string
+	ptr func(*Spec) *string
+}
+
+// Flag returns the command-line flag name of the field, e.g.
+// "learning-rate".
+func (f SpecField) Flag() string { return strings.ReplaceAll(f.Key, "_", "-") }
+
+// Get returns the field's value in s.
+func (f SpecField) Get(s *Spec) string { return *f.ptr(s) }
+
+// Set sets the field's value in s.
+func (f SpecField) Set(s *Spec, v string) { *f.ptr(s) = v }
+
+// SpecFields lists every field of Spec, in the order of the struct.
+var SpecFields = []SpecField{
+	{"perplexity", "comma list of perplexities (default 30)", func(s *Spec) *string { return &s.Perplexity }},
+	{"learning_rate", "comma list of learning rates, numbers or auto (default auto = max(n/(4·exaggeration), 50), 4-in-gradient convention)", func(s *Spec) *string { return &s.LearningRate }},
+	{"exaggeration", "comma list of early-exaggeration factors ≥ 1 (default 12)", func(s *Spec) *string { return &s.Exaggeration }},
+	{"exaggeration_iters", "comma list of early-exaggeration lengths (default 250)", func(s *Spec) *string { return &s.ExaggerationIters }},
+	{"iters", "comma list of total iteration counts (default 1000)", func(s *Spec) *string { return &s.Iters }},
+	{"init", "comma list of initialisations: pca, random (default pca)", func(s *Spec) *string { return &s.Init }},
+	{"gradient", "comma list of gradient methods: auto, exact, barnes-hut, fft (default auto)", func(s *Spec) *string { return &s.Gradient }},
+	{"theta", "Barnes-Hut opening angle (default 0.8; see the README)", func(s *Spec) *string { return &s.Theta }},
+	{"seeds", "a count N (seeds 1..N) or a list/range such as 1-5,9 (default 1)", func(s *Spec) *string { return &s.Seeds }},
+	{"subsample", "comma list of subsample fractions in (0, 1]: a run of a setting with F < 1 embeds ⌈F·n⌉ points drawn by its seed (default 1, all points)", func(s *Spec) *string { return &s.Subsample }},
+	{"neighbors", "neighbour search: auto, exact, approx (default auto)", func(s *Spec) *string { return &s.Neighbors }},
+	{"kl_every", "record the KL divergence every N iterations (default 50)", func(s *Spec) *string { return &s.KLEvery }},
+}
+
+// specField returns the field with the plan-file key, or false.
+func specField(key string) (SpecField, bool) {
+	for _, f := range SpecFields {
+		if f.Key == key {
+			return f, true
+		}
+	}
+	return SpecField{}, false
+}
+
 // Merge returns s with every non-empty field of over replacing s's.
 // Command-line flags override a plan file this way.
 func (s Spec) Merge(over Spec) Spec {
-	pick := func(a, b string) string {
-		if b != "" {
-			return b
+	out := Spec{from: map[string]string{}}
+	for _, f := range SpecFields {
+		v, from := f.Get(&s), s.from[f.Key]
+		if o := f.Get(&over); o != "" {
+			v, from = o, over.from[f.Key]
 		}
-		return a
-	}
-	from := map[string]string{}
-	for k, v := range s.from {
-		if over.field(k) == "" {
-			from[k] = v
+		f.Set(&out, v)
+		if from != "" {
+			out.from[f.Key] = from
 		}
 	}
-	for k, v := range over.from {
-		from[k] = v
-	}
-	return Spec{
-		from:              from,
-		Perplexity:        pick(s.Perplexity, over.Perplexity),
-		LearningRate:      pick(s.LearningRate, over.LearningRate),
-		Exaggeration:      pick(s.Exaggeration, over.Exaggeration),
-		ExaggerationIters: pick(s.ExaggerationIters, over.ExaggerationIters),
-		Iters:             pick(s.Iters, over.Iters),
-		Init:              pick(s.Init, over.Init),
-		Gradient:          pick(s.Gradient, over.Gradient),
-		Theta:             pick(s.Theta, over.Theta),
-		Seeds:             pick(s.Seeds, over.Seeds),
-		Neighbors:         pick(s.Neighbors, over.Neighbors),
-		KLEvery:           pick(s.KLEvery, over.KLEvery),
-	}
-}
-
-// field returns the value of the field with the given plan-file name.
-func (s Spec) field(name string) string {
-	switch name {
-	case "perplexity":
-		return s.Perplexity
-	case "learning_rate":
-		return s.LearningRate
-	case "exaggeration":
-		return s.Exaggeration
-	case "exaggeration_iters":
-		return s.ExaggerationIters
-	case "iters":
-		return s.Iters
-	case "init":
-		return s.Init
-	case "gradient":
-		return s.Gradient
-	case "theta":
-		return s.Theta
-	case "seeds":
-		return s.Seeds
-	case "neighbors":
-		return s.Neighbors
-	case "kl_every":
-		return s.KLEvery
-	}
-	return ""
+	return out
 }
 
 // PlanError reports an invalid plan value.
@@ -117,12 +120,16 @@ func (e *PlanError) Error() string {
 	return fmt.Sprintf("%s %q: %s", where, e.Value, e.Msg)
 }
 
+// MaxPlanBytes bounds the size of a plan file (a plan is a few hundred
+// bytes; ReadSpec refuses larger files, devices and FIFOs).
+const MaxPlanBytes = 1 << 20
+
 // ReadSpec reads a plan file: a JSON object with the fields of Spec. Each
 // value may be a string in the flag syntax ("5,15,30", "auto,200",
 // "1-5,9"), a number, or an array of numbers and strings. Unknown fields
 // are an error.
 func ReadSpec(path string) (Spec, error) {
-	b, err := os.ReadFile(path)
+	b, err := dataset.ReadRegular(path, MaxPlanBytes)
 	if err != nil {
 		return Spec{}, fmt.Errorf("plan file: %w", err)
 	}
@@ -142,19 +149,13 @@ func ParseSpec(name string, data []byte) (Spec, error) {
 		return Spec{}, fmt.Errorf("%s: trailing data after the JSON object", name)
 	}
 	s := Spec{from: map[string]string{}}
-	fields := map[string]*string{
-		"perplexity": &s.Perplexity, "learning_rate": &s.LearningRate, "exaggeration": &s.Exaggeration,
-		"exaggeration_iters": &s.ExaggerationIters, "iters": &s.Iters, "init": &s.Init,
-		"gradient": &s.Gradient, "theta": &s.Theta, "seeds": &s.Seeds, "neighbors": &s.Neighbors,
-		"kl_every": &s.KLEvery,
-	}
 	keys := make([]string, 0, len(raw))
 	for k := range raw {
 		keys = append(keys, k)
 	}
 	sort.Strings(keys)
 	for _, k := range keys {
-		dst, ok := fields[k]
+		f, ok := specField(k)
 		if !ok {
 			return Spec{}, fmt.Errorf("%s: unknown field %q", name, k)
 		}
@@ -166,7 +167,7 @@ func ParseSpec(name string, data []byte) (Spec, error) {
 			// A one-element array is an explicit seed, not a count.
 			v = v + "-" + v
 		}
-		*dst = v
+		f.Set(&s, v)
 		s.from[k] = name
 	}
 	return s, nil
@@ -224,6 +225,12 @@ type Plan struct {
 	// Theta is the Barnes-Hut opening angle, used by "barnes-hut" runs.
 	Theta float64  `json:"theta"`
 	Seeds []uint64 `json:"seeds"`
+	// Subsample lists the subsample fractions in (0, 1], ascending; each
+	// run of a setting with fraction F < 1 embeds SubsampleSize(n, F)
+	// points drawn by its seed (Subsample). nil stands for {1}, every run
+	// embeds all points: a plan without resampling keeps the canonical
+	// text and hash it had before the field existed.
+	Subsample []float64 `json:"subsample,omitempty"`
 	// Neighbors picks the neighbour search: "auto", "exact" or "approx".
 	Neighbors string `json:"neighbors"`
 	// KLEvery is the KL trace interval in iterations.
@@ -317,6 +324,17 @@ func (s Spec) plan() (*Plan, error) {
 	p.Theta = th[0]
 	if p.Seeds, err = ParseSeeds(def(s.Seeds, "1")); err != nil {
 		return nil, err
+	}
+	if p.Subsample, err = floatList("subsample", def(s.Subsample, "1"), false, func(v float64) string {
+		if v <= 0 || v > 1 {
+			return "must be in (0, 1] (a fraction of the points)"
+		}
+		return ""
+	}); err != nil {
+		return nil, err
+	}
+	if len(p.Subsample) == 1 && p.Subsample[0] == 1 {
+		p.Subsample = nil
 	}
 	nb, err := wordList("neighbors", def(s.Neighbors, "auto"), nbModes)
 	if err != nil {
@@ -511,10 +529,23 @@ func ParseSeeds(s string) ([]uint64, error) {
 // neighbour lists are built for it.
 func (p *Plan) MaxPerplexity() float64 { return p.Perplexity[len(p.Perplexity)-1] }
 
+// Fractions returns the plan's subsample fractions: Subsample, or {1}
+// when it is nil.
+func (p *Plan) Fractions() []float64 {
+	if len(p.Subsample) == 0 {
+		return []float64{1}
+	}
+	return p.Subsample
+}
+
+// MinFraction returns the smallest subsample fraction of the plan (1 when
+// it does not resample).
+func (p *Plan) MinFraction() float64 { return p.Fractions()[0] }
+
 // NumSettings returns the number of settings (grid cells).
 func (p *Plan) NumSettings() int {
 	return len(p.Perplexity) * len(p.LearningRate) * len(p.Exaggeration) * len(p.ExaggerationIters) *
-		len(p.Iters) * len(p.Init) * len(p.Gradient)
+		len(p.Iters) * len(p.Init) * len(p.Gradient) * len(p.Fractions())
 }
 
 // NumRuns returns the number of runs: settings × seeds.
@@ -533,6 +564,17 @@ type Setting struct {
 	Init              string  `json:"init"`
 	Gradient          string  `json:"gradient"`
 	Theta             float64 `json:"theta"`
+	// Subsample is the fraction of the points each run embeds, in (0, 1];
+	// 1 (or 0, in a Setting built by hand) means all points.
+	Subsample float64 `json:"subsample,omitempty"`
+}
+
+// Fraction returns the setting's subsample fraction, 1 for all points.
+func (s *Setting) Fraction() float64 {
+	if s.Subsample <= 0 || s.Subsample >= 1 {
+		return 1
+	}
+	return s.Subsample
 }
 
 // LearningRateSpec returns "auto" or the planned learning rate as text.
@@ -545,8 +587,14 @@ func (s *Setting) LearningRateSpec() string {
 
 // Canonical returns the setting's canonical encoding, from which its id is
 // derived. The encoding is versioned and must never change: ids written by
-// one version must be found again by every later one.
+// one version must be found again by every later one. The subsample
+// fraction is appended ("|subsample=0.9") only when it is below 1, so a
+// setting on all points keeps the id it had before resampling existed.
 func (s *Setting) Canonical() string {
+	sub := ""
+	if f := s.Fraction(); f < 1 {
+		sub = "|subsample=" + formatFloat(f)
+	}
 	return "plumb-setting-v1" +
 		"|perplexity=" + formatFloat(s.Perplexity) +
 		"|learning_rate=" + s.LearningRateSpec() +
@@ -555,7 +603,7 @@ func (s *Setting) Canonical() string {
 		"|iters=" + strconv.Itoa(s.Iters) +
 		"|init=" + s.Init +
 		"|gradient=" + s.Gradient +
-		"|theta=" + formatFloat(s.Theta)
+		"|theta=" + formatFloat(s.Theta) + sub
 }
 
 // SettingID returns the id of a setting: the first 10 hex digits of the
@@ -583,7 +631,7 @@ type Run struct {
 
 // Settings returns the plan's settings in canonical order (perplexity
 // outermost, then learning rate, exaggeration, exaggeration iterations,
-// iterations, init, gradient).
+// iterations, init, gradient, subsample fraction).
 func (p *Plan) Settings() []*Setting {
 	var out []*Setting
 	for _, perp := range p.Perplexity {
@@ -593,10 +641,12 @@ func (p *Plan) Settings() []*Setting {
 					for _, it := range p.Iters {
 						for _, in := range p.Init {
 							for _, g := range p.Gradient {
-								s := &Setting{Perplexity: perp, LearningRate: lr, Exaggeration: ex,
-									ExaggerationIters: ei, Iters: it, Init: in, Gradient: g, Theta: p.Theta}
-								s.ID = SettingID(s)
-								out = append(out, s)
+								for _, f := range p.Fractions() {
+									s := &Setting{Perplexity: perp, LearningRate: lr, Exaggeration: ex,
+										ExaggerationIters: ei, Iters: it, Init: in, Gradient: g, Theta: p.Theta, Subsample: f}
+									s.ID = SettingID(s)
+									out = append(out, s)
+								}
 							}
 						}
 					}
@@ -677,6 +727,11 @@ func (p *Plan) Canonical() string {
 	}
 	b.WriteString("|neighbors=" + p.Neighbors)
 	b.WriteString("|kl_every=" + strconv.Itoa(p.KLEvery))
+	if f := p.Fractions(); len(f) > 1 || f[0] != 1 {
+		// Only a plan that resamples names the field, so the hash of every
+		// plan made before it existed stays the same.
+		fl("subsample", p.Subsample, false)
+	}
 	return b.String()
 }
 

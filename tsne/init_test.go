@@ -1,42 +1,22 @@
 package tsne
 
 import (
-	"encoding/csv"
 	"math"
-	"os"
 	"path/filepath"
-	"strconv"
 	"testing"
+
+	"plumb/internal/fixture"
 )
 
 // initTestFeatures reads the feature columns (all but id and label) of a
 // headed CSV in testdata.
 func initTestFeatures(t *testing.T, name, label string) ([]float64, int, int) {
 	t.Helper()
-	f, err := os.Open(filepath.Join("..", "testdata", name))
+	x, n, d, err := fixture.MustReadCSV(t, filepath.Join("..", "testdata", name)).Numbers("id", label)
 	if err != nil {
 		t.Fatal(err)
 	}
-	defer f.Close()
-	rows, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
-	var x []float64
-	for _, row := range rows[1:] {
-		for c, cell := range row {
-			if h := rows[0][c]; h == "id" || h == label {
-				continue
-			}
-			v, err := strconv.ParseFloat(cell, 64)
-			if err != nil {
-				t.Fatal(err)
-			}
-			x = append(x, v)
-		}
-	}
-	n := len(rows) - 1
-	return x, n, len(x) / n
+	return x, n, d
 }
 
 func TestPCAInitAgainstScikitLearn(t *testing.T) {

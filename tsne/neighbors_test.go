@@ -1,7 +1,6 @@
 package tsne
 
 import (
-	"encoding/csv"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -11,6 +10,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"plumb/internal/fixture"
 )
 
 // nbtDigits reads testdata/digits.csv (UCI optical recognition of
@@ -38,19 +39,7 @@ func nbtDigits(t testing.TB) (x []float64, n, d int) {
 // nbtReadCSV reads a headed CSV file and returns the data rows.
 func nbtReadCSV(t testing.TB, path string) [][]string {
 	t.Helper()
-	f, err := os.Open(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	rows, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatalf("%s: %v", path, err)
-	}
-	if len(rows) < 2 {
-		t.Fatalf("%s: no data rows", path)
-	}
-	return rows[1:]
+	return fixture.MustReadCSV(t, path).Rows
 }
 
 // nbtAtoi and nbtAtof parse fixture fields, failing the test on error.

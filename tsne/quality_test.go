@@ -1,13 +1,10 @@
 package tsne_test
 
 import (
-	"encoding/csv"
-	"fmt"
-	"os"
 	"path/filepath"
-	"strconv"
 	"testing"
 
+	"plumb/internal/fixture"
 	"plumb/tsne"
 )
 
@@ -31,34 +28,13 @@ func readLabelled(t testing.TB, name, labelCol string) qualityData {
 
 func loadLabelled(name, labelCol string) (qualityData, error) {
 	var q qualityData
-	f, err := os.Open(filepath.Join("..", "testdata", name))
+	t, err := fixture.ReadCSV(filepath.Join("..", "testdata", name))
 	if err != nil {
 		return q, err
 	}
-	defer f.Close()
-	rows, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		return q, err
-	}
-	head := rows[0]
-	for r, row := range rows[1:] {
-		for c, cell := range row {
-			switch head[c] {
-			case "id":
-			case labelCol:
-				q.labels = append(q.labels, cell)
-			default:
-				v, err := strconv.ParseFloat(cell, 64)
-				if err != nil {
-					return q, fmt.Errorf("%s: row %d, column %d: %v", name, r+2, c+1, err)
-				}
-				q.x = append(q.x, v)
-			}
-		}
-	}
-	q.n = len(rows) - 1
-	q.d = len(q.x) / q.n
-	return q, nil
+	q.labels = t.Strings(labelCol)
+	q.x, q.n, q.d, err = t.Numbers("id", labelCol)
+	return q, err
 }
 
 // mapNeighbours returns the k nearest map neighbours of point i (self

@@ -9,6 +9,8 @@ import (
 	"strings"
 	"sync"
 	"testing"
+
+	"plumb/internal/fixture"
 )
 
 // irisCheckStudy sweeps testdata/iris.csv (Fisher's iris via scikit-learn's
@@ -30,15 +32,8 @@ func irisCheckStudy(t *testing.T, dir, input string, extra ...string) {
 // (Fisher 1936 order, kept by scikit-learn).
 func swappedIris(t *testing.T, path string, n int) map[string]bool {
 	t.Helper()
-	in, err := os.Open("../../testdata/iris.csv")
-	if err != nil {
-		t.Fatal(err)
-	}
-	rows, err := csv.NewReader(in).ReadAll()
-	in.Close()
-	if err != nil {
-		t.Fatal(err)
-	}
+	iris := fixture.MustReadCSV(t, "../../testdata/iris.csv")
+	rows := append([][]string{iris.Header}, iris.Rows...)
 	swapped := map[string]bool{}
 	for i := 0; i < n; i++ {
 		a, b := rows[1+i], rows[1+100+i]

@@ -10,6 +10,7 @@ import (
 	"time"
 
 	"github.com/urfave/cli/v2"
+	"golang.org/x/term"
 
 	"plumb/internal/dataset"
 	"plumb/sweep"
@@ -216,14 +217,11 @@ func layoutFormat(out string) (string, error) {
 	return "", fmt.Errorf("--out %s: the file name must end in .parquet or .csv", out)
 }
 
-// isTerminal reports whether w is a character device.
+// isTerminal reports whether w is a terminal (term.IsTerminal: a character
+// device such as /dev/null is not one).
 func isTerminal(w io.Writer) bool {
 	f, ok := w.(*os.File)
-	if !ok {
-		return false
-	}
-	st, err := f.Stat()
-	return err == nil && st.Mode()&os.ModeCharDevice != 0
+	return ok && term.IsTerminal(int(f.Fd()))
 }
 
 // progressLine redraws one status line on a terminal.

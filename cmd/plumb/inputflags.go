@@ -3,7 +3,9 @@ package main
 import (
 	"fmt"
 	"runtime"
+	"strconv"
 	"strings"
+	"unicode/utf8"
 
 	"github.com/urfave/cli/v2"
 
@@ -20,18 +22,31 @@ func inputFlags() []cli.Flag {
 		&cli.StringFlag{Name: "columns", Usage: "comma list of feature columns (default: every column except id and label)"},
 		&cli.BoolFlag{Name: "standardize", Usage: "scale each feature to mean 0 and standard deviation 1 before anything else"},
 		&cli.IntFlag{Name: "pca", Usage: "project the features onto their first `K` principal components (0: off)"},
-		&cli.StringFlag{Name: "format", Usage: "input format when the extension does not tell: csv, tsv, parquet or arrow"},
+		&cli.StringFlag{Name: "format", Usage: "input format when the extension does not tell: csv, tsv, parquet or arrow (a Parquet or Arrow file is recognised by its first bytes whatever its name)"},
+		&cli.StringFlag{Name: "delimiter", Usage: "field separator of a CSV/TSV file: one character, or tab, space (runs of blanks, no quoting), comma, semicolon, pipe (default: comma for .csv, tab for .tsv, or a first line sep=X)"},
+		&cli.BoolFlag{Name: "decimal-comma", Usage: "CSV/TSV numbers are written with a decimal comma (1,5); use with --delimiter ';'"},
+		&cli.BoolFlag{Name: "no-header", Usage: "the CSV/TSV file has no header row: its first row is data and the columns are named col1, col2, …"},
 	}
 }
 
 // inputOptions reads the flags from inputFlags.
 func inputOptions(c *cli.Context) (string, dataset.Options, error) {
 	opt := dataset.Options{
-		IDColumn:    c.String("id-column"),
-		LabelColumn: c.String("label-column"),
-		Standardize: c.Bool("standardize"),
-		PCA:         c.Int("pca"),
-		Format:      c.String("format"),
+		IDColumn:     c.String("id-column"),
+		LabelColumn:  c.String("label-column"),
+		Standardize:  c.Bool("standardize"),
+		PCA:          c.Int("pca"),
+		Format:       c.String("format"),
+		Delimiter:    c.String("delimiter"),
+		DecimalComma: c.Bool("decimal-comma"),
+		NoHeader:     c.Bool("no-header"),
+	}
+	// Every name given here ends up in study.json and Parquet metadata,
+	// which hold UTF-8 only.
+	for _, f := range []string{"input", "id-column", "label-column", "columns", "delimiter"} {
+		if v := c.String(f); !utf8.ValidString(v) {
+			return "", opt, fmt.Errorf("--%s %s: not valid UTF-8 (plumb stores names and paths as UTF-8)", f, strconv.Quote(v))
+		}
 	}
 	if s := strings.TrimSpace(c.String("columns")); s != "" {
 		for _, f := range strings.Split(s, ",") {

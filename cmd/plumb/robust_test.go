@@ -268,7 +268,7 @@ func TestBadInputs(t *testing.T) {
 		{name: "Parquet, truncated (fixture)", input: rbInputs + "truncated.parquet", want: []string{"truncated.parquet", "corrupt or truncated Parquet"}, embed: true},
 		{name: "Parquet, corrupt column data", input: corruptPq, want: []string{"corrupt_data.parquet"}, embed: true},
 		{name: "Parquet, truncated iris", input: truncPq, want: []string{"truncated.parquet", "corrupt or truncated Parquet"}, embed: true},
-		{name: "Parquet, text file", input: notPq, want: []string{"text.parquet", "Parquet"}, embed: true},
+		{name: "Parquet, text file", input: notPq, want: []string{"text.parquet", "no data rows after the header", "the file is a text file but is named .parquet"}, embed: true},
 		{name: "Parquet, string feature column", input: filepath.Join(tmp, "string_feature.parquet"),
 			want: []string{"string_feature.parquet", "column 4 (sepal_width)", "type utf8 is not numeric"}, embed: true},
 		{name: "Arrow, truncated (fixture)", input: rbInputs + "truncated.arrow", extra: []string{"--id-column", "", "--label-column", ""},

@@ -21,17 +21,11 @@ func init() {
 	flags := append(inputFlags(),
 		&cli.StringFlag{Name: "out", Aliases: []string{"o"}, Usage: "study `DIR` (created; resumed if it holds this study)", Required: true},
 		&cli.StringFlag{Name: "plan", Usage: "plan `FILE` (JSON object with the fields below); flags override it"},
-		&cli.StringFlag{Name: "perplexity", Usage: "comma list of perplexities (default 30)"},
-		&cli.StringFlag{Name: "learning-rate", Usage: "comma list of learning rates, numbers or auto (default auto = max(n/(4·exaggeration), 50), 4-in-gradient convention)"},
-		&cli.StringFlag{Name: "exaggeration", Usage: "comma list of early-exaggeration factors ≥ 1 (default 12)"},
-		&cli.StringFlag{Name: "exaggeration-iters", Usage: "comma list of early-exaggeration lengths (default 250)"},
-		&cli.StringFlag{Name: "iters", Usage: "comma list of total iteration counts (default 1000)"},
-		&cli.StringFlag{Name: "init", Usage: "comma list of initialisations: pca, random (default pca)"},
-		&cli.StringFlag{Name: "gradient", Usage: "comma list of gradient methods: auto, exact, barnes-hut, fft (default auto)"},
-		&cli.StringFlag{Name: "theta", Usage: "Barnes-Hut opening angle (default 0.8; see the README)"},
-		&cli.StringFlag{Name: "seeds", Usage: "a count N (seeds 1..N) or a list/range such as 1-5,9 (default 1)"},
-		&cli.StringFlag{Name: "neighbors", Usage: "neighbour search: auto, exact, approx (default auto)"},
-		&cli.StringFlag{Name: "kl-every", Usage: "record the KL divergence every N iterations (default 50)"},
+	)
+	for _, f := range sweep.SpecFields {
+		flags = append(flags, &cli.StringFlag{Name: f.Flag(), Usage: f.Doc})
+	}
+	flags = append(flags,
 		&cli.BoolFlag{Name: "dry-run", Usage: "print the plan, the shared work and an estimate; run nothing"},
 		&cli.IntFlag{Name: "jobs", Aliases: []string{"j"}, Usage: fmt.Sprintf("runs optimised at once (0: automatic — one single-threaded run per core up to %d points, one run on every core above; with --threads T, cores ÷ T)", sweep.SmallN)},
 		threadsFlag,
@@ -62,12 +56,9 @@ func planSpec(c *cli.Context) (sweep.Spec, error) {
 		}
 		base = s
 	}
-	over := sweep.Spec{
-		Perplexity: c.String("perplexity"), LearningRate: c.String("learning-rate"),
-		Exaggeration: c.String("exaggeration"), ExaggerationIters: c.String("exaggeration-iters"),
-		Iters: c.String("iters"), Init: c.String("init"), Gradient: c.String("gradient"),
-		Theta: c.String("theta"), Seeds: c.String("seeds"), Neighbors: c.String("neighbors"),
-		KLEvery: c.String("kl-every"),
+	var over sweep.Spec
+	for _, f := range sweep.SpecFields {
+		f.Set(&over, c.String(f.Flag()))
 	}
 	return base.Merge(over), nil
 }
@@ -273,11 +264,9 @@ type progress struct {
 
 func newProgress(w io.Writer) *progress {
 	p := &progress{w: w, interval: 5 * time.Second}
-	if f, ok := w.(*os.File); ok {
-		if fi, err := f.Stat(); err == nil && fi.Mode()&os.ModeCharDevice != 0 {
-			p.tty = true
-			p.interval = 200 * time.Millisecond
-		}
+	if isTerminal(w) {
+		p.tty = true
+		p.interval = 200 * time.Millisecond
 	}
 	return p
 }

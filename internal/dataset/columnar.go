@@ -9,6 +9,7 @@ import (
 	"math"
 	"os"
 	"strconv"
+	"unicode/utf8"
 
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
@@ -114,7 +115,7 @@ func readParquet(f source, path string, opt Options, mem memory.Allocator) (*Dat
 		return nil, corrupt(path, kind, err)
 	}
 	defer rr.Release()
-	b := newBuilder(path, p)
+	b := newBuilder(path, p, opt)
 	for rr.Next() {
 		if err := b.addBatch(rr.RecordBatch()); err != nil {
 			return nil, err
@@ -160,7 +161,7 @@ func readArrow(f source, path string, size int64, opt Options, mem memory.Alloca
 		if err != nil {
 			return nil, err
 		}
-		b := newBuilder(path, p)
+		b := newBuilder(path, p, opt)
 		for i := 0; i < fr.NumRecords(); i++ {
 			rec, err := fr.RecordBatchAt(i)
 			if err != nil {
@@ -188,7 +189,7 @@ func readArrow(f source, path string, size int64, opt Options, mem memory.Alloca
 	if err != nil {
 		return nil, err
 	}
-	b := newBuilder(path, p)
+	b := newBuilder(path, p, opt)
 	for r.Next() {
 		if err := b.addBatch(r.RecordBatch()); err != nil {
 			return nil, err
@@ -208,6 +209,9 @@ func readArrow(f source, path string, size int64, opt Options, mem memory.Alloca
 func planSchema(path string, sc *arrow.Schema, opt Options) (*plan, error) {
 	names := make([]string, sc.NumFields())
 	for j, f := range sc.Fields() {
+		if !utf8.ValidString(f.Name) {
+			return nil, &InputError{File: path, Column: j + 1, Msg: notUTF8("column name", f.Name), keep: true}
+		}
 		names[j] = f.Name
 	}
 	p, err := resolveColumns(path, names, 0, opt)
@@ -233,7 +237,8 @@ func isNumeric(dt arrow.DataType) bool {
 	switch dt.ID() {
 	case arrow.INT8, arrow.INT16, arrow.INT32, arrow.INT64,
 		arrow.UINT8, arrow.UINT16, arrow.UINT32, arrow.UINT64,
-		arrow.FLOAT16, arrow.FLOAT32, arrow.FLOAT64:
+		arrow.FLOAT16, arrow.FLOAT32, arrow.FLOAT64,
+		arrow.DECIMAL32, arrow.DECIMAL64, arrow.DECIMAL128, arrow.DECIMAL256:
 		return true
 	}
 	return false
@@ -277,7 +282,7 @@ func (b *builder) addBatch(rec arrow.RecordBatch) error {
 		if err != nil {
 			return err
 		}
-		if i, msg := fillColumn(arr, x, d, f); msg != "" {
+		if i, msg := fillColumn(arr, x, d, f, !b.standardize); msg != "" {
 			return &InputError{File: b.file, Row: off + i + 1, Column: j + 1, ColumnName: p.names[j], Msg: msg}
 		}
 	}
@@ -302,10 +307,12 @@ func (b *builder) addBatch(rec arrow.RecordBatch) error {
 			return err
 		}
 		for i := 0; i < m; i++ {
-			if arr.IsNull(i) {
-				b.addLabel("")
-			} else {
-				b.addLabel(labelString(arr, i))
+			s := ""
+			if !arr.IsNull(i) {
+				s = labelString(arr, i)
+			}
+			if err := b.addLabel(s, off+i+1, p.label); err != nil {
+				return err
 			}
 		}
 	}
@@ -359,8 +366,11 @@ type number interface {
 
 // fillColumn writes the values of arr into column f of the row-major x with
 // d columns. It returns the 0-based row and a message for the first null or
-// non-finite value, or "" when all are good.
-func fillColumn(arr arrow.Array, x []float64, d, f int) (int, string) {
+// non-finite value (or, when bound is set, a value beyond maxMagnitude),
+// or "" when all are good. Negative zeros are stored as +0. Decimals are
+// converted through their exact decimal text, so 5.1 stored as DECIMAL
+// gives the same float64 as "5.1" in a CSV file.
+func fillColumn(arr arrow.Array, x []float64, d, f int, bound bool) (int, string) {
 	if arr.NullN() > 0 {
 		for i := 0; i < arr.Len(); i++ {
 			if arr.IsNull(i) {
@@ -370,9 +380,17 @@ func fillColumn(arr arrow.Array, x []float64, d, f int) (int, string) {
 	}
 	switch a := arr.(type) {
 	case *array.Float64:
-		return fillFloat(a.Float64Values(), x, d, f)
+		return fillFloat(a.Float64Values(), x, d, f, bound)
 	case *array.Float32:
-		return fillFloat(a.Float32Values(), x, d, f)
+		return fillFloat(a.Float32Values(), x, d, f, bound)
+	case *array.Decimal32:
+		return fillDecimal(a.Len(), func(i int) string { return strconv.FormatInt(int64(a.Value(i)), 10) }, decimalScale(a), x, d, f, bound)
+	case *array.Decimal64:
+		return fillDecimal(a.Len(), func(i int) string { return strconv.FormatInt(int64(a.Value(i)), 10) }, decimalScale(a), x, d, f, bound)
+	case *array.Decimal128:
+		return fillDecimal(a.Len(), func(i int) string { return a.Value(i).BigInt().String() }, decimalScale(a), x, d, f, bound)
+	case *array.Decimal256:
+		return fillDecimal(a.Len(), func(i int) string { return a.Value(i).BigInt().String() }, decimalScale(a), x, d, f, bound)
 	case *array.Float16:
 		for i := 0; i < a.Len(); i++ {
 			v := float64(a.Value(i).Float32())
@@ -410,11 +428,41 @@ func fillInt[T number](v []T, x []float64, d, f int) {
 	}
 }
 
-func fillFloat[T ~float32 | ~float64](v []T, x []float64, d, f int) (int, string) {
+func fillFloat[T ~float32 | ~float64](v []T, x []float64, d, f int, bound bool) (int, string) {
 	for i, u := range v {
 		w := float64(u)
 		if msg := finite(w); msg != "" {
 			return i, msg
+		}
+		if bound && math.Abs(w) > maxMagnitude {
+			return i, tooLarge(strconv.FormatFloat(w, 'g', -1, 64))
+		}
+		if w == 0 {
+			w = 0 // -0 → +0
+		}
+		x[i*d+f] = w
+	}
+	return 0, ""
+}
+
+func decimalScale(a arrow.Array) int32 { return a.DataType().(arrow.DecimalType).GetScale() }
+
+// fillDecimal converts n decimals of the given scale, whose unscaled
+// integers unscaled(i) gives in decimal, by parsing "U e −scale": correctly
+// rounded, as a CSV cell holding the same number would be, for any scale
+// (negative ones included).
+func fillDecimal(n int, unscaled func(int) string, scale int32, x []float64, d, f int, bound bool) (int, string) {
+	for i := 0; i < n; i++ {
+		s := unscaled(i) + "e" + strconv.Itoa(-int(scale))
+		w, err := strconv.ParseFloat(s, 64)
+		if err != nil || math.IsInf(w, 0) {
+			return i, "decimal out of range for float64: " + quoteCell(s)
+		}
+		if bound && math.Abs(w) > maxMagnitude {
+			return i, tooLarge(s)
+		}
+		if w == 0 {
+			w = 0
 		}
 		x[i*d+f] = w
 	}

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 )
 
 // plan says which file columns (0-based) hold the id, the label and the
@@ -31,6 +32,11 @@ func resolveColumns(file string, names []string, headerRow int, opt Options) (*p
 				Msg: fmt.Sprintf("duplicate column name %s (also column %d)", strconv.Quote(name), k+1)}
 		}
 		index[name] = j
+	}
+	for _, name := range append([]string{opt.IDColumn, opt.LabelColumn}, opt.Columns...) {
+		if !utf8.ValidString(name) {
+			return nil, &InputError{File: file, Msg: fmt.Sprintf("the column name %s asked for is not valid UTF-8", quoteCell(name)), keep: true}
+		}
 	}
 	p := &plan{id: -1, label: -1, names: names}
 	find := func(role, name string) (int, error) {

@@ -1,7 +1,6 @@
 package dataset
 
 import (
-	"compress/gzip"
 	"crypto/sha256"
 	"encoding/hex"
 	"errors"
@@ -74,8 +73,23 @@ type Options struct {
 	// are taken as "arrow"). If empty, the format follows the file's
 	// extension: .csv, .tsv/.tab, .txt (tab-separated when the first line
 	// has a tab, comma-separated otherwise), each optionally followed by
-	// .gz; .parquet/.pq; .arrow/.feather/.ipc/.arrows.
+	// .gz; .parquet/.pq; .arrow/.feather/.ipc/.arrows. Whatever the name
+	// or Format says, a file whose first bytes are those of Parquet or
+	// Arrow IPC is read as such, a text file named as Parquet or Arrow is
+	// read as a text table, and gzip data is decompressed; each such
+	// switch adds a line to Dataset.Warnings.
 	Format string
+	// Delimiter separates the fields of a CSV/TSV file: one character, or
+	// "tab", "space" (runs of spaces and tabs, no quoting), "comma",
+	// "semicolon" or "pipe". If empty, it follows the format (comma for
+	// CSV, tab for TSV), or a first line "sep=X".
+	Delimiter string
+	// DecimalComma reads feature cells of CSV/TSV files with a decimal
+	// comma ("1,5" is 1.5); cells holding a point are then refused.
+	DecimalComma bool
+	// NoHeader reads the first row of a CSV/TSV file as data; the columns
+	// are then named col1, col2, …
+	NoHeader bool
 }
 
 // Read reads a table from path and returns its features, ids and labels,
@@ -101,7 +115,15 @@ type Options struct {
 // 1-based position of the column in the file.
 //
 // Constant feature columns are accepted and reported in Dataset.Warnings.
-// Identical rows are accepted (t-SNE handles duplicate points).
+// Identical rows are accepted (t-SNE handles duplicate points). Feature
+// values beyond 1e100 in magnitude are refused unless opt.Standardize is
+// set, and so are data whose largest value is below 1e-100: squared
+// distances must neither overflow nor underflow. Negative zeros are
+// stored as +0.
+//
+// path must name a regular file (see checkRegular); text must be UTF-8 or
+// UTF-16 with a byte order mark (see readDelimited for the dialects), and
+// ids, labels and column names that are not valid UTF-8 are refused.
 func Read(path string, opt Options) (*Dataset, error) {
 	format, gz, err := detectFormat(path, opt.Format)
 	if err != nil {
@@ -110,17 +132,35 @@ func Read(path string, opt Options) (*Dataset, error) {
 	if opt.PCA < 0 {
 		return nil, &InputError{File: path, Msg: fmt.Sprintf("PCA components must be 0 (off) or positive, got %d", opt.PCA)}
 	}
+	if err := checkRegular(path); err != nil {
+		return nil, err
+	}
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, &InputError{File: path, Msg: openMessage(err), Err: err}
 	}
 	defer f.Close()
+	if st, err := f.Stat(); err != nil {
+		return nil, &InputError{File: path, Msg: "cannot stat: " + err.Error(), Err: err}
+	} else if err := regularFile(path, st); err != nil {
+		return nil, err // replaced between the look and the open
+	}
+	head := make([]byte, 64)
+	n, _ := f.ReadAt(head, 0)
+	named := format
+	format, gz, note, err := contentFormat(path, head[:n], format, gz, opt.Format != "")
+	if err != nil {
+		return nil, err
+	}
 	h := sha256.New()
 	var ds *Dataset
 	switch format {
 	case "parquet", "arrow":
 		if gz {
 			return nil, &InputError{File: path, Msg: "compressed (.gz) Parquet or Arrow files are not supported; use the format's own compression"}
+		}
+		if opt.NoHeader || opt.Delimiter != "" || opt.DecimalComma {
+			return nil, &InputError{File: path, Msg: fmt.Sprintf("is a %s file: no-header, delimiter and decimal-comma apply to CSV/TSV files only", kindName(format))}
 		}
 		ds, err = readColumnarFile(f, path, format, opt)
 		if err == nil {
@@ -131,7 +171,14 @@ func Read(path string, opt Options) (*Dataset, error) {
 		ds, err = readText(f, h, path, format, gz, opt)
 	}
 	if err != nil {
+		var ie *InputError
+		if note != "" && errors.As(err, &ie) && format != named {
+			ie.Msg += " (the file " + note + ")"
+		}
 		return nil, err
+	}
+	if note != "" {
+		ds.Warnings = append([]string{oneLine(path) + " " + note}, ds.Warnings...)
 	}
 	ds.SourceHash = hex.EncodeToString(h.Sum(nil))
 	ds.Format = format
@@ -139,6 +186,50 @@ func Read(path string, opt Options) (*Dataset, error) {
 		return nil, err
 	}
 	return ds, nil
+}
+
+// contentFormat checks the format named by the extension or the Format
+// option against the file's first bytes, and returns the format to read
+// it as, whether it is gzip-compressed, and a note for the warning when
+// the two differ. Parquet and Arrow IPC magic numbers are decisive; a
+// text file named as Parquet or Arrow is read as a text table (tab- or
+// comma-separated by its first line); gzip data in a file named as text
+// is decompressed; workbooks are refused.
+func contentFormat(path string, head []byte, format string, gz, given bool) (string, bool, string, error) {
+	if len(head) == 0 {
+		return format, gz, "", nil // empty: each reader says so
+	}
+	kind := contentKind(head)
+	lower := strings.ToLower(path)
+	as := "named " + filepath.Ext(strings.TrimSuffix(lower, ".gz"))
+	if gz {
+		as += ".gz"
+	}
+	if given {
+		as = "given as --format " + format
+	}
+	switch kind {
+	case kindParquet, kindArrow:
+		if format != kind || gz {
+			return kind, false, fmt.Sprintf("is %s file but is %s; read as %s", article(kindName(kind)), as, kindName(kind)), nil
+		}
+	case kindZip, kindOLE:
+		return "", false, "", &InputError{File: path, Msg: workbook(kind)}
+	case kindText, kindGzip:
+		if format == "parquet" || format == "arrow" {
+			if kind == kindGzip {
+				if gz {
+					return format, gz, "", nil // refused by Read as compressed Parquet/Arrow
+				}
+				return "", false, "", &InputError{File: path, Msg: fmt.Sprintf("is gzip-compressed data but is %s: decompress it, or name it .csv.gz or .tsv.gz if it is a compressed text table", as)}
+			}
+			if gz {
+				return format, gz, "", nil
+			}
+			return "txt", false, fmt.Sprintf("is a text file but is %s; read as a text table (CSV, or TSV if its first line has a tab)", as), nil
+		}
+	}
+	return format, gz, "", nil
 }
 
 func openMessage(err error) string {
@@ -155,29 +246,14 @@ func openMessage(err error) string {
 	return "cannot open: " + err.Error()
 }
 
-// readText reads a CSV or TSV file, gzip-compressed when gz is set, hashing
-// the raw bytes into h.
+// readText reads a CSV or TSV file, gzip-compressed when gz is set (or
+// when its first bytes say so), hashing the raw bytes into h.
 func readText(f *os.File, h hash.Hash, path, format string, gz bool, opt Options) (*Dataset, error) {
-	if st, err := f.Stat(); err == nil && st.IsDir() {
-		return nil, &InputError{File: path, Msg: "is a directory, not a file"}
-	}
-	var r io.Reader = io.TeeReader(f, h)
-	if gz {
-		zr, err := gzip.NewReader(r)
-		if err != nil {
-			if errors.Is(err, io.EOF) {
-				return nil, &InputError{File: path, Msg: "empty file (no header row)"}
-			}
-			return nil, &InputError{File: path, Msg: "not a valid gzip file: " + err.Error(), Err: err}
-		}
-		defer zr.Close()
-		r = zr
-	}
 	var size int64
 	if st, err := f.Stat(); err == nil && !gz {
 		size = st.Size()
 	}
-	ds, err := readDelimited(r, path, format, opt, size)
+	ds, err := readDelimited(io.TeeReader(f, h), path, format, gz, opt, size)
 	if err != nil {
 		return nil, err
 	}

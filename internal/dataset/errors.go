@@ -22,6 +22,9 @@ type InputError struct {
 	Msg        string
 	// Err is the underlying error, if any (for errors.Is / errors.As).
 	Err error
+	// keep marks errors that say what is wrong whatever the dialect
+	// (encoding, row length), so the dialect sniffer leaves them alone.
+	keep bool
 }
 
 // Error returns the one-line message.

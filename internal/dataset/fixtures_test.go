@@ -162,18 +162,30 @@ func writeArrowFile(t *testing.T, name string, rec arrow.RecordBatch, stream boo
 	return buf.Bytes()
 }
 
+// writeFixture rewrites testdata/inputs/name with -update and otherwise
+// checks that the committed file has exactly these bytes (golden-file
+// pattern), so a change to the generator or the writer libraries shows.
 func writeFixture(t *testing.T, name string, data []byte) {
 	t.Helper()
-	if err := os.WriteFile(in(name), data, 0o644); err != nil {
+	if *update {
+		if err := os.WriteFile(in(name), data, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		return
+	}
+	got, err := os.ReadFile(in(name))
+	if err != nil {
 		t.Fatal(err)
+	}
+	if !bytes.Equal(got, data) {
+		t.Errorf("%s: committed fixture (%d bytes) differs from the generator's output (%d bytes); rerun with -update if the change is intended", name, len(got), len(data))
 	}
 }
 
+// TestWriteColumnarFixtures makes the Parquet and Arrow fixtures: with
+// -update it writes them, otherwise it checks the committed ones.
 func TestWriteColumnarFixtures(t *testing.T) {
-	if !*update {
-		t.Skip("run with -update to rewrite the fixtures")
-	}
-	pq := writeParquet(t, "good.parquet", record(goodColumns(arrow.PrimitiveTypes.Int64, arrow.PrimitiveTypes.Float32)), 2)
+	good := writeParquet(t, "good.parquet", record(goodColumns(arrow.PrimitiveTypes.Int64, arrow.PrimitiveTypes.Float32)), 2)
 	writeArrowFile(t, "good.arrow", record(goodColumns(arrow.PrimitiveTypes.Int32, arrow.FixedWidthTypes.Float16)), false)
 	writeArrowFile(t, "good.arrows", record(goodColumns(arrow.PrimitiveTypes.Uint8, arrow.PrimitiveTypes.Float64)), true)
 
@@ -213,8 +225,8 @@ func TestWriteColumnarFixtures(t *testing.T) {
 	writeParquet(t, "zero_rows.parquet", empty, 1024)
 	writeArrowFile(t, "zero_rows.arrow", empty, false)
 	// Truncated and corrupted copies of good.parquet and good.arrow.
-	writeFixture(t, "truncated.parquet", pq[:len(pq)/2])
-	bad := bytes.Clone(pq)
+	writeFixture(t, "truncated.parquet", good[:len(good)/2])
+	bad := bytes.Clone(good)
 	for i := 4; i < len(bad)/2; i++ {
 		bad[i] ^= 0x5a
 	}

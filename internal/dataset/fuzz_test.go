@@ -35,7 +35,7 @@ func fuzzOptions(data []byte, sep string, a, b uint8) Options {
 // either a one-line *InputError or a data set with consistent sizes,
 // finite values and unique ids.
 func fuzzRead(t *testing.T, data []byte, format string, opt Options) {
-	ds, err := readDelimited(bytes.NewReader(data), "fuzz."+format, format, opt, int64(len(data)))
+	ds, err := readDelimited(bytes.NewReader(data), "fuzz."+format, format, false, opt, int64(len(data)))
 	if err == nil {
 		err = ds.prepare(opt)
 	}
@@ -104,6 +104,7 @@ func FuzzReadColumnar(f *testing.F) {
 			f.Add(data, strings.HasSuffix(name, ".parquet"))
 		}
 	}
+	f.Add(decimalParquet(f), true)
 	f.Fuzz(func(t *testing.T, data []byte, parquet bool) {
 		format := "arrow"
 		if parquet {
@@ -121,5 +122,37 @@ func FuzzReadColumnar(f *testing.F) {
 			return
 		}
 		checkConsistent(t, ds)
+	})
+}
+
+// FuzzReadDialect: the text reader with the dialect options (delimiter,
+// decimal comma, no header) and the sniffing of encodings, line ends and
+// compression, seeded from testdata/inputs/dialect_* and the other text
+// fixtures (made by make_dialects.py).
+func FuzzReadDialect(f *testing.F) {
+	for _, p := range []string{"dialect_*", "*.csv", "*.tsv", "*.txt"} {
+		files, _ := filepath.Glob(filepath.Join(inputs, p))
+		for _, name := range files {
+			data, err := os.ReadFile(name)
+			if err != nil {
+				f.Fatal(err)
+			}
+			for _, flags := range []uint8{0, 1, 2 | 8, 3, 16, 16 | 32 | 1} {
+				f.Add(data, flags)
+			}
+		}
+	}
+	f.Fuzz(func(t *testing.T, data []byte, flags uint8) {
+		opt := Options{
+			Delimiter:    []string{"", ";", "space", "tab", "|", ","}[int(flags&7)%6],
+			DecimalComma: flags&8 != 0,
+			NoHeader:     flags&16 != 0,
+			Standardize:  flags&64 != 0,
+		}
+		format := "csv"
+		if flags&32 != 0 {
+			format = "txt"
+		}
+		fuzzRead(t, data, format, opt)
 	})
 }

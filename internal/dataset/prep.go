@@ -36,7 +36,25 @@ func (d *Dataset) prepare(opt Options) error {
 			d.Columns[k] = "pc" + strconv.Itoa(k+1)
 		}
 	}
+	if err := d.checkSmall(); err != nil {
+		return err
+	}
 	d.Fingerprint = Fingerprint(d)
+	return nil
+}
+
+// checkSmall refuses features whose largest magnitude is below
+// minMagnitude (but not all zero, which is left to the caller's check
+// for data without variance): their squared differences underflow.
+func (d *Dataset) checkSmall() error {
+	big := 0.0
+	for _, v := range d.X {
+		big = max(big, math.Abs(v))
+	}
+	if big > 0 && big < minMagnitude {
+		return &InputError{File: d.Source, Msg: fmt.Sprintf(
+			"every feature value is smaller than 1e-100 in magnitude (the largest is %g): squared distances would underflow to zero; rescale the data (or pass --standardize)", big)}
+	}
 	return nil
 }
 
@@ -72,7 +90,10 @@ func constantColumns(x []float64, n, d int) []bool {
 // convention of scikit-learn's StandardScaler. The mean is taken in two
 // passes (mean, then sum of squared deviations) for accuracy. A constant
 // column (every value equal) has σ = 0 and is set to 0 rather than
-// divided by zero. n = 0 is a no-op.
+// divided by zero. A column whose sums overflow or whose squared
+// deviations underflow (|x| near 1e308 or 1e-160) is computed on a copy
+// scaled by a power of two instead, so any finite input gives finite
+// z-scores. n = 0 is a no-op.
 func Standardize(x []float64, n, d int) {
 	if n == 0 || d == 0 {
 		return
@@ -97,6 +118,13 @@ func Standardize(x []float64, n, d int) {
 		}
 	}
 	constant := constantColumns(x, n, d)
+	scaled := make([]bool, d)
+	for j := range mean {
+		if !constant[j] && (ss[j] == 0 || math.IsInf(ss[j], 0) || math.IsNaN(mean[j]) || math.IsInf(mean[j], 0)) {
+			standardizeScaled(x, n, d, j)
+			scaled[j] = true
+		}
+	}
 	inv := make([]float64, d)
 	for j := range inv {
 		sd := math.Sqrt(ss[j] / float64(n))
@@ -109,11 +137,45 @@ func Standardize(x []float64, n, d int) {
 	for i := 0; i < n; i++ {
 		row := x[i*d : (i+1)*d]
 		for j := range row {
+			if scaled[j] {
+				continue
+			}
 			if inv[j] == 0 {
 				row[j] = 0
 			} else {
 				row[j] = (row[j] - mean[j]) * inv[j]
 			}
+		}
+	}
+}
+
+// standardizeScaled z-scores column j of the n×d row-major x in place,
+// for a column whose plain sums overflow (values near the float64
+// maximum) or whose squared deviations underflow (values near the
+// smallest float64). It works on the column scaled by a power of two,
+// 2^-e with 2^e just above the largest |x|, which is exact for normal
+// numbers, so the z-scores are those of the unscaled column.
+func standardizeScaled(x []float64, n, d, j int) {
+	big := 0.0
+	for i := 0; i < n; i++ {
+		big = max(big, math.Abs(x[i*d+j]))
+	}
+	_, e := math.Frexp(big)
+	m, q := 0.0, 0.0
+	for i := 0; i < n; i++ {
+		m += math.Ldexp(x[i*d+j], -e)
+	}
+	m /= float64(n)
+	for i := 0; i < n; i++ {
+		r := math.Ldexp(x[i*d+j], -e) - m
+		q += r * r
+	}
+	sd := math.Sqrt(q / float64(n))
+	for i := 0; i < n; i++ {
+		if sd == 0 {
+			x[i*d+j] = 0
+		} else {
+			x[i*d+j] = (math.Ldexp(x[i*d+j], -e) - m) / sd
 		}
 	}
 }
@@ -213,7 +275,9 @@ const fingerprintTag = "plumb dataset fingerprint v1\n"
 //	the ASCII tag "plumb dataset fingerprint v1\n"
 //	N, D
 //	the N·D features of X in row-major order, each as the little-endian
-//	  IEEE-754 bits of the float64 (math.Float64bits; so -0 ≠ +0)
+//	  IEEE-754 bits of the float64 (math.Float64bits; so -0 ≠ +0, but the
+//	  readers store an input -0 as +0, so "-0" and "0" in a file give the
+//	  same fingerprint)
 //	for each of the N ids: its length in bytes, then its UTF-8 bytes
 //	one byte: 1 if there are labels, 0 if not
 //	if there are labels, for each of the N labels: its length, then its bytes

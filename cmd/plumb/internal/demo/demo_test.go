@@ -2,11 +2,12 @@ package demo
 
 import (
 	"bytes"
-	"encoding/csv"
 	"math"
 	"os"
 	"path/filepath"
 	"testing"
+
+	"plumb/internal/fixture"
 )
 
 func TestGenerateShapeAndDeterminism(t *testing.T) {
@@ -87,17 +88,9 @@ func TestWriteCSV(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	f, err := os.Open(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	rows, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
-	if len(rows) != d.N+1 || len(rows[0]) != 22 {
-		t.Fatalf("got %d rows × %d cols, want %d × 22", len(rows), len(rows[0]), d.N+1)
+	tb := fixture.MustReadCSV(t, path)
+	if len(tb.Rows) != d.N || len(tb.Header) != 22 {
+		t.Fatalf("got %d data rows × %d cols, want %d × 22", len(tb.Rows), len(tb.Header), d.N)
 	}
 	entries, _ := os.ReadDir(dir)
 	if len(entries) != 1 {

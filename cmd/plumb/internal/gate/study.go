@@ -164,6 +164,9 @@ func Load(s *sweep.Study) (*Study, error) {
 			if err != nil {
 				return nil, err
 			}
+			if len(l.Point) != n {
+				continue // a subsampled run: ids from a run of all points
+			}
 			st.IDs = make([]string, n)
 			for j, p := range l.Point {
 				if int(p) < 0 || int(p) >= n {

@@ -31,16 +31,46 @@ func lrText(v float64) string {
 
 // FromSweep adapts a study opened with sweep.Open to the read model:
 // plan, input, the score tables, the consensus layouts and, for finished
-// runs, the KL traces (a missing trace file leaves that run without one).
-// The study must have been scored.
+// runs, the KL traces (a missing trace file leaves that run without one)
+// and the layouts aligned onto their consensus (loadRunLayouts).
+// The study must have been scored. Cost: every finished run's layout file
+// and trace file are read, and each layout aligned in O(n).
 func FromSweep(s *sweep.Study) (*View, error) {
 	if s.SettingScores == nil {
 		return nil, &NotScoredError{Dir: s.Dir}
 	}
-	info, plan := s.Info, s.Plan
-	st := &View{Dir: s.Dir, Tool: "plumb", Version: info.Version, Created: info.Created, PlanHash: info.PlanHash,
-		Seeds: append([]uint64(nil), plan.Seeds...), K: s.ScoresK}
-	in := info.Input
+	b := &viewBuilder{s: s, v: &View{Dir: s.Dir, Tool: "plumb", Version: s.Info.Version, Created: s.Info.Created,
+		PlanHash: s.Info.PlanHash, Seeds: append([]uint64(nil), s.Plan.Seeds...), K: s.ScoresK}}
+	b.input()
+	b.gradient()
+	b.grid()
+	if err := b.points(); err != nil {
+		return nil, err
+	}
+	b.settings()
+	b.consensus()
+	b.runs()
+	b.pairs()
+	if err := loadRunLayouts(b.s, b.v); err != nil {
+		return nil, err
+	}
+	return b.v, nil
+}
+
+// viewBuilder fills a View from a sweep.Study, one step per method.
+type viewBuilder struct {
+	s *sweep.Study
+	v *View
+	// withTheta is set when Barnes-Hut was planned or used, so that θ is
+	// shown as a parameter.
+	withTheta bool
+	// index maps a setting id to its position in v.Settings.
+	index map[string]int
+}
+
+// input describes the input and its preprocessing.
+func (b *viewBuilder) input() {
+	in := b.s.Info.Input
 	pre := "none"
 	switch {
 	case in.Standardize && in.PCA > 0:
@@ -50,15 +80,19 @@ func FromSweep(s *sweep.Study) (*View, error) {
 	case in.PCA > 0:
 		pre = fmt.Sprintf("PCA to %d components", in.PCA)
 	}
-	st.Input = Input{Path: in.Path, Fingerprint: in.Fingerprint, N: in.N, D: in.D, Columns: in.Columns,
+	b.v.Input = Input{Path: in.Path, Fingerprint: in.Fingerprint, N: in.N, D: in.D, Columns: in.Columns,
 		IDColumn: in.IDColumn, LabelColumn: in.LabelColumn, Preprocessing: pre}
-	if len(s.RunScores) > 0 {
-		st.Sampled = s.RunScores[0].Sampled
+	if len(b.s.RunScores) > 0 {
+		b.v.Sampled = b.s.RunScores[0].Sampled
 	}
+}
 
-	// Methods used, from the runs (the plan may say "auto").
+// gradient describes the gradient methods used, from the runs (the plan
+// may say "auto").
+func (b *viewBuilder) gradient() {
+	plan := b.s.Plan
 	used := map[string]bool{}
-	for _, r := range s.Rows {
+	for _, r := range b.s.Rows {
 		if r.Status == sweep.StatusDone && r.Gradient != "" {
 			used[r.Gradient] = true
 		}
@@ -86,50 +120,45 @@ func FromSweep(s *sweep.Study) (*View, error) {
 			words = append(words, m)
 		}
 	}
-	st.Gradient = strings.Join(words, "; ")
+	b.v.Gradient = strings.Join(words, "; ")
+	b.withTheta = used["barnes-hut"]
+}
 
-	// The grid, in plan order.
-	var fs []string
-	for _, v := range plan.Perplexity {
-		fs = append(fs, ff(v))
+// grid lists the plan's parameters and values, in plan order.
+func (b *viewBuilder) grid() {
+	plan := b.s.Plan
+	add := func(name string, values []string) { b.v.Grid = append(b.v.Grid, Param{name, values}) }
+	add("perplexity", mapValues(plan.Perplexity, ff))
+	add("learning_rate", mapValues(plan.LearningRate, lrText))
+	add("exaggeration", mapValues(plan.Exaggeration, ff))
+	add("exaggeration_iters", mapValues(plan.ExaggerationIters, strconv.Itoa))
+	add("iters", mapValues(plan.Iters, strconv.Itoa))
+	add("init", append([]string(nil), plan.Init...))
+	add("gradient", append([]string(nil), plan.Gradient...))
+	if b.withTheta {
+		add("theta", []string{ff(plan.Theta)})
 	}
-	st.Grid = append(st.Grid, Param{"perplexity", fs})
-	fs = nil
-	for _, v := range plan.LearningRate {
-		fs = append(fs, lrText(v))
-	}
-	st.Grid = append(st.Grid, Param{"learning_rate", fs})
-	fs = nil
-	for _, v := range plan.Exaggeration {
-		fs = append(fs, ff(v))
-	}
-	st.Grid = append(st.Grid, Param{"exaggeration", fs})
-	fs = nil
-	for _, v := range plan.ExaggerationIters {
-		fs = append(fs, strconv.Itoa(v))
-	}
-	st.Grid = append(st.Grid, Param{"exaggeration_iters", fs})
-	fs = nil
-	for _, v := range plan.Iters {
-		fs = append(fs, strconv.Itoa(v))
-	}
-	st.Grid = append(st.Grid, Param{"iters", fs})
-	st.Grid = append(st.Grid, Param{"init", append([]string(nil), plan.Init...)})
-	st.Grid = append(st.Grid, Param{"gradient", append([]string(nil), plan.Gradient...)})
-	withTheta := used["barnes-hut"]
-	if withTheta {
-		st.Grid = append(st.Grid, Param{"theta", []string{ff(plan.Theta)}})
-	}
+}
 
-	// Points: ids and labels from the first finished layout.
-	n := in.N
+func mapValues[T any](v []T, f func(T) string) []string {
+	var out []string
+	for _, x := range v {
+		out = append(out, f(x))
+	}
+	return out
+}
+
+// points takes the ids and labels from the first finished layout, or the
+// ids from the points table when no layout is there.
+func (b *viewBuilder) points() error {
+	s, st, n := b.s, b.v, b.s.Info.Input.N
 	for _, r := range s.Rows {
 		if r.Status != sweep.StatusDone {
 			continue
 		}
 		l, err := s.Layout(r.RunID)
 		if err != nil {
-			return nil, fmt.Errorf("report: %w", err)
+			return fmt.Errorf("report: %w", err)
 		}
 		st.IDs = make([]string, n)
 		if l.Labels != nil {
@@ -137,7 +166,7 @@ func FromSweep(s *sweep.Study) (*View, error) {
 		}
 		for i, p := range l.Point {
 			if int(p) < 0 || int(p) >= n {
-				return nil, fmt.Errorf("report: layout of run %s: point %d outside 0..%d", r.RunID, p, n-1)
+				return fmt.Errorf("report: layout of run %s: point %d outside 0..%d", r.RunID, p, n-1)
 			}
 			st.IDs[p] = l.IDs[i]
 			if l.Labels != nil {
@@ -156,19 +185,25 @@ func FromSweep(s *sweep.Study) (*View, error) {
 			}
 		}
 	}
+	return nil
+}
 
+// settings adds every planned setting with its scores (NaN where the
+// setting has none).
+func (b *viewBuilder) settings() {
+	s, plan := b.s, b.s.Plan
 	scores := map[string]*sweep.SettingScore{}
 	for i := range s.SettingScores {
 		scores[s.SettingScores[i].ID] = &s.SettingScores[i]
 	}
-	index := map[string]int{}
+	b.index = map[string]int{}
 	for _, ps := range s.Settings {
 		set := Setting{ID: ps.ID, Runs: len(plan.Seeds), Params: []Field{
 			{"perplexity", ff(ps.Perplexity)}, {"learning_rate", lrText(ps.LearningRate)},
 			{"exaggeration", ff(ps.Exaggeration)}, {"exaggeration_iters", strconv.Itoa(ps.ExaggerationIters)},
 			{"iters", strconv.Itoa(ps.Iters)}, {"init", ps.Init}, {"gradient", ps.Gradient},
 		}}
-		if withTheta {
+		if b.withTheta {
 			set.Params = append(set.Params, Field{"theta", ff(ps.Theta)})
 		}
 		nan := stability.MedianIQR{Median: math.NaN(), IQR: math.NaN()}
@@ -183,15 +218,21 @@ func FromSweep(s *sweep.Study) (*View, error) {
 			set.PairSpearman, set.LabelPurity = sc.PairSpearman, sc.LabelPurity
 			set.UnstableShare = sc.UnstableShare
 		}
-		index[ps.ID] = len(st.Settings)
-		st.Settings = append(st.Settings, set)
+		b.index[ps.ID] = len(b.v.Settings)
+		b.v.Settings = append(b.v.Settings, set)
 	}
-	for _, p := range s.Points {
-		i, ok := index[p.SettingID]
+}
+
+// consensus fills each setting's consensus layout, per-point spread and
+// flags from the points table.
+func (b *viewBuilder) consensus() {
+	n := b.s.Info.Input.N
+	for _, p := range b.s.Points {
+		i, ok := b.index[p.SettingID]
 		if !ok || p.Point < 0 || p.Point >= n {
 			continue
 		}
-		set := &st.Settings[i]
+		set := &b.v.Settings[i]
 		if set.Consensus == nil {
 			set.Consensus = make([]float64, 2*n)
 			set.Spread = make([]float64, n)
@@ -200,7 +241,11 @@ func FromSweep(s *sweep.Study) (*View, error) {
 		set.Consensus[2*p.Point], set.Consensus[2*p.Point+1] = p.ConsensusX, p.ConsensusY
 		set.Spread[p.Point], set.Unstable[p.Point] = p.Spread, p.Unstable
 	}
+}
 
+// runs adds every run with its faithfulness scores and KL trace.
+func (b *viewBuilder) runs() {
+	s := b.s
 	runScore := map[string]*sweep.RunScore{}
 	for i := range s.RunScores {
 		runScore[s.RunScores[i].RunID] = &s.RunScores[i]
@@ -220,12 +265,15 @@ func FromSweep(s *sweep.Study) (*View, error) {
 				}
 			}
 		}
-		st.Runs = append(st.Runs, run)
+		b.v.Runs = append(b.v.Runs, run)
 	}
-	for _, p := range s.Pairs {
-		st.Pairs = append(st.Pairs, Pair{SettingID: p.SettingID, RunA: p.RunA, RunB: p.RunB, Disparity: p.Disparity, Jaccard: p.Jaccard})
+}
+
+// pairs adds the agreement of every pair of runs.
+func (b *viewBuilder) pairs() {
+	for _, p := range b.s.Pairs {
+		b.v.Pairs = append(b.v.Pairs, Pair{SettingID: p.SettingID, RunA: p.RunA, RunB: p.RunB, Disparity: p.Disparity, Jaccard: p.Jaccard})
 	}
-	return st, nil
 }
 
 // Open reads the study in dir with sweep.Open and adapts it (FromSweep).
