@@ -38,14 +38,16 @@ func init() {
 			"  0  pass: every setting within run-to-run variation\n" +
 			"  1  regression: a setting changed, failed or is missing (named in the output)\n" +
 			"  2  usage error, unreadable or unscored study, or studies that cannot be compared as made\n" +
-			"     (another plan or k, no setting or point in common, settings too few runs to test)\n" +
-			"  3  the input data changed (fingerprints differ); --allow-other-data compares by point id",
+			"     (another plan or k, no setting or point in common)\n" +
+			"  3  the input data changed (fingerprints differ); --allow-other-data compares by point id\n" +
+			"  4  inconclusive: nothing failed, but some setting has too few runs to test (named);\n" +
+			"     --allow-untested turns this into 0 with a note",
 		Flags: []cli.Flag{
 			&cli.StringFlag{Name: "baseline", Aliases: []string{"b"}, Usage: "baseline study directory"},
 			&cli.BoolFlag{Name: "json", Usage: "print the result as JSON on stdout"},
 			&cli.StringFlag{Name: "junit", Usage: "also write a JUnit XML report to `FILE`"},
 			&cli.BoolFlag{Name: "allow-other-data", Usage: "compare even if the input data changed (points matched by id)"},
-			&cli.BoolFlag{Name: "allow-untested", Usage: "pass settings that have too few runs to test (exit 0 with a note instead of 2)"},
+			&cli.BoolFlag{Name: "allow-untested", Usage: "pass settings that have too few runs to test (exit 0 with a note instead of 4)"},
 			&cli.StringFlag{Name: "ignore", Usage: "comma list of parameters left out when matching settings and plans (e.g. iters)"},
 			&cli.Float64Flag{Name: "alpha", Value: def.Alpha, Usage: "false-alarm rate of the layout tests over the whole check"},
 			&cli.Float64Flag{Name: "min-jaccard-shift", Value: def.MinJaccardShift, Usage: "smallest fall in kNN Jaccard (across vs within) that counts as a change"},
@@ -146,6 +148,8 @@ func checkAction(c *cli.Context) error {
 		return &exitError{code: 3, err: fmt.Errorf("%s", res.Reason)}
 	case gate.Incomparable:
 		return &exitError{code: 2, err: fmt.Errorf("cannot compare: %s", res.Reason)}
+	case gate.Untested:
+		return &exitError{code: 4, err: fmt.Errorf("inconclusive: %s", res.Reason)}
 	case gate.Regression:
 		return &exitError{code: 1, err: fmt.Errorf("regression: %s", res.Reason)}
 	}

@@ -121,7 +121,7 @@ func TestCheckExitCodes(t *testing.T) {
 			"outcome: PASS", "", "FAIL"},
 		{"other seeds, same code", []string{"-b", p("base"), p("other")}, 0,
 			"outcome: PASS: all 2 matched setting(s) within run-to-run variation", "", "FAIL"},
-		{"other 3 seeds cannot be tested", []string{"-b", p("base3"), p("other3")}, 2,
+		{"other 3 seeds cannot be tested", []string{"-b", p("base3"), p("other3")}, 4,
 			"UNTESTED", "cannot be tested", "FAIL"},
 		{"other 3 seeds, untested allowed", []string{"-b", p("base3"), "--allow-untested", p("other3")}, 0,
 			"not tested for map changes: 3 and 3 runs: the smallest possible p-value is 0.1", "", "FAIL"},

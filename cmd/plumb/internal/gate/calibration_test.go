@@ -173,7 +173,7 @@ func TestFalseAlarmRate(t *testing.T) {
 
 func show(m map[Outcome]int) string {
 	var parts []string
-	for _, o := range []Outcome{Pass, Regression, Incomparable, DataChanged} {
+	for _, o := range []Outcome{Pass, Regression, Incomparable, DataChanged, Untested} {
 		if m[o] > 0 {
 			parts = append(parts, fmt.Sprintf("%s %d", o, m[o]))
 		}

@@ -75,7 +75,7 @@ func (o Options) Defaults() Options {
 // Outcome is the verdict of a comparison.
 type Outcome string
 
-// The outcomes; plumb check exits 0, 1, 3 and 2 respectively.
+// The outcomes; plumb check exits 0, 1, 3, 2 and 4 respectively.
 const (
 	Pass Outcome = "pass"
 	// Regression: a setting changed beyond run-to-run variation, failed, or
@@ -85,9 +85,12 @@ const (
 	// allowed.
 	DataChanged Outcome = "data-changed"
 	// Incomparable: the studies cannot be compared as made (another plan
-	// or perturbation, another k, no setting or point in common), or some
-	// setting cannot be tested and that was not allowed.
+	// or perturbation, another k, no setting or point in common).
 	Incomparable Outcome = "incomparable"
+	// Untested: nothing failed, but some setting has too few runs to tell
+	// a change from run-to-run variation (and no run that must reproduce
+	// the baseline), and that was not allowed.
+	Untested Outcome = "untested"
 )
 
 // planMatched lists the plan fields that need not be equal: the grid lists
@@ -481,7 +484,7 @@ func judge(res *Result) {
 		}
 		res.Reason = strings.Join(parts, "; ")
 	case untested > 0 && !o.AllowUntested:
-		res.Outcome = Incomparable
+		res.Outcome = Untested
 		res.Reason = fmt.Sprintf("%d of %d setting(s) cannot be tested (%s): too few runs to tell a change from run-to-run variation; "+
 			"rerun with the baseline's seeds (then runs must reproduce it exactly) or with more seeds in both studies (≥ 6 each for a few settings), "+
 			"or pass --allow-untested", untested, len(res.Settings), strings.Join(untestedNames, "; "))

@@ -59,7 +59,7 @@ func TestCompareOutcomes(t *testing.T) {
 		{"one seed rerun", synth("b", seeds(1, 1), 0), synth("c", seeds(1, 1), 0), Options{}, Pass, "within run-to-run"},
 		{"other seeds", synth("b", seeds(1, 6), 0), synth("c", seeds(7, 12), 0), Options{}, Pass, "within run-to-run"},
 		{"moved blob", synth("b", seeds(1, 6), 0), synth("c", seeds(7, 12), 15), Options{}, Regression, "1 of 1 setting(s) changed"},
-		{"too few runs", synth("b", seeds(1, 3), 0), synth("c", seeds(4, 6), 15), Options{}, Incomparable, "cannot be tested"},
+		{"too few runs", synth("b", seeds(1, 3), 0), synth("c", seeds(4, 6), 15), Options{}, Untested, "cannot be tested"},
 		{"too few runs allowed", synth("b", seeds(1, 3), 0), synth("c", seeds(4, 6), 0), Options{AllowUntested: true}, Pass, "not tested for map changes, allowed"},
 		{"one seed each, other seeds", synth("b", seeds(1, 1), 0), synth("c", seeds(2, 2), 0), Options{AllowUntested: true}, Pass, "not tested"},
 		// Same seed, other layout: the code changed.

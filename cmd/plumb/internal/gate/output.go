@@ -114,7 +114,7 @@ func (r *Result) JSON() ([]byte, error) {
 }
 
 // ExitCode is the exit status plumb check gives the outcome: 0 pass, 1
-// regression, 3 data changed, 2 incomparable.
+// regression, 3 data changed, 4 untested (too few runs), 2 incomparable.
 func (r *Result) ExitCode() int {
 	switch r.Outcome {
 	case Pass:
@@ -123,6 +123,8 @@ func (r *Result) ExitCode() int {
 		return 1
 	case DataChanged:
 		return 3
+	case Untested:
+		return 4
 	}
 	return 2
 }
