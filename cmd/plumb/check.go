@@ -78,11 +78,12 @@ func checkAction(c *cli.Context) error {
 			}
 		}
 	}
-	bs, err := studyview.Open(base)
+	var bs, cs *studyview.View
+	err := readStudy(c.App.ErrWriter, base, func() (err error) { bs, err = studyview.Open(base); return err })
 	if err != nil {
 		return &exitError{code: 2, err: fmt.Errorf("baseline: %w", err)}
 	}
-	cs, err := studyview.Open(cur)
+	err = readStudy(c.App.ErrWriter, cur, func() (err error) { cs, err = studyview.Open(cur); return err })
 	if err != nil {
 		return &exitError{code: 2, err: fmt.Errorf("current study: %w", err)}
 	}

@@ -1,13 +1,11 @@
 package main
 
 import (
-	"context"
 	"fmt"
 	"io"
 	"os"
-	"os/signal"
+	"path/filepath"
 	"strings"
-	"syscall"
 	"text/tabwriter"
 	"time"
 
@@ -47,6 +45,19 @@ func init() {
 }
 
 // planSpec collects the plan from --plan and the grid flags.
+// maxParallel bounds --jobs and --threads: far more than any machine has
+// cores, small enough that nothing is sized from a wild value.
+const maxParallel = 4096
+
+// checkParallelism checks --jobs or --threads: 0 (automatic) up to
+// maxParallel.
+func checkParallelism(c *cli.Context, name string) error {
+	if v := c.Int(name); v < 0 || v > maxParallel {
+		return fmt.Errorf("--%s %d: must be 0 (automatic) or 1..%d", name, v, maxParallel)
+	}
+	return nil
+}
+
 func planSpec(c *cli.Context) (sweep.Spec, error) {
 	var base sweep.Spec
 	if f := c.String("plan"); f != "" {
@@ -74,11 +85,11 @@ func sweepAction(c *cli.Context) error {
 	if err != nil {
 		return err
 	}
-	if c.Int("jobs") < 0 {
-		return fmt.Errorf("--jobs %d: must be 0 (automatic) or positive", c.Int("jobs"))
+	if err := checkParallelism(c, "jobs"); err != nil {
+		return err
 	}
-	if c.Int("threads") < 0 {
-		return fmt.Errorf("--threads %d: must be 0 (automatic) or positive", c.Int("threads"))
+	if err := checkParallelism(c, "threads"); err != nil {
+		return err
 	}
 	if c.Int("k") < 1 {
 		return fmt.Errorf("--k %d: must be positive", c.Int("k"))
@@ -91,6 +102,26 @@ func sweepAction(c *cli.Context) error {
 	if err != nil {
 		return err
 	}
+	out := c.String("out")
+	dry := c.Bool("dry-run")
+	// One writer at a time: the study's lock is taken before any work,
+	// and before the input is read when the study exists already, so that
+	// a second writer is refused at once.
+	var lock *sweep.Lock
+	takeLock := func() error {
+		if lock != nil || dry {
+			return nil
+		}
+		l, err := sweep.LockStudy(out, shard, c.Bool("force"), cmdLine)
+		lock = l
+		return err
+	}
+	defer func() { lock.Release() }()
+	if _, err := os.Stat(filepath.Join(out, sweep.StudyFile)); err == nil {
+		if err := takeLock(); err != nil {
+			return err
+		}
+	}
 	ds, err := dataset.Read(path, dopt)
 	if err != nil {
 		return err
@@ -100,11 +131,24 @@ func sweepAction(c *cli.Context) error {
 			fmt.Fprintf(stderr, "plumb: warning: %s\n", w)
 		}
 	}
-	opt := sweep.Options{
-		Dir: c.String("out"), Input: sweep.NewInput(path, dopt, ds), Version: version, Shard: shard,
-		Jobs: c.Int("jobs"), Threads: c.Int("threads"), Force: c.Bool("force"), RetryFailed: c.Bool("retry-failed"),
+	if err := sweep.Validate(plan, ds); err != nil {
+		return err
 	}
-	if c.Bool("dry-run") {
+	if !c.Bool("no-score") {
+		if err := sweep.CheckK(c.Int("k"), ds.N); err != nil {
+			return hintError{err: fmt.Errorf("--k: %w, checked before the runs since the sweep scores them", err),
+				hint: fmt.Sprintf("pass --k %d or smaller, or --no-score", max((ds.N-1)/2, 1))}
+		}
+	}
+	if err := takeLock(); err != nil {
+		return err
+	}
+	opt := sweep.Options{
+		Dir: out, Input: sweep.NewInput(path, dopt, ds), Version: version, Shard: shard,
+		Jobs: c.Int("jobs"), Threads: c.Int("threads"), Force: c.Bool("force"), RetryFailed: c.Bool("retry-failed"),
+		Lock: lock,
+	}
+	if dry {
 		o, err := sweep.PlanOutline(ds, plan, opt)
 		if err != nil {
 			return err
@@ -113,7 +157,7 @@ func sweepAction(c *cli.Context) error {
 		return nil
 	}
 
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, stop := interruptContext()
 	defer stop()
 	var prog *progress
 	if !c.Bool("quiet") {
@@ -133,12 +177,21 @@ func sweepAction(c *cli.Context) error {
 			st.Done, st.Failed, st.Skipped, sum.Elapsed.Round(time.Millisecond), shard)
 	}
 	if sum.Canceled {
-		return &exitError{code: 130, err: hintError{
-			err:  fmt.Errorf("interrupted: %d runs finished and kept, %d in flight discarded", st.Done+st.Failed, st.Stopped),
-			hint: "run the same command again to resume"}}
+		return interrupted("run the same command again to resume",
+			"%d runs finished and kept, %d in flight discarded", st.Done+st.Failed, st.Stopped)
 	}
 	if st.Failed > 0 && !c.Bool("quiet") {
 		fmt.Fprintf(stderr, "plumb: warning: %d runs failed; their reasons are in %s (column error)\n", st.Failed, sweep.RunsFile)
+	}
+	if !sum.Complete || !lock.Exclusive() {
+		// Let the other shards have the study at once.
+		lock.Release()
+	}
+	if sum.Busy {
+		if !c.Bool("quiet") {
+			fmt.Fprintf(stderr, "plumb: every run is finished, but other processes still hold the study; the last shard scores it, or run `plumb score %s`\n", opt.Dir)
+		}
+		return nil
 	}
 	if !sum.Complete {
 		if !c.Bool("quiet") {
@@ -149,9 +202,9 @@ func sweepAction(c *cli.Context) error {
 	if c.Bool("no-score") {
 		return nil
 	}
-	if k, ok := sweep.ScoredK(opt.Dir); ok && k == c.Int("k") && st.Done+st.Failed == 0 {
+	if k := c.Int("k"); sweep.ScoresCurrent(opt.Dir, k) {
 		if !c.Bool("quiet") {
-			fmt.Fprintf(stderr, "plumb: nothing new to score (scores at k=%d are up to date); see `plumb show %s`\n", k, opt.Dir)
+			fmt.Fprintf(stderr, "plumb: nothing new to score (scores at k=%d cover every finished run); see `plumb show %s`\n", k, opt.Dir)
 		}
 		return nil
 	}
@@ -160,7 +213,11 @@ func sweepAction(c *cli.Context) error {
 	}
 	t0 := time.Now()
 	// sweep.Score's errors start with "score: " already.
-	if _, err := sweep.Score(ctx, opt.Dir, ds, sweep.ScoreOptions{K: c.Int("k"), Threads: sum.Jobs * sum.Threads}); err != nil {
+	if _, err := sweep.Score(ctx, opt.Dir, ds, sweep.ScoreOptions{K: c.Int("k"), Threads: sum.Jobs * sum.Threads, Lock: lock}); err != nil {
+		if ctx.Err() != nil {
+			return interrupted("run the same command again to resume (it scores without redoing runs), or `plumb score "+opt.Dir+"`",
+				"while scoring: all %d runs are kept; the score tables were not written", st.Planned)
+		}
 		return err
 	}
 	if !c.Bool("quiet") {
