@@ -42,7 +42,7 @@ const (
 // lockWait is how long a writer waits for the lock before it is refused:
 // long enough for a reader's brief shared lock, short enough to count as
 // "at once".
-var lockWait = time.Second
+var lockWait = 300 * time.Millisecond
 
 // BusyError reports a study held by another process.
 type BusyError struct {
@@ -115,7 +115,10 @@ func checkStudyDir(dir string) error {
 		return fmt.Errorf("read study directory: %w", err)
 	}
 	for _, e := range ents {
-		if !strings.HasPrefix(e.Name(), LockFile) {
+		// plumb's lock files, and the temporary file of a study.json
+		// another process is writing now (it holds the lock; we will be
+		// told so).
+		if !strings.HasPrefix(e.Name(), LockFile) && !strings.HasPrefix(e.Name(), "."+StudyFile+".tmp-") {
 			return fmt.Errorf("%s is not empty and holds no %s (found %s); refusing to write a study into it", dir, StudyFile, e.Name())
 		}
 	}
@@ -128,7 +131,7 @@ func checkStudyDir(dir string) error {
 // exclusive false and a real shard (shard.Count > 1) the lock is shared
 // with the other shards of the plan; otherwise it is exclusive. who is the
 // command line recorded for others to see. A study held by another writer
-// gives a *BusyError after at most a second.
+// gives a *BusyError after at most lockWait (0.3 s).
 func LockStudy(dir string, shard Shard, exclusive bool, who string) (*Lock, error) {
 	if err := checkStudyDir(dir); err != nil {
 		return nil, err
