@@ -59,9 +59,9 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 		n := len(runs)
 		id, sid := make([]string, n), make([]string, n)
 		tw, co, kr, ds, la, lp, kl := make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
-		kk, sa := make([]int32, n), make([]int32, n)
+		kk, sa, np := make([]int32, n), make([]int32, n), make([]int32, n)
 		for i, r := range runs {
-			id[i], sid[i] = r.RunID, r.SettingID
+			id[i], sid[i], np[i] = r.RunID, r.SettingID, int32(r.Points)
 			tw[i], co[i], kr[i], ds[i], la[i], lp[i], kl[i] = r.Trustworthiness, r.Continuity, r.KNNRecall, r.DistanceSpearman, r.LabelAccuracy, r.LabelPurity, r.KL
 			kk[i], sa[i] = int32(r.K), int32(r.Sampled)
 		}
@@ -69,7 +69,7 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 			{Name: "run_id", Values: id}, {Name: "setting_id", Values: sid},
 			{Name: "trustworthiness", Values: tw}, {Name: "continuity", Values: co}, {Name: "knn_recall", Values: kr},
 			nullable("distance_spearman", ds), nullable("label_accuracy", la), nullable("label_purity", lp),
-			{Name: "k", Values: kk}, {Name: "sampled", Values: sa}, {Name: "kl", Values: kl}}}
+			{Name: "k", Values: kk}, {Name: "sampled", Values: sa}, {Name: "kl", Values: kl}, {Name: "points", Values: np}}}
 		if err := parquetio.Write(scoresPath(dir, ScoreRunsFile), t); err != nil {
 			return err
 		}
@@ -79,6 +79,7 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 		n := len(settings)
 		sid, lrs, init, grad := make([]string, n), make([]string, n), make([]string, n), make([]string, n)
 		perp, lr, ex, th, share := make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
+		sub, varied, reason, reasonValid := make([]float64, n), make([]string, n), make([]string, n), make([]bool, n)
 		ei, it, done, failed := make([]int32, n), make([]int32, n), make([]int32, n), make([]int32, n)
 		stats := make([][]float64, 2*len(spreadColumns))
 		for j := range stats {
@@ -88,6 +89,7 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 			s := &settings[i]
 			sid[i], lrs[i], init[i], grad[i] = s.ID, s.LearningRateSpec(), s.Init, s.Gradient
 			perp[i], lr[i], ex[i], th[i], share[i] = s.Perplexity, s.LearningRate, s.Exaggeration, s.Theta, s.UnstableShare
+			sub[i], varied[i], reason[i], reasonValid[i] = s.Fraction(), s.Varied, s.NotMeasured, s.NotMeasured != ""
 			if lr[i] == 0 {
 				lr[i] = math.NaN()
 			}
@@ -104,7 +106,9 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 		for j, name := range spreadColumns {
 			cols = append(cols, nullable(name+"_median", stats[2*j]), nullable(name+"_iqr", stats[2*j+1]))
 		}
-		cols = append(cols, nullable("unstable_share", share))
+		cols = append(cols, nullable("unstable_share", share), parquetio.Column{Name: "subsample", Values: sub},
+			parquetio.Column{Name: "varied", Values: varied},
+			parquetio.Column{Name: "not_measured", Values: reason, Nullable: true, Valid: allTrueNil(reasonValid)})
 		if err := parquetio.Write(scoresPath(dir, ScoreSettingsFile), &parquetio.Table{Meta: scoreMeta(info, "scores.settings", k), Columns: cols}); err != nil {
 			return err
 		}
@@ -116,13 +120,18 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 		pt := make([]int32, n)
 		sp, cx, cy := make([]float64, n), make([]float64, n), make([]float64, n)
 		un := make([]bool, n)
+		nr := make([]int32, n)
 		for i, p := range points {
 			sid[i], id[i], pt[i], sp[i], un[i], cx[i], cy[i] = p.SettingID, p.ID, int32(p.Point), p.Spread, p.Unstable, p.ConsensusX, p.ConsensusY
+			nr[i] = int32(p.Runs)
 		}
+		// A point whose spread was not measured has no flag either.
+		unCol := nullable("spread", sp)
+		unCol.Name, unCol.Values = "unstable", un
 		t := &parquetio.Table{Meta: scoreMeta(info, "scores.points", k), Columns: []parquetio.Column{
 			{Name: "setting_id", Values: sid}, {Name: "point", Values: pt}, {Name: "id", Values: id},
-			{Name: "spread", Values: sp}, {Name: "unstable", Values: un},
-			{Name: "consensus_x", Values: cx}, {Name: "consensus_y", Values: cy}}}
+			nullable("spread", sp), unCol,
+			nullable("consensus_x", cx), nullable("consensus_y", cy), {Name: "runs", Values: nr}}}
 		if err := parquetio.Write(scoresPath(dir, ScorePointsFile), t); err != nil {
 			return err
 		}
@@ -132,12 +141,14 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 		n := len(pairs)
 		sid, a, b := make([]string, n), make([]string, n), make([]string, n)
 		di, ja, ds := make([]float64, n), make([]float64, n), make([]float64, n)
+		np := make([]int32, n)
 		for i, p := range pairs {
 			sid[i], a[i], b[i], di[i], ja[i], ds[i] = p.SettingID, p.RunA, p.RunB, p.Disparity, p.Jaccard, p.DistanceSpearman
+			np[i] = int32(p.Points)
 		}
 		t := &parquetio.Table{Meta: scoreMeta(info, "scores.pairs", k), Columns: []parquetio.Column{
 			{Name: "setting_id", Values: sid}, {Name: "run_a", Values: a}, {Name: "run_b", Values: b},
-			{Name: "disparity", Values: di}, {Name: "jaccard", Values: ja}, nullable("distance_spearman", ds)}}
+			nullable("disparity", di), nullable("jaccard", ja), nullable("distance_spearman", ds), {Name: "points", Values: np}}}
 		if err := parquetio.Write(scoresPath(dir, ScorePairsFile), t); err != nil {
 			return err
 		}
@@ -233,11 +244,12 @@ func (s *Study) readScores() error {
 		if c.err != nil {
 			return c.err
 		}
+		np := c.optI32("points", int32(s.Info.Input.N))
 		s.RunScores = make([]RunScore, len(id))
 		for i := range id {
 			s.RunScores[i] = RunScore{RunID: id[i], SettingID: sid[i], Trustworthiness: tw[i], Continuity: co[i],
 				KNNRecall: kr[i], DistanceSpearman: ds[i], LabelAccuracy: la[i], LabelPurity: lp[i], K: int(kk[i]),
-				Sampled: int(sa[i]), KL: kl[i]}
+				Sampled: int(sa[i]), KL: kl[i], Points: int(np[i])}
 		}
 	}
 	// settings
@@ -247,6 +259,7 @@ func (s *Study) readScores() error {
 	{
 		sid := c.str("setting_id")
 		done, failed, share := c.i32("runs_done"), c.i32("runs_failed"), c.f64("unstable_share")
+		varied, reason := c.optStr("varied"), c.optStr("not_measured")
 		stats := make([][]float64, 2*len(spreadColumns))
 		for j, name := range spreadColumns {
 			stats[2*j], stats[2*j+1] = c.f64(name+"_median"), c.f64(name+"_iqr")
@@ -263,6 +276,14 @@ func (s *Study) readScores() error {
 				ss.Setting.ID = sid[i]
 			}
 			ss.RunsDone, ss.RunsFailed, ss.UnstableShare = int(done[i]), int(failed[i]), share[i]
+			if varied != nil {
+				ss.Varied, ss.NotMeasured = varied[i], reason[i]
+			} else {
+				// Scored before this column existed: say what the plan lets vary.
+				if ss.Varied = Varied(&ss.Setting, s.Plan); ss.Varied == "" {
+					ss.NotMeasured = NotVariedReason
+				}
+			}
 			for j, sp := range ss.medianIQRs() {
 				sp.Median, sp.IQR = stats[2*j][i], stats[2*j+1][i]
 			}
@@ -275,12 +296,13 @@ func (s *Study) readScores() error {
 	{
 		sid, pt, id := c.str("setting_id"), c.i32("point"), c.str("id")
 		sp, un, cx, cy := c.f64("spread"), c.boolean("unstable"), c.f64("consensus_x"), c.f64("consensus_y")
+		nr := c.optI32("runs", 0)
 		if c.err != nil {
 			return c.err
 		}
 		s.Points = make([]PointScore, len(sid))
 		for i := range sid {
-			s.Points[i] = PointScore{SettingID: sid[i], Point: int(pt[i]), ID: id[i], Spread: sp[i], Unstable: un[i], ConsensusX: cx[i], ConsensusY: cy[i]}
+			s.Points[i] = PointScore{SettingID: sid[i], Point: int(pt[i]), ID: id[i], Spread: sp[i], Unstable: un[i], ConsensusX: cx[i], ConsensusY: cy[i], Runs: int(nr[i])}
 		}
 	}
 	// pairs
@@ -290,12 +312,13 @@ func (s *Study) readScores() error {
 	{
 		sid, a, b := c.str("setting_id"), c.str("run_a"), c.str("run_b")
 		di, ja, ds := c.f64("disparity"), c.f64("jaccard"), c.f64("distance_spearman")
+		np := c.optI32("points", int32(s.Info.Input.N))
 		if c.err != nil {
 			return c.err
 		}
 		s.Pairs = make([]PairScore, len(sid))
 		for i := range sid {
-			s.Pairs[i] = PairScore{SettingID: sid[i], RunA: a[i], RunB: b[i], Disparity: di[i], Jaccard: ja[i], DistanceSpearman: ds[i]}
+			s.Pairs[i] = PairScore{SettingID: sid[i], RunA: a[i], RunB: b[i], Disparity: di[i], Jaccard: ja[i], DistanceSpearman: ds[i], Points: int(np[i])}
 		}
 	}
 	return nil
