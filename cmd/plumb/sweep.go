@@ -135,9 +135,13 @@ func sweepAction(c *cli.Context) error {
 		return err
 	}
 	if !c.Bool("no-score") {
-		if err := sweep.CheckK(c.Int("k"), ds.N); err != nil {
+		n := ds.N
+		if f := plan.MinFraction(); f < 1 {
+			n = sweep.SubsampleSize(ds.N, f) // the smallest layout the scores see
+		}
+		if err := sweep.CheckK(c.Int("k"), n); err != nil {
 			return hintError{err: fmt.Errorf("--k: %w, checked before the runs since the sweep scores them", err),
-				hint: fmt.Sprintf("pass --k %d or smaller, or --no-score", max((ds.N-1)/2, 1))}
+				hint: fmt.Sprintf("pass --k %d or smaller, or --no-score", max((n-1)/2, 1))}
 		}
 	}
 	if err := takeLock(); err != nil {
