@@ -258,10 +258,11 @@ func writeHolder(f *os.File, who string) {
 	f.WriteAt([]byte("pid "+strconv.Itoa(os.Getpid())+"\n"+who+"\n"), 0)
 }
 
-// removeShardFiles removes the shards' lock files, which no process can
-// hold while this one holds the study exclusively.
+// removeShardFiles removes the shards' lock files (and the setup lock),
+// which no process can hold while this one holds the study exclusively.
 func (l *Lock) removeShardFiles() {
 	m, _ := filepath.Glob(filepath.Join(l.dir, shardLockPrefix+"*"))
+	m = append(m, filepath.Join(l.dir, setupLockFile))
 	for _, p := range m {
 		os.Remove(p)
 	}
