@@ -56,7 +56,10 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 func run(args []string, stdout, stderr io.Writer) int {
 	app := newApp(stdout, stderr)
 	setCmdLine(args)
-	err := app.Run(args)
+	err := unknownCommand(args, commands)
+	if err == nil {
+		err = app.Run(flagsFirst(helpArgs(args), commands))
+	}
 	if err == nil {
 		return 0
 	}

@@ -11,6 +11,7 @@ import (
 	"github.com/urfave/cli/v2"
 
 	"plumb/internal/dataset"
+	"plumb/internal/words"
 	"plumb/sweep"
 )
 
@@ -158,7 +159,7 @@ func scoreAction(c *cli.Context) error {
 		fmt.Fprintf(c.App.ErrWriter, "plumb: warning: %d of %d planned runs are not finished (no valid record: %s) and are not scored; the sweep's command redoes them\n",
 			len(sum.Unfinished), sum.Planned, ex)
 	}
-	fmt.Fprintf(c.App.ErrWriter, "plumb: scored %d runs in %d settings (k=%d, %d pairs) in %s\n",
-		sum.Runs, sum.Settings, sum.K, sum.Pairs, time.Since(t0).Round(time.Millisecond))
+	fmt.Fprintf(c.App.ErrWriter, "plumb: scored %s in %s (k=%d, %s) in %s\n",
+		words.Count(sum.Runs, "run"), words.Count(sum.Settings, "setting"), sum.K, words.Count(sum.Pairs, "pair"), time.Since(t0).Round(time.Millisecond))
 	return nil
 }
