@@ -141,7 +141,7 @@ func Open(dir string) (*Study, error) {
 	runsPath := filepath.Join(dir, RunsFile)
 	if _, err := os.Stat(runsPath); err == nil {
 		if st.Rows, err = readRunsTable(runsPath); err != nil {
-			return nil, err
+			return nil, &RebuildError{Dir: dir, Err: err}
 		}
 	} else {
 		for _, r := range st.Planned {
@@ -156,6 +156,21 @@ func Open(dir string) (*Study, error) {
 		return nil, err
 	}
 	return st, nil
+}
+
+// RebuildError reports a damaged derived table that `plumb score` rebuilds
+// from the run records.
+type RebuildError struct {
+	Dir string
+	Err error
+}
+
+func (e *RebuildError) Error() string { return e.Err.Error() }
+func (e *RebuildError) Unwrap() error { return e.Err }
+
+// Hint says how to repair the table.
+func (e *RebuildError) Hint() string {
+	return "run `plumb score " + e.Dir + "`: it rebuilds " + RunsFile + " from records/"
 }
 
 func rowFromRecord(r *Run, rec *Record) RunRow {

@@ -2,6 +2,7 @@ package sweep
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 
@@ -32,12 +33,33 @@ type ScoreOptions struct {
 	// SpreadThreshold flags a point as unstable when its spread exceeds
 	// it. If it is 0, stability.DefaultSpreadThreshold is used.
 	SpreadThreshold float64
+	// Lock is the caller's exclusive lock on the study (LockStudy); if it
+	// is nil, Score takes one itself for its duration.
+	Lock *Lock
 }
 
 // ScoreResult counts the rows written by Score.
 type ScoreResult struct {
 	Runs, Settings, Points, Pairs int
 	K                             int
+	// Planned counts the plan's runs; Unfinished lists those without a
+	// valid record (not run yet, interrupted, or their record deleted),
+	// which the tables leave out.
+	Planned    int
+	Unfinished []string
+}
+
+// CheckK checks a neighbourhood size against n points: the neighbour
+// scores need 1 ≤ k < n/2 (the k map neighbours and the k input neighbours
+// of a point must be able to differ).
+func CheckK(k, n int) error {
+	if k < 1 {
+		return fmt.Errorf("k = %d: must be at least 1", k)
+	}
+	if k > (n-1)/2 {
+		return fmt.Errorf("k = %d is too large for %d points: k must be below n/2, so at most %d", k, n, max((n-1)/2, 0))
+	}
+	return nil
 }
 
 // Score (re)computes the score tables of the study in dir from its
@@ -76,14 +98,14 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 		return nil, fmt.Errorf("score: %w", err)
 	}
 	if ds.Fingerprint != info.Input.Fingerprint {
-		return nil, &MismatchError{Dir: dir, What: "input", Have: "fingerprint " + short(info.Input.Fingerprint), Want: "fingerprint " + short(ds.Fingerprint)}
+		return nil, &MismatchError{Dir: dir, What: "input", Have: "fingerprint " + short(info.Input.Fingerprint), Want: "fingerprint " + short(ds.Fingerprint), Scoring: true}
 	}
 	k := opt.K
 	if k == 0 {
 		k = DefaultK
 	}
-	if k < 1 || 2*k >= ds.N {
-		return nil, fmt.Errorf("score: k = %d must be at least 1 and below n/2 = %d", k, ds.N/2)
+	if err := CheckK(k, ds.N); err != nil {
+		return nil, fmt.Errorf("score: %w", err)
 	}
 	if f := info.Plan.MinFraction(); f < 1 {
 		if m := SubsampleSize(ds.N, f); 2*k >= m {
@@ -94,9 +116,26 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 	if err != nil {
 		return nil, fmt.Errorf("score: %w", err)
 	}
-	// Another process may be scoring this study at the same moment (two
-	// shards finishing together): remove only stale temporary files.
-	cleanStudyTemps(dir, staleAge)
+	// One writer at a time: the caller's exclusive lock, or our own.
+	lock := opt.Lock
+	if lock == nil {
+		if lock, err = LockStudy(dir, Shard{}, true, "sweep.Score"); err != nil {
+			return nil, err
+		}
+		defer lock.Release()
+	} else if !lock.Exclusive() {
+		return nil, errors.New("score: the study must be locked exclusively (sweep.LockStudy)")
+	}
+	// The only writer: every temporary file is a killed process's.
+	cleanStudyTemps(dir, 0)
+	cov := coverageOf(dir, info, runs)
+	info.covers = cov.String()
+	var unfinished []string
+	for _, r := range runs {
+		if _, err := readRecord(dir, info, r); err != nil {
+			unfinished = append(unfinished, r.ID)
+		}
+	}
 	if _, err := writeRunsTable(dir, info, runs); err != nil {
 		return nil, fmt.Errorf("score: %w", err)
 	}
@@ -296,7 +335,8 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 	if err := writeScoreTables(dir, info, k, runScores, settings, points, pairs); err != nil {
 		return nil, fmt.Errorf("score: %w", err)
 	}
-	return &ScoreResult{Runs: len(runScores), Settings: len(settings), Points: len(points), Pairs: len(pairs), K: k}, nil
+	return &ScoreResult{Runs: len(runScores), Settings: len(settings), Points: len(points), Pairs: len(pairs), K: k,
+		Planned: len(runs), Unfinished: unfinished}, nil
 }
 
 // scoreBatchFloats bounds the layout values Score holds at once (2 per

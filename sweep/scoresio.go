@@ -45,6 +45,9 @@ func scoresPath(dir, name string) string { return filepath.Join(dir, ScoresDir, 
 func scoreMeta(info *Info, table string, k int) map[string]string {
 	m := baseMeta(info, table)
 	m[MetaK] = strconv.Itoa(k)
+	if info.covers != "" {
+		m[MetaCovers] = info.covers
+	}
 	return m
 }
 
@@ -168,7 +171,7 @@ func checkScoreTables(dir string, info *Info) (k int, present bool, problem stri
 	if _, err := os.Stat(scoresPath(dir, ScoreSettingsFile)); err != nil {
 		return 0, false, ""
 	}
-	var ks []string
+	var ks, covers []string
 	byK := map[string][]string{}
 	for _, name := range scoreTables {
 		m, _, err := parquetio.ReadMeta(scoresPath(dir, name))
@@ -178,6 +181,7 @@ func checkScoreTables(dir string, info *Info) (k int, present bool, problem stri
 		case m[MetaPlanHash] != info.PlanHash || m[MetaFingerprint] != info.Input.Fingerprint:
 			return 0, true, fmt.Sprintf("%s/%s belongs to another plan or input", ScoresDir, name)
 		}
+		covers = append(covers, m[MetaCovers])
 		if _, ok := byK[m[MetaK]]; !ok {
 			ks = append(ks, m[MetaK])
 		}
@@ -193,6 +197,9 @@ func checkScoreTables(dir string, info *Info) (k int, present bool, problem stri
 	k, err := strconv.Atoi(ks[0])
 	if err != nil || k < 1 {
 		return 0, true, fmt.Sprintf("the score tables record no valid k (%q)", ks[0])
+	}
+	if p := coversProblem(dir, info, covers); p != "" {
+		return k, true, p
 	}
 	return k, true, ""
 }

@@ -104,14 +104,19 @@ func checkAction(c *cli.Context) error {
 		}
 	}
 	open := func(role, dir string) (*gate.Study, error) {
-		s, err := sweep.Open(dir)
-		if err == nil {
-			var st *gate.Study
-			if st, err = gate.Load(s); err == nil {
-				return st, nil
+		var st *gate.Study
+		err := readStudy(c.App.ErrWriter, dir, func() error {
+			s, err := sweep.Open(dir)
+			if err != nil {
+				return err
 			}
+			st, err = gate.Load(s)
+			return err
+		})
+		if err != nil {
+			return nil, &exitError{code: 2, err: fmt.Errorf("%s: %w", role, err)}
 		}
-		return nil, &exitError{code: 2, err: fmt.Errorf("%s: %w", role, err)}
+		return st, nil
 	}
 	bs, err := open("baseline", base)
 	if err != nil {

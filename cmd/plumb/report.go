@@ -2,12 +2,12 @@ package main
 
 import (
 	"fmt"
+	"math"
 	"path/filepath"
 
 	"github.com/urfave/cli/v2"
 
 	"plumb/cmd/plumb/internal/report"
-	"plumb/cmd/plumb/internal/studyview"
 )
 
 func init() {
@@ -42,7 +42,7 @@ func reportAction(c *cli.Context) error {
 		JaccardTolerance:   c.Float64("jaccard-tolerance"),
 	}
 	for name, v := range map[string]float64{"trust-tolerance": rule.TrustTolerance, "disparity-tolerance": rule.DisparityTolerance, "jaccard-tolerance": rule.JaccardTolerance} {
-		if !(v > 0) {
+		if !(v > 0) || math.IsInf(v, 0) {
 			return fmt.Errorf("--%s %g: must be positive", name, v)
 		}
 	}
@@ -50,7 +50,7 @@ func reportAction(c *cli.Context) error {
 	if out == "" {
 		out = filepath.Join(dir, "report")
 	}
-	res, err := writeReport(dir, out, rule)
+	res, err := writeReport(c.App.ErrWriter, dir, out, rule)
 	if err != nil {
 		return err
 	}
@@ -63,13 +63,4 @@ func reportAction(c *cli.Context) error {
 		fmt.Fprintf(w, "recommended: none (no setting has two finished, scored runs)\n")
 	}
 	return nil
-}
-
-// writeReport opens the study in dir and writes its report into out.
-func writeReport(dir, out string, rule report.Rule) (*report.Output, error) {
-	st, err := studyview.Open(dir)
-	if err != nil {
-		return nil, err
-	}
-	return report.Write(st, out, report.Options{Rule: rule})
 }

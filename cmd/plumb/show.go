@@ -132,7 +132,11 @@ func showAction(c *cli.Context) error {
 	if err != nil {
 		return err
 	}
-	st, err := sweep.Open(dir)
+	var st *sweep.Study
+	err = readStudy(c.App.ErrWriter, dir, func() (err error) {
+		st, err = sweep.Open(dir)
+		return err
+	})
 	if err != nil {
 		return err
 	}

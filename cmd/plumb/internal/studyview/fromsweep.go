@@ -12,11 +12,17 @@ import (
 	"plumb/sweep"
 )
 
-// NotScoredError reports a study whose score tables are missing.
-type NotScoredError struct{ Dir string }
+// NotScoredError reports a study whose score tables are missing, or do not
+// describe its finished runs (Problem, from sweep.Study.ScoresProblem).
+type NotScoredError struct{ Dir, Problem string }
 
 // Error says which study lacks its scores.
-func (e *NotScoredError) Error() string { return e.Dir + " has no score tables" }
+func (e *NotScoredError) Error() string {
+	if e.Problem != "" {
+		return e.Dir + ": " + e.Problem
+	}
+	return e.Dir + " has no score tables"
+}
 
 // Hint suggests the command that makes them.
 func (e *NotScoredError) Hint() string { return "run: plumb score " + e.Dir }
@@ -38,7 +44,7 @@ func lrText(v float64) string {
 // and trace file are read, and each layout aligned in O(n).
 func FromSweep(s *sweep.Study) (*View, error) {
 	if s.SettingScores == nil {
-		return nil, &NotScoredError{Dir: s.Dir}
+		return nil, &NotScoredError{Dir: s.Dir, Problem: s.ScoresProblem}
 	}
 	b := &viewBuilder{s: s, v: &View{Dir: s.Dir, Tool: "plumb", Version: s.Info.Version, Created: s.Info.Created,
 		PlanHash: s.Info.PlanHash, Seeds: append([]uint64(nil), s.Plan.Seeds...), K: s.ScoresK}}
