@@ -45,6 +45,11 @@ type RunScore struct {
 	LabelAccuracy, LabelPurity                               float64
 	K, Sampled                                               int
 	KL                                                       float64
+	// RNXAUC is the area under the R_NX(K) curve on a log-K axis (Lee &
+	// Verleysen 2009), averaged over RNXQueries query points; NaN when
+	// undefined (a collapsed layout).
+	RNXAUC     float64
+	RNXQueries int
 }
 
 // SettingScore is one row of scores/settings.parquet. Statistics that
@@ -58,17 +63,51 @@ type SettingScore struct {
 	// Across runs: faithfulness scores and final KL.
 	Trustworthiness, Continuity, KNNRecall, DistanceSpearman stability.MedianIQR
 	LabelAccuracy, LabelPurity, KL                           stability.MedianIQR
-	// UnstableShare is the fraction of points flagged unstable.
+	// RNXAUC is the R_NX AUC across runs; CoAssignment the per-point
+	// co-assignment score across points (NaN when not measured).
+	RNXAUC, CoAssignment stability.MedianIQR
+	// UnstableShare is the share of the points with a co-assignment score
+	// that are flagged unstable (score < 0.75); NaN when not measured.
 	UnstableShare float64
+	// Varied names what varied between the runs ("seed", or "" when
+	// nothing did; see Varied). It is not stored: it follows from the
+	// plan.
+	Varied string
+	// MedoidRun is the run with the least total disparity to the others
+	// (the setting's picture); "" without finished runs. Clusters is the
+	// number of map clusters in it (−1 when not clustered).
+	MedoidRun string
+	Clusters  int
+	// Arrangements is the number of distinct arrangements of the runs
+	// (stability.Arrange), 0 when not measured; ArrangementSizes their run
+	// counts ("3+2"), Bimodal whether there are two or more.
+	Arrangements     int
+	ArrangementSizes string
+	Bimodal          bool
+	// ConsensusShown says whether the averaged consensus may be shown
+	// beside the medoid (stability.ConsensusAgrees); ConsensusNote why
+	// not.
+	ConsensusShown bool
+	ConsensusNote  string
 }
 
 // PointScore is one row of scores/points.parquet.
 type PointScore struct {
-	SettingID              string
-	Point                  int
-	ID                     string
-	Spread                 float64
-	Unstable               bool
+	SettingID string
+	Point     int
+	ID        string
+	// CoAssignment is the point's co-assignment score (NaN when not
+	// measured) and Unstable its flag (score < 0.75).
+	CoAssignment float64
+	Unstable     bool
+	// Spread is the RMS distance from the consensus over the consensus RMS
+	// radius (global placement); SpreadFlagged is Spread > the spread
+	// threshold.
+	Spread        float64
+	SpreadFlagged bool
+	// Cluster is the point's map cluster in the medoid run (−1: noise or
+	// not clustered).
+	Cluster                int
 	ConsensusX, ConsensusY float64
 }
 
@@ -95,6 +134,8 @@ type Study struct {
 	SettingScores []SettingScore
 	Points        []PointScore
 	Pairs         []PairScore
+	Clusters      []ClusterScore
+	Labels        []LabelScore
 	ScoresK       int
 	// ScoresProblem is set, and the score tables above left nil, when
 	// scores/ holds tables that do not form one scoring of this study (a
@@ -181,6 +222,14 @@ func (c *colReader) f64(name string) []float64 {
 		return out
 	}
 	return v
+}
+
+// nullStr returns v[i], or "" when the named column is null there.
+func (c *colReader) nullStr(name string, i int, v []string) string {
+	if col := c.t.Column(name); col == nil || col.IsNull(i) || i >= len(v) {
+		return ""
+	}
+	return v[i]
 }
 func (c *colReader) i32(name string) []int32 {
 	v, err := c.t.Int32(name)
