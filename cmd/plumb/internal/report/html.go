@@ -75,24 +75,30 @@ func page(st *studyview.View, rec *Recommendation, recErr error, figs []*Figure,
 
 	w("<h2 id=\"recommendation\">Recommendation</h2>\n")
 	if rec == nil {
-		w("<p class=\"pick\">No recommendation: %s.</p>\n", h(strings.TrimPrefix(recErr.Error(), "report: ")))
+		w("<p class=\"pick\">No recommendation: %s.</p>\n", h(strings.TrimPrefix(recErr.Error(), "recommend: ")))
 	} else {
 		s := st.Setting(rec.Chosen.ID)
 		w("<div class=\"pick\"><p><strong>Recommended setting: %s</strong> (id <code>%s</code>).</p>\n", h(st.Label(s)), h(s.ID))
-		w("<p>Median over %d seeds: trustworthiness %s, seed-to-seed disparity %s, kNN Jaccard %s, final KL %s; %.1f%% of points unstable.</p>\n",
-			s.RunsDone, h(fmtMedianIQR(s.Trustworthiness)), h(fmtMedianIQR(s.Disparity)), h(fmtMedianIQR(s.Jaccard)), h(fmtMedianIQR(s.KL)), 100*s.UnstableShare)
+		w("<p>%s</p>\n", h(settingSummary(s)))
+		if !rec.StabilityMeasured {
+			w("<p><strong>Stability not measured</strong> for this setting (%s): the pick rests on faithfulness alone.</p>\n", h(notMeasuredWhy(s)))
+		} else if warn := stability.SeedWarning(s.RunsDone); warn != "" {
+			w("<p><em>Seeds rule:</em> %s.</p>\n", h(warn))
+		}
 		if rec.RunnerUp != nil {
 			ru := st.Setting(rec.RunnerUp.ID)
-			w("<p>Runner-up: <strong>%s</strong>. Decided at the <em>%s</em> step: the runner-up was not chosen because %s.</p>\n", h(st.Label(ru)), h(stepWords[rec.DecidedBy]), h(rec.Why))
+			w("<p>Runner-up: <strong>%s</strong>. Decided at the step <em>%s</em>, margin %s: the runner-up was not chosen because %s.</p>\n",
+				h(st.Label(ru)), h(StepWords(rec.DecidedBy)), h(MarginWords(rec.DecidedBy, rec.Margin)), h(rec.Why))
 			w("<table><thead><tr><th class=\"l\">score</th><th>recommended</th><th>runner-up</th><th>recommended − runner-up</th></tr></thead><tbody>\n")
 			for _, row := range []struct {
 				name string
 				a, b float64
 			}{
-				{"trustworthiness (higher is better)", rec.Chosen.Trustworthiness, rec.RunnerUp.Trustworthiness},
-				{"disparity (lower is better)", rec.Chosen.Disparity, rec.RunnerUp.Disparity},
-				{"kNN Jaccard (higher is better)", rec.Chosen.Jaccard, rec.RunnerUp.Jaccard},
-				{"final KL (lower is better)", rec.Chosen.KL, rec.RunnerUp.KL},
+				{"R_NX AUC (higher is more faithful)", rec.Chosen.RNXAUC.Median, rec.RunnerUp.RNXAUC.Median},
+				{"distinct arrangements (fewer is more stable; 0 = not measured)", float64(rec.Chosen.Arrangements), float64(rec.RunnerUp.Arrangements)},
+				{"disparity (lower is better)", rec.Chosen.Disparity.Median, rec.RunnerUp.Disparity.Median},
+				{"kNN Jaccard (higher is better)", rec.Chosen.Jaccard.Median, rec.RunnerUp.Jaccard.Median},
+				{"final KL (lower is better; compared only at one perplexity)", rec.Chosen.KL.Median, rec.RunnerUp.KL.Median},
 			} {
 				w("<tr><td class=\"l\">%s</td><td>%s</td><td>%s</td><td>%s</td></tr>\n", h(row.name), fmtScore(row.a), fmtScore(row.b), fmtScore(row.a-row.b))
 			}
@@ -105,14 +111,15 @@ func page(st *studyview.View, rec *Recommendation, recErr error, figs []*Figure,
 			for _, id := range rec.Indistinguishable {
 				names = append(names, h(st.Label(st.Setting(id))))
 			}
-			w("<p>Indistinguishable from the recommendation (within tolerance or overlapping spread on both trustworthiness and disparity): %s. Any of these is as defensible on these numbers.</p>\n", strings.Join(names, "; "))
+			w("<p>Indistinguishable from the recommendation (R_NX AUC, and disparity where both were measured alike, within tolerance or overlapping spread): %s. Any of these is as defensible on these numbers.</p>\n", strings.Join(names, "; "))
 		} else {
-			w("<p>No other setting is indistinguishable from it on both trustworthiness and disparity.</p>\n")
+			w("<p>No other setting is indistinguishable from it.</p>\n")
 		}
 		w("</div>\n")
+		clustersTable(&b, st, s)
 	}
-	if same := seedless(st); len(same) > 0 {
-		w("<p class=\"cautions\"><strong>Seeds made no difference</strong> for %s: every finished seed gave the same map (seed-to-seed disparity 0). With a deterministic start such as PCA initialisation the seed changes nothing, so for these settings the stability scores say nothing about sensitivity to the starting point; sweep <code>--init random</code> to measure it.</p>\n", h(strings.Join(same, "; ")))
+	if same := unmeasured(st); len(same) > 0 {
+		w("<p class=\"cautions\"><strong>Stability not measured</strong> for %s: nothing varied between their runs (a deterministic start such as PCA initialisation on the whole data gives the same map from every seed), so arrangements, co-assignment, cluster stability, disparity and Jaccard say nothing there and are shown as not measured; sweep <code>--init random</code> to measure them.</p>\n", h(strings.Join(same, "; ")))
 	}
 	w("<p><strong>The rule.</strong> %s</p>\n", h(rec0(rec).Words()))
 	if rec != nil && len(rec.Excluded) > 0 {
@@ -155,7 +162,7 @@ func page(st *studyview.View, rec *Recommendation, recErr error, figs []*Figure,
 	}
 	w("</div>\n<p>The same text is in <a href=\"methods.md\">methods.md</a>, ready to paste and edit.</p>\n")
 	w("<h3>References</h3>\n<ul>\n")
-	for _, r := range references {
+	for _, r := range allReferences() {
 		w("<li>%s</li>\n", h(r))
 	}
 	w("</ul>\n<p class=\"meta\">Input fingerprint <code>%s</code> · plan hash <code>%s</code></p>\n", h(nonEmpty(st.Input.Fingerprint, "not recorded")), h(nonEmpty(st.PlanHash, "not recorded")))
@@ -177,6 +184,7 @@ func settingsTable(b *bytes.Buffer, st *studyview.View, rec *Recommendation) {
 		name string
 		get  func(*studyview.Setting) stability.MedianIQR
 	}{
+		{"R_NX AUC", func(s *studyview.Setting) stability.MedianIQR { return s.RNXAUC }},
 		{"trustworthiness", func(s *studyview.Setting) stability.MedianIQR { return s.Trustworthiness }},
 		{"continuity", func(s *studyview.Setting) stability.MedianIQR { return s.Continuity }},
 		{"kNN recall", func(s *studyview.Setting) stability.MedianIQR { return s.KNNRecall }},
@@ -213,7 +221,7 @@ func settingsTable(b *bytes.Buffer, st *studyview.View, rec *Recommendation) {
 	for _, ci := range keep {
 		fmt.Fprintf(b, "<th>%s</th>", h(cols[ci].name))
 	}
-	b.WriteString("<th>unstable %</th><th>rule rank</th></tr></thead>\n<tbody>\n")
+	b.WriteString("<th>arrangements</th><th>unstable %</th><th class=\"l\">medoid run</th><th>rule rank</th></tr></thead>\n<tbody>\n")
 	for i := range st.Settings {
 		s := &st.Settings[i]
 		cls := ""
@@ -238,7 +246,17 @@ func settingsTable(b *bytes.Buffer, st *studyview.View, rec *Recommendation) {
 			}
 			fmt.Fprintf(b, "<td data-v=\"%s\">%s</td>", dv, txt)
 		}
-		fmt.Fprintf(b, "<td data-v=\"%g\">%.1f</td>", s.UnstableShare, 100*s.UnstableShare)
+		if s.Arrangements > 0 {
+			fmt.Fprintf(b, "<td data-v=\"%d\">%d<br/><small>(%s)</small></td>", s.Arrangements, s.Arrangements, h(s.ArrangementSizes))
+		} else {
+			b.WriteString("<td data-v=\"NaN\">not measured</td>")
+		}
+		if finite(s.UnstableShare) {
+			fmt.Fprintf(b, "<td data-v=\"%g\">%.1f</td>", s.UnstableShare, 100*s.UnstableShare)
+		} else {
+			b.WriteString("<td data-v=\"NaN\">not measured</td>")
+		}
+		fmt.Fprintf(b, "<td class=\"l\"><code>%s</code></td>", h(nonEmpty(s.MedoidRun, "–")))
 		if r, ok := rank[s.ID]; ok {
 			fmt.Fprintf(b, "<td data-v=\"%d\">%d</td>", r, r)
 		} else {
@@ -249,23 +267,70 @@ func settingsTable(b *bytes.Buffer, st *studyview.View, rec *Recommendation) {
 	b.WriteString("</tbody></table></div>\n")
 }
 
-// stepWords names the steps of the rule for the page.
-var stepWords = map[string]string{
-	"trustworthiness": "faithfulness (trustworthiness)",
-	"disparity":       "stability (disparity)",
-	"jaccard":         "stability (kNN Jaccard)",
-	"kl":              "KL divergence",
-	"order":           "id order (exact tie)",
-}
-
-// seedless lists the settings whose seeds all gave the same map.
-func seedless(st *studyview.View) []string {
+// unmeasured lists the settings with finished runs whose between-run
+// readings were not measured because nothing varied between the runs.
+func unmeasured(st *studyview.View) []string {
 	var out []string
 	for i := range st.Settings {
 		s := &st.Settings[i]
-		if s.RunsDone >= 2 && s.Disparity.Median == 0 && s.Disparity.IQR == 0 {
+		if s.RunsDone >= 1 && s.Varied == "" {
 			out = append(out, st.Label(s))
 		}
 	}
 	return out
+}
+
+// clustersTable writes the per-cluster table of setting s (its medoid
+// run's map clusters with their stability) and, with labels, the
+// per-label table.
+func clustersTable(b *bytes.Buffer, st *studyview.View, s *studyview.Setting) {
+	h := html.EscapeString
+	cl := st.ClustersOf(s.ID)
+	if len(cl) == 0 {
+		return
+	}
+	fmt.Fprintf(b, "<h3 id=\"clusters\">Map clusters of the recommended setting</h3>\n<p>%s</p>\n", h(ClustersCaption(s)))
+	b.WriteString("<div class=\"wide\"><table class=\"sortable\" id=\"clusters-table\"><thead><tr><th>cluster</th><th>size</th><th>mean best-match Jaccard</th><th>min</th><th>runs compared</th><th>runs dissolved</th><th class=\"l\">reading</th>")
+	if st.HasLabels() {
+		b.WriteString("<th class=\"l\">labels (count)</th>")
+	}
+	b.WriteString("</tr></thead><tbody>\n")
+	for _, c := range cl {
+		fmt.Fprintf(b, "<tr><td data-v=\"%d\">%d</td><td data-v=\"%d\">%d</td><td data-v=\"%g\">%s</td><td data-v=\"%g\">%s</td>", c.Cluster, c.Cluster, c.Size, c.Size, c.Jaccard, fmtScore(c.Jaccard), c.Min, fmtScore(c.Min))
+		if finite(c.Jaccard) {
+			fmt.Fprintf(b, "<td data-v=\"%d\">%d</td><td data-v=\"%d\">%d</td>", c.Runs, c.Runs, c.Dissolved, c.Dissolved)
+		} else {
+			b.WriteString("<td data-v=\"NaN\">–</td><td data-v=\"NaN\">–</td>")
+		}
+		fmt.Fprintf(b, "<td class=\"l\">%s</td>", h(c.Reading))
+		if st.HasLabels() {
+			fmt.Fprintf(b, "<td class=\"l\">%s</td>", h(shorten(c.Labels, 5)))
+		}
+		b.WriteString("</tr>\n")
+	}
+	b.WriteString("</tbody></table></div>\n")
+	ls := st.LabelsOf(s.ID)
+	if len(ls) == 0 {
+		return
+	}
+	b.WriteString("<p>Per label: the share of its points whose group stays the same across runs (co-assignment ≥ 0.75), their mean co-assignment score, and the label its points are most often grouped with.</p>\n")
+	b.WriteString("<div class=\"wide\"><table class=\"sortable\" id=\"labels-table\"><thead><tr><th class=\"l\">label</th><th>points</th><th>stable %</th><th>mean co-assignment</th><th class=\"l\">mixes most with</th><th>share</th></tr></thead><tbody>\n")
+	for _, l := range ls {
+		stable := "not measured"
+		if finite(l.Stable) {
+			stable = fmt.Sprintf("%.1f", 100*l.Stable)
+		}
+		fmt.Fprintf(b, "<tr><td class=\"l\">%s</td><td data-v=\"%d\">%d</td><td data-v=\"%g\">%s</td><td data-v=\"%g\">%s</td><td class=\"l\">%s</td><td data-v=\"%g\">%s</td></tr>\n",
+			h(l.Label), l.Points, l.Points, l.Stable, stable, l.MeanScore, fmtScore(l.MeanScore), h(nonEmpty(l.MixesWith, "–")), l.MixesShare, fmtScore(l.MixesShare))
+	}
+	b.WriteString("</tbody></table></div>\n")
+}
+
+// shorten keeps the first k comma-separated items of a list.
+func shorten(list string, k int) string {
+	parts := strings.Split(list, ", ")
+	if len(parts) <= k {
+		return list
+	}
+	return strings.Join(parts[:k], ", ") + fmt.Sprintf(", … (%d more)", len(parts)-k)
 }

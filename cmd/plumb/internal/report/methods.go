@@ -128,16 +128,18 @@ func Methods(st *studyview.View, rec *Recommendation) []string {
 		fmtScore(dlo), fmtScore(dhi), fmtScore(jlo), fmtScore(jhi), fmtScore(tlo), fmtScore(thi), fmtScore(klo), fmtScore(khi))
 	paras := []string{b.String()}
 
+	paras = append(paras, readingsParagraph(st))
 	if rec != nil {
 		s := st.Setting(rec.Chosen.ID)
 		var r strings.Builder
-		fmt.Fprintf(&r, "Following a stated rule (faithfulness first: median trustworthiness within %g of the best; then stability: median disparity within %g of the lowest, then median Jaccard within %g of the highest; then the lowest median KL), we chose %s. ",
-			rec.Rule.TrustTolerance, rec.Rule.DisparityTolerance, rec.Rule.JaccardTolerance, st.Label(s))
-		fmt.Fprintf(&r, "Over its %d finished seeds it had median trustworthiness %s, seed-to-seed disparity %s, kNN Jaccard %s and final KL divergence %s; %.1f%% of its points were flagged unstable.",
-			s.RunsDone, fmtMedianIQR(s.Trustworthiness), fmtMedianIQR(s.Disparity), fmtMedianIQR(s.Jaccard), fmtMedianIQR(s.KL), 100*s.UnstableShare)
+		fmt.Fprintf(&r, "The setting was chosen by a stated rule: %s ", rec.Rule.Words())
+		fmt.Fprintf(&r, "By this rule we chose %s. %s", st.Label(s), settingSummary(s))
+		if !rec.StabilityMeasured {
+			fmt.Fprintf(&r, " Its stability was not measured (%s): the pick rests on faithfulness alone.", notMeasuredWhy(s))
+		}
 		if rec.RunnerUp != nil {
 			ru := st.Setting(rec.RunnerUp.ID)
-			fmt.Fprintf(&r, " The runner-up, %s, was not chosen because %s.", st.Label(ru), rec.Why)
+			fmt.Fprintf(&r, " The runner-up, %s, was separated at step %s (margin %s): %s.", st.Label(ru), StepWords(rec.DecidedBy), MarginWords(rec.DecidedBy, rec.Margin), rec.Why)
 		}
 		if len(rec.Indistinguishable) > 0 {
 			var names []string
@@ -145,7 +147,7 @@ func Methods(st *studyview.View, rec *Recommendation) []string {
 				names = append(names, st.Label(st.Setting(id)))
 			}
 			sort.Strings(names)
-			fmt.Fprintf(&r, " Within the tolerances or the seed-to-seed spread, %s could not be told apart from it.", strings.Join(names, "; "))
+			fmt.Fprintf(&r, " Within the tolerances or the run-to-run spread, %s could not be told apart from it.", strings.Join(names, "; "))
 		}
 		paras = append(paras, r.String())
 	}
@@ -161,7 +163,7 @@ func MethodsMarkdown(st *studyview.View, rec *Recommendation) string {
 		b.WriteString("\n\n")
 	}
 	b.WriteString("## References\n\n")
-	for _, r := range references {
+	for _, r := range allReferences() {
 		b.WriteString("- " + r + "\n")
 	}
 	return b.String()
@@ -173,6 +175,11 @@ var references = []string{
 	"Gower, J. C. Generalized Procrustes analysis. Psychometrika 40, 33–51 (1975).",
 	"Venna, J. & Kaski, S. Neighborhood preservation in nonlinear projection methods: an experimental study. ICANN 2001.",
 	"Wattenberg, M., Viégas, F. & Johnson, I. How to Use t-SNE Effectively. Distill (2016).",
+}
+
+// allReferences lists the references of the methods text and the rule.
+func allReferences() []string {
+	return append(append([]string(nil), references...), readingsReferences...)
 }
 
 // Cautions are the reading notes shown on every report.
