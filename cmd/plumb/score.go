@@ -24,7 +24,8 @@ func init() {
 		Flags: []cli.Flag{
 			&cli.IntFlag{Name: "k", Value: sweep.DefaultK, Usage: "neighbourhood size of the neighbour-based scores (below n/2)"},
 			&cli.StringFlag{Name: "input", Usage: "the study's input `FILE`, if it moved since the sweep (its fingerprint must match)"},
-			&cli.Float64Flag{Name: "spread-threshold", Usage: "flag a point as unstable above this spread (0: the default 0.1)"},
+			&cli.Float64Flag{Name: "spread-threshold", Usage: "set spread_flagged above this spread (global placement; 0: the default 0.1); unstable comes from co-assignment < 0.75"},
+			&cli.IntFlag{Name: "rnx-queries", Usage: "query points of each run's R_NX curve (0: the default 1000; -1: every point, exact)"},
 			threadsFlag,
 		},
 		Action: scoreAction,
@@ -136,7 +137,8 @@ func scoreAction(c *cli.Context) error {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
 	t0 := time.Now()
-	sum, err := sweep.Score(ctx, dir, ds, sweep.ScoreOptions{K: c.Int("k"), Threads: th, SpreadThreshold: c.Float64("spread-threshold")})
+	sum, err := sweep.Score(ctx, dir, ds, sweep.ScoreOptions{K: c.Int("k"), Threads: th, SpreadThreshold: c.Float64("spread-threshold"),
+		RNXQueries: c.Int("rnx-queries")})
 	if err != nil {
 		return err
 	}

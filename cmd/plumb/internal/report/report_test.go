@@ -14,7 +14,6 @@ import (
 	"testing"
 
 	"golang.org/x/net/html"
-
 )
 
 func TestWriteReport(t *testing.T) {
