@@ -29,6 +29,8 @@ type RunRow struct {
 	// (possibly "auto").
 	Gradient, GradientSpec string
 	Theta                  float64
+	// Subsample is the setting's subsample fraction (1: all points).
+	Subsample float64
 	// Status is "done" or "failed"; Error the reason of a failure.
 	Status, Error string
 	// KL is the final KL divergence (NaN for a failed run).
@@ -50,6 +52,9 @@ type RunScore struct {
 	// undefined (a collapsed layout).
 	RNXAUC     float64
 	RNXQueries int
+	// Points is the number of points the run embeds (n, or its
+	// subsample's size); its faithfulness is to those points' input.
+	Points int
 }
 
 // SettingScore is one row of scores/settings.parquet. Statistics that
@@ -69,10 +74,6 @@ type SettingScore struct {
 	// UnstableShare is the share of the points with a co-assignment score
 	// that are flagged unstable (score < 0.75); NaN when not measured.
 	UnstableShare float64
-	// Varied names what varied between the runs ("seed", or "" when
-	// nothing did; see Varied). It is not stored: it follows from the
-	// plan.
-	Varied string
 	// MedoidRun is the run with the least total disparity to the others
 	// (the setting's picture); "" without finished runs. Clusters is the
 	// number of map clusters in it (−1 when not clustered).
@@ -89,6 +90,15 @@ type SettingScore struct {
 	// not.
 	ConsensusShown bool
 	ConsensusNote  string
+	// Varied says what differed between the setting's runs: "seed",
+	// "subsample", "seed+subsample", or "" when nothing did (see Varied;
+	// also "" when its runs turned out bit-identical). With "" the
+	// between-run scores (Disparity, Jaccard, PairSpearman, UnstableShare,
+	// pair scores and point spreads) are NaN, stored as null.
+	Varied string
+	// NotMeasured says why the between-run scores are missing ("" when
+	// they were measured).
+	NotMeasured string
 }
 
 // PointScore is one row of scores/points.parquet.
@@ -109,12 +119,18 @@ type PointScore struct {
 	// not clustered).
 	Cluster                int
 	ConsensusX, ConsensusY float64
+	// Runs is the number of the setting's compared runs that hold the
+	// point (all of them without subsampling); Spread is NaN below 2.
+	Runs int
 }
 
 // PairScore is one row of scores/pairs.parquet.
 type PairScore struct {
 	SettingID, RunA, RunB                string
 	Disparity, Jaccard, DistanceSpearman float64
+	// Points is the number of points the two runs share, on which the
+	// scores were computed (n without subsampling).
+	Points int
 }
 
 // Study is a study directory opened for reading.
@@ -183,7 +199,7 @@ func rowFromRecord(r *Run, rec *Record) RunRow {
 	row := RunRow{RunID: r.ID, SettingID: s.ID, Perplexity: s.Perplexity, LearningRate: rec.LearningRate,
 		LearningRateSpec: s.LearningRateSpec(), Exaggeration: s.Exaggeration, ExaggerationIters: s.ExaggerationIters,
 		Iters: s.Iters, Init: s.Init, Seed: r.Seed, Gradient: rec.Gradient, GradientSpec: s.Gradient, Theta: s.Theta,
-		Status: rec.Status, Error: rec.Error, KL: math.NaN(), IterationsDone: rec.IterationsDone, Seconds: rec.Seconds}
+		Subsample: s.Fraction(), Status: rec.Status, Error: rec.Error, KL: math.NaN(), IterationsDone: rec.IterationsDone, Seconds: rec.Seconds}
 	if rec.KL != nil {
 		row.KL = *rec.KL
 	}
@@ -236,6 +252,35 @@ func (c *colReader) i32(name string) []int32 {
 	c.fail(err)
 	return v
 }
+
+// optI32 is i32 for a column that studies made by older versions lack:
+// absent, every row holds def.
+func (c *colReader) optI32(name string, def int32) []int32 {
+	if c.t.Column(name) == nil {
+		out := make([]int32, c.t.Rows())
+		for i := range out {
+			out[i] = def
+		}
+		return out
+	}
+	return c.i32(name)
+}
+
+// optStr is str for an optional column: nil when absent, "" for nulls.
+func (c *colReader) optStr(name string) []string {
+	col := c.t.Column(name)
+	if col == nil {
+		return nil
+	}
+	v := append([]string(nil), c.str(name)...)
+	for i := range v {
+		if col.IsNull(i) {
+			v[i] = ""
+		}
+	}
+	return v
+}
+
 func (c *colReader) i64(name string) []int64 {
 	v, err := c.t.Int64(name)
 	c.fail(err)
@@ -269,6 +314,17 @@ func readRunsTable(path string) ([]RunRow, error) {
 	if c.err != nil {
 		return nil, c.err
 	}
+	sub := make([]float64, len(runID))
+	if c.t.Column("subsample") != nil {
+		sub = c.f64("subsample") // absent from studies made before resampling existed
+		if c.err != nil {
+			return nil, c.err
+		}
+	} else {
+		for i := range sub {
+			sub[i] = 1
+		}
+	}
 	errCol := c.t.Column("error")
 	rows := make([]RunRow, len(runID))
 	for i := range rows {
@@ -279,7 +335,7 @@ func readRunsTable(path string) ([]RunRow, error) {
 		rows[i] = RunRow{RunID: runID[i], SettingID: settingID[i], Perplexity: perp[i], LearningRate: lr[i],
 			LearningRateSpec: lrSpec[i], Exaggeration: exag[i], ExaggerationIters: int(exagIters[i]), Iters: int(iters[i]),
 			Init: init[i], Seed: uint64(seed[i]), Gradient: grad[i], GradientSpec: gradSpec[i], Theta: theta[i],
-			Status: status[i], Error: e, KL: kl[i], IterationsDone: int(itDone[i]), Seconds: secs[i]}
+			Subsample: sub[i], Status: status[i], Error: e, KL: kl[i], IterationsDone: int(itDone[i]), Seconds: secs[i]}
 	}
 	return rows, nil
 }

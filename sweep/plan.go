@@ -29,6 +29,7 @@ type Spec struct {
 	Gradient          string `json:"gradient,omitempty"`           // default "auto"
 	Theta             string `json:"theta,omitempty"`              // default tsne.DefaultTheta ("0.8")
 	Seeds             string `json:"seeds,omitempty"`              // default "1" (one run per setting, seed 1)
+	Subsample         string `json:"subsample,omitempty"`          // default "1" (every run embeds all points)
 	Neighbors         string `json:"neighbors,omitempty"`          // default "auto"
 	KLEvery           string `json:"kl_every,omitempty"`           // default "50"
 
@@ -70,6 +71,7 @@ var SpecFields = []SpecField{
 	{"gradient", "comma list of gradient methods: auto, exact, barnes-hut, fft (default auto)", func(s *Spec) *string { return &s.Gradient }},
 	{"theta", "Barnes-Hut opening angle (default 0.8; see the README)", func(s *Spec) *string { return &s.Theta }},
 	{"seeds", "a count N (seeds 1..N) or a list/range such as 1-5,9 (default 1)", func(s *Spec) *string { return &s.Seeds }},
+	{"subsample", "comma list of subsample fractions in (0, 1]: a run of a setting with F < 1 embeds ⌈F·n⌉ points drawn by its seed (default 1, all points)", func(s *Spec) *string { return &s.Subsample }},
 	{"neighbors", "neighbour search: auto, exact, approx (default auto)", func(s *Spec) *string { return &s.Neighbors }},
 	{"kl_every", "record the KL divergence every N iterations (default 50)", func(s *Spec) *string { return &s.KLEvery }},
 }
@@ -223,6 +225,12 @@ type Plan struct {
 	// Theta is the Barnes-Hut opening angle, used by "barnes-hut" runs.
 	Theta float64  `json:"theta"`
 	Seeds []uint64 `json:"seeds"`
+	// Subsample lists the subsample fractions in (0, 1], ascending; each
+	// run of a setting with fraction F < 1 embeds SubsampleSize(n, F)
+	// points drawn by its seed (Subsample). nil stands for {1}, every run
+	// embeds all points: a plan without resampling keeps the canonical
+	// text and hash it had before the field existed.
+	Subsample []float64 `json:"subsample,omitempty"`
 	// Neighbors picks the neighbour search: "auto", "exact" or "approx".
 	Neighbors string `json:"neighbors"`
 	// KLEvery is the KL trace interval in iterations.
@@ -316,6 +324,17 @@ func (s Spec) plan() (*Plan, error) {
 	p.Theta = th[0]
 	if p.Seeds, err = ParseSeeds(def(s.Seeds, "1")); err != nil {
 		return nil, err
+	}
+	if p.Subsample, err = floatList("subsample", def(s.Subsample, "1"), false, func(v float64) string {
+		if v <= 0 || v > 1 {
+			return "must be in (0, 1] (a fraction of the points)"
+		}
+		return ""
+	}); err != nil {
+		return nil, err
+	}
+	if len(p.Subsample) == 1 && p.Subsample[0] == 1 {
+		p.Subsample = nil
 	}
 	nb, err := wordList("neighbors", def(s.Neighbors, "auto"), nbModes)
 	if err != nil {
@@ -510,10 +529,23 @@ func ParseSeeds(s string) ([]uint64, error) {
 // neighbour lists are built for it.
 func (p *Plan) MaxPerplexity() float64 { return p.Perplexity[len(p.Perplexity)-1] }
 
+// Fractions returns the plan's subsample fractions: Subsample, or {1}
+// when it is nil.
+func (p *Plan) Fractions() []float64 {
+	if len(p.Subsample) == 0 {
+		return []float64{1}
+	}
+	return p.Subsample
+}
+
+// MinFraction returns the smallest subsample fraction of the plan (1 when
+// it does not resample).
+func (p *Plan) MinFraction() float64 { return p.Fractions()[0] }
+
 // NumSettings returns the number of settings (grid cells).
 func (p *Plan) NumSettings() int {
 	return len(p.Perplexity) * len(p.LearningRate) * len(p.Exaggeration) * len(p.ExaggerationIters) *
-		len(p.Iters) * len(p.Init) * len(p.Gradient)
+		len(p.Iters) * len(p.Init) * len(p.Gradient) * len(p.Fractions())
 }
 
 // NumRuns returns the number of runs: settings × seeds.
@@ -532,6 +564,17 @@ type Setting struct {
 	Init              string  `json:"init"`
 	Gradient          string  `json:"gradient"`
 	Theta             float64 `json:"theta"`
+	// Subsample is the fraction of the points each run embeds, in (0, 1];
+	// 1 (or 0, in a Setting built by hand) means all points.
+	Subsample float64 `json:"subsample,omitempty"`
+}
+
+// Fraction returns the setting's subsample fraction, 1 for all points.
+func (s *Setting) Fraction() float64 {
+	if s.Subsample <= 0 || s.Subsample >= 1 {
+		return 1
+	}
+	return s.Subsample
 }
 
 // LearningRateSpec returns "auto" or the planned learning rate as text.
@@ -544,8 +587,14 @@ func (s *Setting) LearningRateSpec() string {
 
 // Canonical returns the setting's canonical encoding, from which its id is
 // derived. The encoding is versioned and must never change: ids written by
-// one version must be found again by every later one.
+// one version must be found again by every later one. The subsample
+// fraction is appended ("|subsample=0.9") only when it is below 1, so a
+// setting on all points keeps the id it had before resampling existed.
 func (s *Setting) Canonical() string {
+	sub := ""
+	if f := s.Fraction(); f < 1 {
+		sub = "|subsample=" + formatFloat(f)
+	}
 	return "plumb-setting-v1" +
 		"|perplexity=" + formatFloat(s.Perplexity) +
 		"|learning_rate=" + s.LearningRateSpec() +
@@ -554,7 +603,7 @@ func (s *Setting) Canonical() string {
 		"|iters=" + strconv.Itoa(s.Iters) +
 		"|init=" + s.Init +
 		"|gradient=" + s.Gradient +
-		"|theta=" + formatFloat(s.Theta)
+		"|theta=" + formatFloat(s.Theta) + sub
 }
 
 // SettingID returns the id of a setting: the first 10 hex digits of the
@@ -582,7 +631,7 @@ type Run struct {
 
 // Settings returns the plan's settings in canonical order (perplexity
 // outermost, then learning rate, exaggeration, exaggeration iterations,
-// iterations, init, gradient).
+// iterations, init, gradient, subsample fraction).
 func (p *Plan) Settings() []*Setting {
 	var out []*Setting
 	for _, perp := range p.Perplexity {
@@ -592,10 +641,12 @@ func (p *Plan) Settings() []*Setting {
 					for _, it := range p.Iters {
 						for _, in := range p.Init {
 							for _, g := range p.Gradient {
-								s := &Setting{Perplexity: perp, LearningRate: lr, Exaggeration: ex,
-									ExaggerationIters: ei, Iters: it, Init: in, Gradient: g, Theta: p.Theta}
-								s.ID = SettingID(s)
-								out = append(out, s)
+								for _, f := range p.Fractions() {
+									s := &Setting{Perplexity: perp, LearningRate: lr, Exaggeration: ex,
+										ExaggerationIters: ei, Iters: it, Init: in, Gradient: g, Theta: p.Theta, Subsample: f}
+									s.ID = SettingID(s)
+									out = append(out, s)
+								}
 							}
 						}
 					}
@@ -676,6 +727,11 @@ func (p *Plan) Canonical() string {
 	}
 	b.WriteString("|neighbors=" + p.Neighbors)
 	b.WriteString("|kl_every=" + strconv.Itoa(p.KLEvery))
+	if f := p.Fractions(); len(f) > 1 || f[0] != 1 {
+		// Only a plan that resamples names the field, so the hash of every
+		// plan made before it existed stays the same.
+		fl("subsample", p.Subsample, false)
+	}
 	return b.String()
 }
 

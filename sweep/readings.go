@@ -28,17 +28,6 @@ import (
 // points are ranked.
 const DefaultRNXQueries = 1000
 
-// Varied returns what varied between the runs of setting s: "seed" when
-// the runs start from random positions (init random), "" when they start
-// from the input's principal components and see the whole data, so that
-// they can only be identical and their agreement measures nothing.
-func Varied(s *Setting) string {
-	if s.Init == "random" {
-		return "seed"
-	}
-	return ""
-}
-
 // ClusterScore is one row of scores/clusters.parquet: one map cluster of a
 // setting's medoid run with its stability across the setting's other runs.
 type ClusterScore struct {
@@ -80,22 +69,40 @@ type LabelScore struct {
 }
 
 // rnxAUC returns the R_NX AUC and the number of query points of every
-// layout, with the input's ranks made once for the batch
-// (stability.RNXBatch). If the batch fails (a layout the curve rejects)
-// each layout is tried alone; one that fails has NaN.
-func (sc *runScorer) rnxAUC(layouts [][]float64, queries int) (auc []float64, used []int) {
+// layout, rows[i] its input rows (nil: every row). The layouts on every
+// row share one stability.RNXBatch, so the input's ranks are made once for
+// the batch; a layout of a subsample is ranked against its own rows'
+// input. If the batch fails (a layout the curve rejects) each layout is
+// tried alone; one that fails has NaN.
+func (sc *runScorer) rnxAUC(layouts [][]float64, rows [][]int32, queries int) (auc []float64, used []int) {
 	auc, used = make([]float64, len(layouts)), make([]int, len(layouts))
 	if queries == 0 {
 		queries = DefaultRNXQueries
 	}
 	opt := stability.RNXOptions{Threads: sc.threads, Queries: queries, Seed: scoreSeed}
-	curves, err := stability.RNXBatch(sc.ds.X, sc.ds.D, layouts, opt)
+	var full [][]float64
+	for i, y := range layouts {
+		if rows[i] == nil {
+			full = append(full, y)
+		}
+	}
+	var curves []*stability.RNXCurve
+	var err error
+	if len(full) > 0 {
+		curves, err = stability.RNXBatch(sc.ds.X, sc.ds.D, full, opt)
+	}
+	at := 0
 	for i, y := range layouts {
 		var c *stability.RNXCurve
-		if err == nil {
-			c = curves[i]
-		} else if c1, err1 := stability.RNX(sc.ds.X, sc.ds.D, y, opt); err1 == nil {
-			c = c1
+		switch {
+		case rows[i] != nil:
+			c, _ = stability.RNX(selectRows(sc.ds.X, sc.ds.D, rows[i]), sc.ds.D, y, opt)
+		case err == nil:
+			c = curves[at]
+			at++
+		default:
+			c, _ = stability.RNX(sc.ds.X, sc.ds.D, y, opt)
+			at++
 		}
 		if c == nil || NoVariance(y, len(y)/2, 2) {
 			auc[i] = math.NaN()
@@ -104,6 +111,48 @@ func (sc *runScorer) rnxAUC(layouts [][]float64, queries int) (auc []float64, us
 		auc[i], used[i] = c.AUC, c.Queries
 	}
 	return auc, used
+}
+
+// disparityMatrix builds the disparity matrix of runs from the setting's
+// pair scores (NaN for a pair without a score), nil with fewer than two
+// runs.
+func disparityMatrix(pairs []PairScore, runs []*Run) [][]float64 {
+	if len(runs) < 2 {
+		return nil
+	}
+	at := map[string]int{}
+	for i, r := range runs {
+		at[r.ID] = i
+	}
+	m := make([][]float64, len(runs))
+	for a := range m {
+		m[a] = make([]float64, len(runs))
+		for b := range m[a] {
+			if a != b {
+				m[a][b] = math.NaN()
+			}
+		}
+	}
+	for _, p := range pairs {
+		a, okA := at[p.RunA]
+		b, okB := at[p.RunB]
+		if okA && okB && a != b {
+			m[a][b], m[b][a] = p.Disparity, p.Disparity
+		}
+	}
+	return m
+}
+
+// complete reports whether every entry of the matrix is a number.
+func complete(m [][]float64) bool {
+	for _, row := range m {
+		for _, v := range row {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return false
+			}
+		}
+	}
+	return len(m) > 0
 }
 
 // settingReadings are the readings of one setting's finished runs.
@@ -129,12 +178,13 @@ type settingReadings struct {
 
 // readSetting computes the readings of setting s from its kept runs (in
 // plan order), their layouts and input rows (rows[i] nil: every row, in
-// input order), and ag, the agreement of the runs (nil with fewer than two
-// runs). n is the number of input rows, labels the input's labels (nil
-// without).
-func readSetting(s *Setting, runs []*Run, layouts [][]float64, rows [][]int32, ag *stability.Agreement,
+// input order), what varied between them (SettingScore.Varied; "" makes
+// every between-run reading "not measured") and dm, their pairwise
+// Procrustes disparities (disparityMatrix; nil with fewer than two runs).
+// n is the number of input rows, labels the input's labels (nil without).
+func readSetting(s *Setting, varied string, runs []*Run, layouts [][]float64, rows [][]int32, dm [][]float64,
 	n int, labels []string, threads int) (*settingReadings, error) {
-	rd := &settingReadings{varied: Varied(s), clusters: -1, share: math.NaN(), consensusWhy: "fewer than two runs"}
+	rd := &settingReadings{varied: varied, clusters: -1, share: math.NaN(), consensusWhy: "fewer than two runs"}
 	rd.score, rd.flagged, rd.cluster = make([]float64, n), make([]bool, n), make([]int32, n)
 	for i := range rd.score {
 		rd.score[i], rd.cluster[i] = math.NaN(), -1
@@ -142,13 +192,13 @@ func readSetting(s *Setting, runs []*Run, layouts [][]float64, rows [][]int32, a
 	if len(runs) == 0 {
 		return rd, nil
 	}
-	measured := rd.varied != "" && len(runs) >= 2 && ag != nil
+	measured := rd.varied != "" && len(runs) >= 2
 	medoid := 0
-	if ag != nil && len(runs) >= 2 {
-		dm, err := stability.DisparityMatrix(ag, len(runs))
-		if err != nil {
-			return nil, err
-		}
+	if len(runs) >= 2 && !complete(dm) {
+		rd.consensusWhy = "the disparity of some pair of runs is missing"
+	}
+	if len(runs) >= 2 && complete(dm) {
+		var err error
 		if medoid, err = stability.Medoid(dm); err != nil {
 			return nil, err
 		}
@@ -169,6 +219,9 @@ func readSetting(s *Setting, runs []*Run, layouts [][]float64, rows [][]int32, a
 		}
 	}
 	rd.medoid = runs[medoid].ID
+	if rows == nil {
+		rows = make([][]int32, len(runs))
+	}
 
 	// Map clusters of every run (only the medoid's when nothing is
 	// compared). A map too small to cluster leaves the cluster readings
@@ -289,7 +342,7 @@ func unmeasuredLabels(settingID string, labels []string, rows []int32, n int) []
 // (pts: the setting's rows of the points table, by input row, possibly
 // empty).
 func (rd *settingReadings) apply(ss *SettingScore, pts []PointScore) {
-	ss.Varied, ss.MedoidRun, ss.Clusters = rd.varied, rd.medoid, rd.clusters
+	ss.MedoidRun, ss.Clusters = rd.medoid, rd.clusters
 	ss.Arrangements, ss.ArrangementSizes, ss.Bimodal = rd.arrangements, rd.sizes, rd.bimodal
 	ss.ConsensusShown, ss.ConsensusNote = rd.consensusOK, rd.consensusWhy
 	ss.UnstableShare = rd.share

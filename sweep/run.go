@@ -83,8 +83,15 @@ type Stats struct {
 	NeighborBuilds, NeighborK int
 	// AffinityBuilds counts the affinity matrices built, by perplexity.
 	AffinityBuilds map[float64]int
-	// PCAInits counts PCA initialisations computed (0 or 1).
+	// PCAInits counts PCA initialisations computed (0 or 1, plus one per
+	// subsample with a PCA-initialised run).
 	PCAInits int
+	// Subsamples counts the subsamples drawn (one per seed and fraction
+	// below 1 with runs to do); their neighbour lists are derived from the
+	// one shared search, and SubsampleResearched counts the points of all
+	// of them that had to be searched again (see subsetNeighbors).
+	// SubsampleAffinities counts the affinity matrices built for them.
+	Subsamples, SubsampleResearched, SubsampleAffinities int
 	// Planned runs in the plan, InShard in this shard; Skipped were found
 	// finished; Done and Failed were run now; Stopped were interrupted.
 	Planned, InShard, Skipped, Done, Failed, Stopped int
@@ -154,6 +161,20 @@ func Validate(p *Plan, ds *dataset.Dataset) error {
 		return &dataset.InputError{File: ds.Source, Msg: fmt.Sprintf(
 			"all %d points are identical (the features have no variance), so t-SNE has no structure to show", ds.N)}
 	}
+	for _, f := range p.Fractions() {
+		if f >= 1 {
+			continue
+		}
+		m := SubsampleSize(ds.N, f)
+		if m >= ds.N {
+			return &dataset.InputError{File: ds.Source, Msg: fmt.Sprintf(
+				"subsample %s of %d points keeps all of them (⌈F·n⌉ = n); use a smaller fraction, or 1", formatFloat(f), ds.N)}
+		}
+		if float64(m-1) < 3*p.MaxPerplexity() {
+			return &dataset.InputError{File: ds.Source, Msg: fmt.Sprintf(
+				"subsample %s keeps %d of %d points, too few for perplexity %g: t-SNE needs n − 1 ≥ 3·perplexity", formatFloat(f), m, ds.N, p.MaxPerplexity())}
+		}
+	}
 	if ds.D < 2 && slices.Contains(p.Init, "pca") {
 		return &dataset.InputError{File: ds.Source, Msg: fmt.Sprintf(
 			"PCA initialisation needs at least 2 feature columns, got %d (use random initialisation)", ds.D)}
@@ -207,15 +228,44 @@ type shared struct {
 	plan    *Plan
 	threads int
 	nb      *tsne.Neighbors
-	order   []int32 // the renumbering of nb, P and the runs (nil: input order)
+	big     *tsne.Neighbors // the shared search in input order, for subsamples (nil without)
+	order   []int32         // the renumbering of nb, P and the runs (nil: input order)
 	nbOnce  sync.Once
 	nbErr   error
 	pca     []float64
 	pcaOnce sync.Once
 	pcaErr  error
 	aff     map[float64]*affEntry
+	subs    map[subKey]*subEntry
+	subAff  map[subAffKey]*affEntry
 	stats   *Stats
 	event   func(Event)
+}
+
+// subKey names a subsample: the runs with this seed of every setting with
+// this fraction embed the same points.
+type subKey struct {
+	seed uint64
+	f    float64
+}
+
+type subAffKey struct {
+	subKey
+	perp float64
+}
+
+// subEntry is one subsample with its neighbour lists (renumbered by order
+// for memory locality when it is large enough) and PCA start.
+type subEntry struct {
+	once    sync.Once
+	rows    []int32
+	nb      *tsne.Neighbors
+	order   []int32
+	err     error
+	pcaOnce sync.Once
+	pca     []float64
+	pcaErr  error
+	pending int
 }
 
 type affEntry struct {
@@ -230,19 +280,33 @@ func (sh *shared) neighbors() (*tsne.Neighbors, error) {
 		// k for the largest perplexity of the whole plan (not of this
 		// shard), so every shard truncates the same lists.
 		k := tsne.NeighborCount(sh.ds.N, sh.plan.MaxPerplexity())
+		kBig := sharedNeighborCount(sh.ds.N, sh.plan)
 		mode := neighborsMode(sh.plan.Neighbors, sh.ds.N)
 		t0 := time.Now()
-		sh.nb, sh.nbErr = searchNeighbors(mode, sh.ds.X, sh.ds.N, sh.ds.D, k, sh.threads)
+		sh.nb, sh.nbErr = searchNeighbors(mode, sh.ds.X, sh.ds.N, sh.ds.D, kBig, sh.threads)
 		if sh.nbErr != nil {
-			sh.nbErr = fmt.Errorf("neighbours (k=%d): %w", k, sh.nbErr)
+			sh.nbErr = fmt.Errorf("neighbours (k=%d): %w", kBig, sh.nbErr)
 			return
 		}
 		sh.mu.Lock()
 		sh.stats.NeighborBuilds++
-		sh.stats.NeighborK = k
+		sh.stats.NeighborK = kBig
 		sh.mu.Unlock()
-		sh.info(fmt.Sprintf("shared: %s neighbours, k=%d for perplexity up to %s, built once in %s",
-			mode, k, formatFloat(sh.plan.MaxPerplexity()), round(time.Since(t0))))
+		if kBig > k {
+			// The full lists serve the subsamples (in input order); the
+			// runs on all points read their first k columns, the lists an
+			// exact search with k would give.
+			sh.big = sh.nb
+			sh.nb = sh.big.Truncate(k)
+			sh.info(fmt.Sprintf("shared: %s neighbours, k=%d (k=%d for perplexity up to %s, more for the subsamples to draw from), built once in %s",
+				mode, kBig, k, formatFloat(sh.plan.MaxPerplexity()), round(time.Since(t0))))
+		} else {
+			if sh.plan.MinFraction() < 1 {
+				sh.big = sh.nb.Truncate(k)
+			}
+			sh.info(fmt.Sprintf("shared: %s neighbours, k=%d for perplexity up to %s, built once in %s",
+				mode, k, formatFloat(sh.plan.MaxPerplexity()), round(time.Since(t0))))
+		}
 		if sh.ds.N >= localityMinN {
 			// As tsne.Embed does: P and the runs work on points renumbered
 			// so that neighbours are near in memory; layouts are written
@@ -292,6 +356,95 @@ func (sh *shared) release(perp float64) {
 	e.pending--
 	if e.pending == 0 {
 		e.p = nil
+	}
+}
+
+// subsample returns the subsample of the runs with seed of the settings
+// with fraction f, with neighbour lists derived from the shared search.
+func (sh *shared) subsample(seed uint64, f float64) (*subEntry, error) {
+	sh.mu.Lock()
+	e := sh.subs[subKey{seed, f}]
+	sh.mu.Unlock()
+	e.once.Do(func() {
+		if _, err := sh.neighbors(); err != nil {
+			e.err = err
+			return
+		}
+		e.rows = Subsample(sh.ds.N, f, seed)
+		m := len(e.rows)
+		k := tsne.NeighborCount(m, sh.plan.MaxPerplexity())
+		var again int
+		e.nb, again, e.err = subsetNeighbors(sh.big, e.rows, sh.ds.X, sh.ds.D, k, sh.threads)
+		if e.err != nil {
+			e.err = fmt.Errorf("subsample %s of seed %d: neighbours: %w", formatFloat(f), seed, e.err)
+			return
+		}
+		if m >= localityMinN {
+			e.order = tsne.LocalityOrder(e.nb)
+			e.nb.Renumber(e.order)
+		}
+		sh.mu.Lock()
+		sh.stats.Subsamples++
+		sh.stats.SubsampleResearched += again
+		sh.mu.Unlock()
+	})
+	return e, e.err
+}
+
+// subAffinities returns P of the subsample (seed, f) at perplexity perp.
+func (sh *shared) subAffinities(e *subEntry, key subAffKey) (*tsne.Sparse, error) {
+	sh.mu.Lock()
+	a := sh.subAff[key]
+	sh.mu.Unlock()
+	a.once.Do(func() {
+		a.p, a.err = tsne.Affinities(e.nb, key.perp, sh.threads)
+		if a.err != nil {
+			a.err = fmt.Errorf("subsample %s of seed %d: affinities (perplexity %s): %w", formatFloat(key.f), key.seed, formatFloat(key.perp), a.err)
+			return
+		}
+		sh.mu.Lock()
+		sh.stats.SubsampleAffinities++
+		sh.mu.Unlock()
+	})
+	return a.p, a.err
+}
+
+// subPCA returns the PCA start of the subsample's own input.
+func (sh *shared) subPCA(e *subEntry) ([]float64, error) {
+	e.pcaOnce.Do(func() {
+		e.pca, e.pcaErr = tsne.PCAInit(selectRows(sh.ds.X, sh.ds.D, e.rows), len(e.rows), sh.ds.D)
+		if e.pcaErr != nil {
+			e.pcaErr = fmt.Errorf("%s (subsample of %d points): %w", sh.ds.Source, len(e.rows), e.pcaErr)
+			return
+		}
+		sh.mu.Lock()
+		sh.stats.PCAInits++
+		sh.mu.Unlock()
+	})
+	return e.pca, e.pcaErr
+}
+
+// releaseRun drops the run's references to shared work; the last run
+// using a P or a subsample frees it.
+func (sh *shared) releaseRun(r *Run) {
+	s := r.Setting
+	f := s.Fraction()
+	if f >= 1 {
+		sh.release(s.Perplexity)
+		return
+	}
+	sh.mu.Lock()
+	defer sh.mu.Unlock()
+	key := subAffKey{subKey{r.Seed, f}, s.Perplexity}
+	if a := sh.subAff[key]; a != nil {
+		if a.pending--; a.pending == 0 {
+			a.p = nil
+		}
+	}
+	if e := sh.subs[key.subKey]; e != nil {
+		if e.pending--; e.pending == 0 {
+			e.nb, e.pca = nil, nil
+		}
 	}
 }
 
@@ -385,12 +538,26 @@ func Execute(ctx context.Context, ds *dataset.Dataset, plan *Plan, opt Options) 
 	emit(Event{Kind: EventInfo, Message: fmt.Sprintf("plan %s: %d settings × %d seeds = %d runs; %s: %d runs, %d already finished, %d to do (%d jobs × %d threads)",
 		info.PlanHash, plan.NumSettings(), len(plan.Seeds), len(runs), opt.Shard, len(mine), stats.Skipped, len(todo), jobs, threads)})
 
-	sh := &shared{ds: ds, plan: plan, threads: jobs * threads, aff: map[float64]*affEntry{}, stats: &stats, event: emit}
+	sh := &shared{ds: ds, plan: plan, threads: jobs * threads, aff: map[float64]*affEntry{},
+		subs: map[subKey]*subEntry{}, subAff: map[subAffKey]*affEntry{}, stats: &stats, event: emit}
 	for _, perp := range plan.Perplexity {
 		sh.aff[perp] = &affEntry{}
 	}
 	for _, r := range todo {
-		sh.aff[r.Setting.Perplexity].pending++
+		f := r.Setting.Fraction()
+		if f >= 1 {
+			sh.aff[r.Setting.Perplexity].pending++
+			continue
+		}
+		key := subAffKey{subKey{r.Seed, f}, r.Setting.Perplexity}
+		if sh.subs[key.subKey] == nil {
+			sh.subs[key.subKey] = &subEntry{}
+		}
+		sh.subs[key.subKey].pending++
+		if sh.subAff[key] == nil {
+			sh.subAff[key] = &affEntry{}
+		}
+		sh.subAff[key].pending++
 	}
 	start := time.Now()
 	var (
@@ -412,7 +579,7 @@ func Execute(ctx context.Context, ds *dataset.Dataset, plan *Plan, opt Options) 
 				return nil
 			}
 			rec, err := sh.runOne(ctx, opt, info, r, threads)
-			sh.release(r.Setting.Perplexity)
+			sh.releaseRun(r)
 			mu.Lock()
 			defer mu.Unlock()
 			switch {
@@ -495,20 +662,13 @@ func unwrapShared(err error) error {
 // the files could not be written.
 func (sh *shared) runOne(ctx context.Context, opt Options, info *Info, r *Run, threads int) (rec *Record, err error) {
 	s := r.Setting
-	p, err := sh.affinities(s.Perplexity)
+	p, init, order, rows, err := sh.inputs(r)
 	if err != nil {
 		return nil, &sharedErr{err}
 	}
-	var init []float64
-	if s.Init == "pca" {
-		if init, err = sh.pcaInit(); err != nil {
-			return nil, &sharedErr{err}
-		}
-	} else {
-		init = tsne.RandomInit(sh.ds.N, r.Seed)
-	}
-	if sh.order != nil {
-		init = tsne.PermuteLayout(init, sh.order)
+	n := sh.ds.N
+	if rows != nil {
+		n = len(rows)
 	}
 	cfg := runConfig(s, threads, sh.plan.KLEvery)
 	cfg.Progress = func(pr tsne.Progress) bool {
@@ -519,15 +679,15 @@ func (sh *shared) runOne(ctx context.Context, opt Options, info *Info, r *Run, t
 	}
 	rec = &Record{RunID: r.ID, SettingID: s.ID, Seed: r.Seed, PlanHash: info.PlanHash,
 		InputFingerprint: info.Input.Fingerprint,
-		LearningRate:     cfg.LearningRate, Gradient: string(resolveGradient(s.Gradient, sh.ds.N))}
+		LearningRate:     cfg.LearningRate, Gradient: string(resolveGradient(s.Gradient, n))}
 	if rec.LearningRate == 0 {
-		rec.LearningRate = tsne.LearningRateAuto(sh.ds.N, cfg.Exaggeration)
+		rec.LearningRate = tsne.LearningRateAuto(n, cfg.Exaggeration)
 	}
 	t0 := time.Now()
 	res, oerr := optimize(p, init, cfg)
 	rec.Seconds = math.Round(time.Since(t0).Seconds()*1000) / 1000
-	if res != nil && sh.order != nil {
-		res.Y = tsne.UnpermuteLayout(res.Y, sh.order)
+	if res != nil && order != nil {
+		res.Y = tsne.UnpermuteLayout(res.Y, order)
 	}
 	if oerr != nil && (errors.Is(oerr, tsne.ErrStopped) || ctx.Err() != nil) {
 		return nil, fmt.Errorf("run %s: %w", r.ID, oerr)
@@ -547,10 +707,51 @@ func (sh *shared) runOne(ctx context.Context, opt Options, info *Info, r *Run, t
 		rec.LearningRate = res.LearningRate
 		rec.Gradient = string(res.Method)
 	}
-	if err := writeRun(opt.Dir, info, sh.ds, r, res, rec); err != nil {
+	if err := writeRun(opt.Dir, info, sh.ds, r, rows, res, rec); err != nil {
 		return nil, fmt.Errorf("run %s: %w", r.ID, err)
 	}
 	return rec, nil
+}
+
+// inputs returns what run r optimises: P, the start (both in the
+// renumbered order), the renumbering (nil: none) and, for a run on a
+// subsample, its input rows (nil: all points).
+func (sh *shared) inputs(r *Run) (p *tsne.Sparse, init []float64, order, rows []int32, err error) {
+	s := r.Setting
+	if f := s.Fraction(); f < 1 {
+		e, err := sh.subsample(r.Seed, f)
+		if err != nil {
+			return nil, nil, nil, nil, err
+		}
+		if p, err = sh.subAffinities(e, subAffKey{subKey{r.Seed, f}, s.Perplexity}); err != nil {
+			return nil, nil, nil, nil, err
+		}
+		if s.Init == "pca" {
+			if init, err = sh.subPCA(e); err != nil {
+				return nil, nil, nil, nil, err
+			}
+		} else {
+			init = tsne.RandomInit(len(e.rows), r.Seed)
+		}
+		if e.order != nil {
+			init = tsne.PermuteLayout(init, e.order)
+		}
+		return p, init, e.order, e.rows, nil
+	}
+	if p, err = sh.affinities(s.Perplexity); err != nil {
+		return nil, nil, nil, nil, err
+	}
+	if s.Init == "pca" {
+		if init, err = sh.pcaInit(); err != nil {
+			return nil, nil, nil, nil, err
+		}
+	} else {
+		init = tsne.RandomInit(sh.ds.N, r.Seed)
+	}
+	if sh.order != nil {
+		init = tsne.PermuteLayout(init, sh.order)
+	}
+	return p, init, sh.order, nil, nil
 }
 
 // optimize calls tsne.Optimize, turning a panic into an error so that one

@@ -90,6 +90,11 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 	if k < 1 || 2*k >= ds.N {
 		return nil, fmt.Errorf("score: k = %d must be at least 1 and below n/2 = %d", k, ds.N/2)
 	}
+	if f := info.Plan.MinFraction(); f < 1 {
+		if m := SubsampleSize(ds.N, f); 2*k >= m {
+			return nil, fmt.Errorf("score: k = %d must be below half the smallest subsample (%s of %d points: %d, so k < %d)", k, formatFloat(f), ds.N, m, (m+1)/2)
+		}
+	}
 	runs, err := info.Plan.Runs()
 	if err != nil {
 		return nil, fmt.Errorf("score: %w", err)
@@ -144,12 +149,24 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 			batch = append(batch, sr)
 			stop = err
 		}
-		var batchLayouts [][]float64
+		var batchLayouts, fullLayouts [][]float64
+		var batchRows [][]int32
 		for _, sr := range batch {
 			batchLayouts = append(batchLayouts, sr.layouts...)
+			batchRows = append(batchRows, sr.rows...)
 		}
-		faith := sc.batch(batchLayouts)
-		aucs, aucQueries := sc.rnxAUC(batchLayouts, opt.RNXQueries)
+		// Runs on all points share one faithfulness batch; a run on a
+		// subsample is scored against its own input rows.
+		fullAt := make([]int, len(batchLayouts))
+		for q, y := range batchLayouts {
+			fullAt[q] = -1
+			if batchRows[q] == nil {
+				fullAt[q] = len(fullLayouts)
+				fullLayouts = append(fullLayouts, y)
+			}
+		}
+		faith := sc.batch(fullLayouts)
+		aucs, aucQueries := sc.rnxAUC(batchLayouts, batchRows, opt.RNXQueries)
 		// Each run's own scores, the runs of the batch in parallel (they
 		// share only read-only inputs); used below in plan order, so the
 		// first failing run still reports its error.
@@ -161,11 +178,15 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 		results := make([]runResult, len(batchLayouts))
 		sc.prepare()
 		par.Each(len(batchLayouts), threads, func(q int) {
+			r := &results[q]
+			if batchRows[q] != nil {
+				r.rs, r.err = sc.scoreSubset(batchRows[q], batchLayouts[q])
+				return
+			}
 			var f *stability.Faithfulness
 			if faith != nil {
-				f = &faith[q]
+				f = &faith[fullAt[q]]
 			}
-			r := &results[q]
 			r.rs, r.yr, r.err = sc.score(batchLayouts[q], f)
 		})
 		at := 0
@@ -191,7 +212,7 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 			if b == len(batch)-1 && stop != nil {
 				return nil, stop
 			}
-			layouts, done := sr.layouts, sr.runs
+			layouts, done, rows := sr.layouts, sr.runs, sr.rows
 			ss.RunsDone = len(done)
 			runScores = append(runScores, scores...)
 			col := func(f func(RunScore) float64) stability.MedianIQR {
@@ -220,18 +241,33 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 				var keptL [][]float64
 				var keptR []*Run
 				var keptRanks []*stability.DistanceRanks
+				var keptRows [][]int32
 				for i, y := range layouts {
 					if !NoVariance(y, len(y)/2, 2) {
 						keptL, keptR, keptRanks = append(keptL, y), append(keptR, done[i]), append(keptRanks, ranks[i])
+						keptRows = append(keptRows, rows[i])
 					}
 				}
-				layouts, done, ranks = keptL, keptR, keptRanks
+				layouts, done, ranks, rows = keptL, keptR, keptRanks, keptRows
 			}
-			var ag *stability.Agreement
-			pointsFrom := len(points)
-			if len(layouts) >= 2 {
-				var err error
-				ag, err = stability.SettingAgreement(layouts, k, threads)
+			// Say what varied between the runs; runs that can only be
+			// identical, or are, get no stability reading.
+			ss.Varied = Varied(s, info.Plan)
+			switch {
+			case ss.Varied == "":
+				ss.NotMeasured = NotVariedReason
+			case identicalLayouts(layouts, rows):
+				ss.Varied, ss.NotMeasured = "", IdenticalReason
+			case len(layouts) < 2:
+				ss.NotMeasured = "fewer than two finished runs to compare"
+			}
+			pairs0, points0 := len(pairs), len(points)
+			if len(layouts) >= 2 && s.Fraction() < 1 {
+				if err := scoreSubsetSetting(s, layouts, rows, done, ds, k, opt.SpreadThreshold, &ss, &pairs, &points); err != nil {
+					return nil, fmt.Errorf("score: setting %s: %w", s.ID, err)
+				}
+			} else if len(layouts) >= 2 {
+				ag, err := stability.SettingAgreement(layouts, k, threads)
 				if err != nil {
 					return nil, fmt.Errorf("score: setting %s: %w", s.ID, err)
 				}
@@ -242,7 +278,7 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 						return nil, fmt.Errorf("score: setting %s: runs %s and %s: %w", s.ID, done[pa.A].ID, done[pa.B].ID, err)
 					}
 					pairs = append(pairs, PairScore{SettingID: s.ID, RunA: done[pa.A].ID, RunB: done[pa.B].ID,
-						Disparity: pa.Disparity, Jaccard: pa.Jaccard, DistanceSpearman: dc})
+						Disparity: pa.Disparity, Jaccard: pa.Jaccard, DistanceSpearman: dc, Points: ds.N})
 					if !math.IsNaN(dc) {
 						sp = append(sp, dc)
 					}
@@ -256,16 +292,23 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 				}
 				for i := 0; i < ds.N; i++ {
 					points = append(points, PointScore{SettingID: s.ID, Point: i, ID: ds.IDs[i], Spread: ps.Spread[i],
-						Unstable: ps.Flagged[i], ConsensusX: g.Consensus[2*i], ConsensusY: g.Consensus[2*i+1]})
+						Unstable: ps.Flagged[i], ConsensusX: g.Consensus[2*i], ConsensusY: g.Consensus[2*i+1], Runs: len(layouts)})
 				}
+			}
+			// The disparity matrix of the kept runs, before nullStability
+			// clears the pair scores of a setting where nothing varied: the
+			// medoid run is still the setting's picture.
+			dm := disparityMatrix(pairs[pairs0:], done)
+			if ss.Varied == "" {
+				nullStability(&ss, pairs[pairs0:], points[points0:])
 			}
 			// The readings of readings.go: medoid, arrangements, clusters,
 			// co-assignment, labels.
-			rd, err := readSetting(s, done, layouts, make([][]int32, len(layouts)), ag, ds.N, ds.Labels, threads)
+			rd, err := readSetting(s, ss.Varied, done, layouts, rows, dm, ds.N, ds.Labels, threads)
 			if err != nil {
 				return nil, fmt.Errorf("score: setting %s: %w", s.ID, err)
 			}
-			rd.apply(&ss, points[pointsFrom:])
+			rd.apply(&ss, points[points0:])
 			clusters, labels = append(clusters, rd.cs...), append(labels, rd.ls...)
 			settings = append(settings, ss)
 			batch[b] = nil // its layouts are no longer needed
@@ -292,6 +335,7 @@ type settingRuns struct {
 	runs    []*Run
 	records []*Record
 	layouts [][]float64
+	rows    [][]int32 // input rows of each layout (nil: all points)
 	failed  int
 }
 
@@ -313,10 +357,11 @@ func readSettingRuns(ctx context.Context, dir string, info *Info, s *Setting, ru
 			sr.failed++
 			continue
 		}
-		y, err := readLayout(dir, info, r)
+		y, rows, err := readLayoutRows(dir, info, r)
 		if err != nil {
 			return sr, fmt.Errorf("score: run %s: %w", r.ID, err)
 		}
+		sr.rows = append(sr.rows, rows)
 		sr.runs = append(sr.runs, r)
 		sr.records = append(sr.records, rec)
 		sr.layouts = append(sr.layouts, y)
@@ -325,6 +370,72 @@ func readSettingRuns(ctx context.Context, dir string, info *Info, s *Setting, ru
 }
 
 func nan2() stability.MedianIQR { return stability.MedianIQR{Median: math.NaN(), IQR: math.NaN()} }
+
+// scoreSubsetSetting scores the agreement of the runs of a setting on
+// subsamples: every pair on the points both runs embed (PairOnCommon),
+// per-point spread over the runs that hold each point (spreadMissing).
+// It fills ss and appends to pairs and points.
+func scoreSubsetSetting(s *Setting, layouts [][]float64, rows [][]int32, done []*Run, ds *dataset.Dataset, k int, threshold float64,
+	ss *SettingScore, pairs *[]PairScore, points *[]PointScore) error {
+	var dis, jac, sp []float64
+	for a := 0; a < len(layouts); a++ {
+		for b := a + 1; b < len(layouts); b++ {
+			d, j, c, common := PairOnCommon(layouts[a], rows[a], layouts[b], rows[b], k)
+			*pairs = append(*pairs, PairScore{SettingID: s.ID, RunA: done[a].ID, RunB: done[b].ID,
+				Disparity: d, Jaccard: j, DistanceSpearman: c, Points: common})
+			for _, v := range []struct {
+				x   float64
+				dst *[]float64
+			}{{d, &dis}, {j, &jac}, {c, &sp}} {
+				if !math.IsNaN(v.x) {
+					*v.dst = append(*v.dst, v.x)
+				}
+			}
+		}
+	}
+	ss.Disparity, ss.Jaccard, ss.PairSpearman = medianIQROf(dis), medianIQROf(jac), medianIQROf(sp)
+	spread, cons, held, err := spreadMissing(layouts, rows, ds.N, threshold)
+	if err != nil {
+		return err
+	}
+	if threshold <= 0 {
+		threshold = stability.DefaultSpreadThreshold
+	}
+	flagged, measured := 0, 0
+	for i := 0; i < ds.N; i++ {
+		if held[i] == 0 {
+			continue
+		}
+		un := spread[i] > threshold
+		if !math.IsNaN(spread[i]) {
+			measured++
+			if un {
+				flagged++
+			}
+		}
+		*points = append(*points, PointScore{SettingID: s.ID, Point: i, ID: ds.IDs[i], Spread: spread[i], Unstable: un,
+			ConsensusX: cons[2*i], ConsensusY: cons[2*i+1], Runs: held[i]})
+	}
+	if measured > 0 {
+		ss.UnstableShare = float64(flagged) / float64(measured)
+	}
+	return nil
+}
+
+// nullStability removes the between-run readings of a setting whose runs
+// cannot differ (SettingScore.NotMeasured says why): its agreement
+// medians, unstable share, pair scores and point spreads become NaN,
+// stored as null. The consensus positions stay: they are the map.
+func nullStability(ss *SettingScore, pairs []PairScore, points []PointScore) {
+	ss.Disparity, ss.Jaccard, ss.PairSpearman = nan2(), nan2(), nan2()
+	ss.UnstableShare = math.NaN()
+	for i := range pairs {
+		pairs[i].Disparity, pairs[i].Jaccard, pairs[i].DistanceSpearman = math.NaN(), math.NaN(), math.NaN()
+	}
+	for i := range points {
+		points[i].Spread, points[i].Unstable = math.NaN(), false
+	}
+}
 
 // spreadOf returns the median and IQR of v (Hyndman & Fan definition 7,
 // stability.Quantile), NaN for no values.
@@ -360,6 +471,35 @@ func (sc *runScorer) options() stability.Options {
 	return sopt
 }
 
+// scoreSubset returns the scores of layout y of a run on the input rows
+// rows: its faithfulness to the subsample's own input (those rows of the
+// data, neighbours and ranks among them), computed alone.
+func (sc *runScorer) scoreSubset(rows []int32, y []float64) (RunScore, error) {
+	ds, k := sc.ds, sc.k
+	xs := selectRows(ds.X, ds.D, rows)
+	f, err := stability.FaithfulnessAt(xs, ds.D, y, k, stability.Options{Threads: sc.threads, Seed: scoreSeed})
+	if err != nil {
+		return RunScore{}, err
+	}
+	dc, err := distanceSpearman(xs, ds.D, y)
+	if err != nil {
+		return RunScore{}, err
+	}
+	rs := RunScore{Trustworthiness: f.Trustworthiness.Value, Continuity: f.Continuity.Value, KNNRecall: f.KNNRecall.Value,
+		DistanceSpearman: dc, LabelAccuracy: math.NaN(), LabelPurity: math.NaN(), K: k, Sampled: f.Trustworthiness.Queries,
+		Points: len(rows)}
+	if ds.Labels != nil {
+		labels := selectStrings(ds.Labels, rows)
+		if rs.LabelAccuracy, err = stability.LabelAccuracyThreads(y, labels, k, sc.threads); err != nil {
+			return RunScore{}, err
+		}
+		if rs.LabelPurity, err = stability.LabelAgreement(y, labels, k); err != nil {
+			return RunScore{}, err
+		}
+	}
+	return rs, nil
+}
+
 // batch returns the faithfulness of every layout, computed together. It
 // returns nil if the batch fails (a layout the scores reject), so that
 // each run is then scored alone and the first failing run reports its own
@@ -392,7 +532,8 @@ func (sc *runScorer) score(y []float64, f *stability.Faithfulness) (RunScore, *s
 		return RunScore{}, nil, err
 	}
 	rs := RunScore{Trustworthiness: f.Trustworthiness.Value, Continuity: f.Continuity.Value, KNNRecall: f.KNNRecall.Value,
-		DistanceSpearman: dc, LabelAccuracy: math.NaN(), LabelPurity: math.NaN(), K: k, Sampled: f.Trustworthiness.Queries}
+		DistanceSpearman: dc, LabelAccuracy: math.NaN(), LabelPurity: math.NaN(), K: k, Sampled: f.Trustworthiness.Queries,
+		Points: ds.N}
 	if ds.Labels != nil {
 		if rs.LabelAccuracy, err = stability.LabelAccuracyThreads(y, ds.Labels, k, threads); err != nil {
 			return RunScore{}, nil, err

@@ -74,11 +74,11 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 		n := len(runs)
 		id, sid := make([]string, n), make([]string, n)
 		tw, co, kr, ds, la, lp, kl := make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
-		kk, sa := make([]int32, n), make([]int32, n)
+		kk, sa, np := make([]int32, n), make([]int32, n), make([]int32, n)
 		auc, aq := make([]float64, n), make([]int32, n)
 		for i, r := range runs {
 			auc[i], aq[i] = r.RNXAUC, int32(r.RNXQueries)
-			id[i], sid[i] = r.RunID, r.SettingID
+			id[i], sid[i], np[i] = r.RunID, r.SettingID, int32(r.Points)
 			tw[i], co[i], kr[i], ds[i], la[i], lp[i], kl[i] = r.Trustworthiness, r.Continuity, r.KNNRecall, r.DistanceSpearman, r.LabelAccuracy, r.LabelPurity, r.KL
 			kk[i], sa[i] = int32(r.K), int32(r.Sampled)
 		}
@@ -86,7 +86,7 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 			{Name: "run_id", Values: id}, {Name: "setting_id", Values: sid},
 			{Name: "trustworthiness", Values: tw}, {Name: "continuity", Values: co}, {Name: "knn_recall", Values: kr},
 			nullable("distance_spearman", ds), nullable("label_accuracy", la), nullable("label_purity", lp),
-			{Name: "k", Values: kk}, {Name: "sampled", Values: sa}, {Name: "kl", Values: kl},
+			{Name: "k", Values: kk}, {Name: "sampled", Values: sa}, {Name: "kl", Values: kl}, {Name: "points", Values: np},
 			nullable("rnx_auc", auc), {Name: "rnx_queries", Values: aq}}}
 		if err := parquetio.Write(scoresPath(dir, ScoreRunsFile), t); err != nil {
 			return err
@@ -97,6 +97,7 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 		n := len(settings)
 		sid, lrs, init, grad := make([]string, n), make([]string, n), make([]string, n), make([]string, n)
 		perp, lr, ex, th, share := make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
+		sub, varied, reason, reasonValid := make([]float64, n), make([]string, n), make([]string, n), make([]bool, n)
 		ei, it, done, failed := make([]int32, n), make([]int32, n), make([]int32, n), make([]int32, n)
 		medoid, sizes, note := make([]string, n), make([]string, n), make([]string, n)
 		ncl, narr := make([]int32, n), make([]int32, n)
@@ -110,6 +111,7 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 			s := &settings[i]
 			sid[i], lrs[i], init[i], grad[i] = s.ID, s.LearningRateSpec(), s.Init, s.Gradient
 			perp[i], lr[i], ex[i], th[i], share[i] = s.Perplexity, s.LearningRate, s.Exaggeration, s.Theta, s.UnstableShare
+			sub[i], varied[i], reason[i], reasonValid[i] = s.Fraction(), s.Varied, s.NotMeasured, s.NotMeasured != ""
 			if lr[i] == 0 {
 				lr[i] = math.NaN()
 			}
@@ -128,7 +130,9 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 		for j, name := range spreadColumns {
 			cols = append(cols, nullable(name+"_median", stats[2*j]), nullable(name+"_iqr", stats[2*j+1]))
 		}
-		cols = append(cols, nullable("unstable_share", share),
+		cols = append(cols, nullable("unstable_share", share), parquetio.Column{Name: "subsample", Values: sub},
+			parquetio.Column{Name: "varied", Values: varied},
+			parquetio.Column{Name: "not_measured", Values: reason, Nullable: true, Valid: allTrueNil(reasonValid)},
 			nullableStrings("medoid_run", medoid), nullableAt(parquetio.Column{Name: "clusters", Values: ncl}, hasCl),
 			nullableAt(parquetio.Column{Name: "arrangements", Values: narr}, hasArr), nullableStrings("arrangement_sizes", sizes),
 			nullableAt(parquetio.Column{Name: "bimodal", Values: bimodal}, hasArr),
@@ -144,16 +148,19 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 		pt := make([]int32, n)
 		sp, cx, cy, co := make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
 		un, sf, has := make([]bool, n), make([]bool, n), make([]bool, n)
-		cl := make([]int32, n)
+		cl, nr := make([]int32, n), make([]int32, n)
 		for i, p := range points {
 			sid[i], id[i], pt[i], sp[i], un[i], cx[i], cy[i] = p.SettingID, p.ID, int32(p.Point), p.Spread, p.Unstable, p.ConsensusX, p.ConsensusY
-			co[i], sf[i], cl[i], has[i] = p.CoAssignment, p.SpreadFlagged, int32(p.Cluster), !math.IsNaN(p.CoAssignment)
+			co[i], sf[i], cl[i], has[i], nr[i] = p.CoAssignment, p.SpreadFlagged, int32(p.Cluster), !math.IsNaN(p.CoAssignment), int32(p.Runs)
 		}
+		// A point whose spread was not measured has no spread flag either.
+		sfCol := nullable("spread", sp)
+		sfCol.Name, sfCol.Values = "spread_flagged", sf
 		t := &parquetio.Table{Meta: scoreMeta(info, "scores.points", k), Columns: []parquetio.Column{
 			{Name: "setting_id", Values: sid}, {Name: "point", Values: pt}, {Name: "id", Values: id},
 			nullable("coassignment", co), nullableAt(parquetio.Column{Name: "unstable", Values: un}, has),
-			{Name: "spread", Values: sp}, {Name: "spread_flagged", Values: sf}, {Name: "cluster", Values: cl},
-			{Name: "consensus_x", Values: cx}, {Name: "consensus_y", Values: cy}}}
+			nullable("spread", sp), sfCol, {Name: "cluster", Values: cl},
+			nullable("consensus_x", cx), nullable("consensus_y", cy), {Name: "runs", Values: nr}}}
 		if err := parquetio.Write(scoresPath(dir, ScorePointsFile), t); err != nil {
 			return err
 		}
@@ -163,12 +170,14 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 		n := len(pairs)
 		sid, a, b := make([]string, n), make([]string, n), make([]string, n)
 		di, ja, ds := make([]float64, n), make([]float64, n), make([]float64, n)
+		np := make([]int32, n)
 		for i, p := range pairs {
 			sid[i], a[i], b[i], di[i], ja[i], ds[i] = p.SettingID, p.RunA, p.RunB, p.Disparity, p.Jaccard, p.DistanceSpearman
+			np[i] = int32(p.Points)
 		}
 		t := &parquetio.Table{Meta: scoreMeta(info, "scores.pairs", k), Columns: []parquetio.Column{
 			{Name: "setting_id", Values: sid}, {Name: "run_a", Values: a}, {Name: "run_b", Values: b},
-			{Name: "disparity", Values: di}, {Name: "jaccard", Values: ja}, nullable("distance_spearman", ds)}}
+			nullable("disparity", di), nullable("jaccard", ja), nullable("distance_spearman", ds), {Name: "points", Values: np}}}
 		if err := parquetio.Write(scoresPath(dir, ScorePairsFile), t); err != nil {
 			return err
 		}
@@ -301,11 +310,12 @@ func (s *Study) readScores() error {
 		if c.err != nil {
 			return c.err
 		}
+		np := c.optI32("points", int32(s.Info.Input.N))
 		s.RunScores = make([]RunScore, len(id))
 		for i := range id {
 			s.RunScores[i] = RunScore{RunID: id[i], SettingID: sid[i], Trustworthiness: tw[i], Continuity: co[i],
 				KNNRecall: kr[i], DistanceSpearman: ds[i], LabelAccuracy: la[i], LabelPurity: lp[i], K: int(kk[i]),
-				Sampled: int(sa[i]), KL: kl[i], RNXAUC: auc[i], RNXQueries: int(aq[i])}
+				Sampled: int(sa[i]), KL: kl[i], Points: int(np[i]), RNXAUC: auc[i], RNXQueries: int(aq[i])}
 		}
 	}
 	// settings
@@ -317,6 +327,7 @@ func (s *Study) readScores() error {
 		done, failed, share := c.i32("runs_done"), c.i32("runs_failed"), c.f64("unstable_share")
 		medoid, sizes, note := c.str("medoid_run"), c.str("arrangement_sizes"), c.str("consensus_note")
 		ncl, narr, bimodal, shown := c.i32("clusters"), c.i32("arrangements"), c.boolean("bimodal"), c.boolean("consensus_shown")
+		varied, reason := c.optStr("varied"), c.optStr("not_measured")
 		stats := make([][]float64, 2*len(spreadColumns))
 		for j, name := range spreadColumns {
 			stats[2*j], stats[2*j+1] = c.f64(name+"_median"), c.f64(name+"_iqr")
@@ -333,7 +344,14 @@ func (s *Study) readScores() error {
 				ss.Setting.ID = sid[i]
 			}
 			ss.RunsDone, ss.RunsFailed, ss.UnstableShare = int(done[i]), int(failed[i]), share[i]
-			ss.Varied = Varied(&ss.Setting)
+			if varied != nil {
+				ss.Varied, ss.NotMeasured = varied[i], reason[i]
+			} else {
+				// Scored before this column existed: say what the plan lets vary.
+				if ss.Varied = Varied(&ss.Setting, s.Plan); ss.Varied == "" {
+					ss.NotMeasured = NotVariedReason
+				}
+			}
 			ss.MedoidRun, ss.ArrangementSizes, ss.ConsensusNote = c.nullStr("medoid_run", i, medoid), c.nullStr("arrangement_sizes", i, sizes), c.nullStr("consensus_note", i, note)
 			ss.Clusters, ss.Arrangements, ss.Bimodal, ss.ConsensusShown = int(ncl[i]), int(narr[i]), bimodal[i], shown[i]
 			if c.t.Column("clusters").IsNull(i) {
@@ -355,6 +373,7 @@ func (s *Study) readScores() error {
 		sid, pt, id := c.str("setting_id"), c.i32("point"), c.str("id")
 		sp, un, cx, cy := c.f64("spread"), c.boolean("unstable"), c.f64("consensus_x"), c.f64("consensus_y")
 		co, sf, cl := c.f64("coassignment"), c.boolean("spread_flagged"), c.i32("cluster")
+		nr := c.optI32("runs", 0)
 		if c.err != nil {
 			return c.err
 		}
@@ -362,7 +381,7 @@ func (s *Study) readScores() error {
 		s.Points = make([]PointScore, len(sid))
 		for i := range sid {
 			s.Points[i] = PointScore{SettingID: sid[i], Point: int(pt[i]), ID: id[i], Spread: sp[i], Unstable: un[i] && !unCol.IsNull(i),
-				ConsensusX: cx[i], ConsensusY: cy[i], CoAssignment: co[i], SpreadFlagged: sf[i], Cluster: int(cl[i])}
+				ConsensusX: cx[i], ConsensusY: cy[i], CoAssignment: co[i], SpreadFlagged: sf[i], Cluster: int(cl[i]), Runs: int(nr[i])}
 		}
 	}
 	// pairs
@@ -372,12 +391,13 @@ func (s *Study) readScores() error {
 	{
 		sid, a, b := c.str("setting_id"), c.str("run_a"), c.str("run_b")
 		di, ja, ds := c.f64("disparity"), c.f64("jaccard"), c.f64("distance_spearman")
+		np := c.optI32("points", int32(s.Info.Input.N))
 		if c.err != nil {
 			return c.err
 		}
 		s.Pairs = make([]PairScore, len(sid))
 		for i := range sid {
-			s.Pairs[i] = PairScore{SettingID: sid[i], RunA: a[i], RunB: b[i], Disparity: di[i], Jaccard: ja[i], DistanceSpearman: ds[i]}
+			s.Pairs[i] = PairScore{SettingID: sid[i], RunA: a[i], RunB: b[i], Disparity: di[i], Jaccard: ja[i], DistanceSpearman: ds[i], Points: int(np[i])}
 		}
 	}
 	// clusters

@@ -304,7 +304,10 @@ func cleanTemps(dir, id string) {
 
 // writeRun writes a run's trace, record and layout, in that order: the
 // layout is written last, so a run with a verified layout is complete.
-func writeRun(dir string, info *Info, ds *dataset.Dataset, r *Run, res *tsne.Result, rec *Record) error {
+// rows lists the input rows of a run on a subsample (nil: all points);
+// its layout holds those rows only, with their input row numbers in the
+// column point.
+func writeRun(dir string, info *Info, ds *dataset.Dataset, r *Run, rows []int32, res *tsne.Result, rec *Record) error {
 	meta := func(table string) map[string]string {
 		m := baseMeta(info, table)
 		m[MetaRunID] = r.ID
@@ -339,16 +342,25 @@ func writeRun(dir string, info *Info, ds *dataset.Dataset, r *Run, res *tsne.Res
 		return nil
 	}
 	n := ds.N
+	pointIDs, labels := ds.IDs, ds.Labels
+	if rows != nil {
+		n = len(rows)
+		pointIDs, labels = selectStrings(ds.IDs, rows), selectStrings(ds.Labels, rows)
+	}
 	ids := make([]string, n)
 	pts := make([]int32, n)
 	xs := make([]float64, n)
 	ys := make([]float64, n)
 	for i := 0; i < n; i++ {
-		ids[i], pts[i], xs[i], ys[i] = r.ID, int32(i), res.Y[2*i], res.Y[2*i+1]
+		pt := int32(i)
+		if rows != nil {
+			pt = rows[i]
+		}
+		ids[i], pts[i], xs[i], ys[i] = r.ID, pt, res.Y[2*i], res.Y[2*i+1]
 	}
-	cols := []parquetio.Column{{Name: "run_id", Values: ids}, {Name: "point", Values: pts}, {Name: "id", Values: ds.IDs}}
-	if ds.Labels != nil {
-		cols = append(cols, parquetio.Column{Name: "label", Values: ds.Labels})
+	cols := []parquetio.Column{{Name: "run_id", Values: ids}, {Name: "point", Values: pts}, {Name: "id", Values: pointIDs}}
+	if labels != nil {
+		cols = append(cols, parquetio.Column{Name: "label", Values: labels})
 	}
 	cols = append(cols, parquetio.Column{Name: "x", Values: xs}, parquetio.Column{Name: "y", Values: ys})
 	m := meta("layout")
@@ -398,43 +410,67 @@ func checkMeta(path string, m map[string]string, info *Info, r *Run, table strin
 	return nil
 }
 
-// readLayout reads and checks a run's layout: metadata, n rows, points
-// 0..n−1 in order, finite coordinates. It returns the 2N coordinates.
+// RunRows returns the input rows embedded by run r of a study of n
+// points: nil (every row) for a setting on all points, the run's
+// subsample (Subsample) otherwise.
+func RunRows(n int, r *Run) []int32 {
+	return Subsample(n, r.Setting.Fraction(), r.Seed)
+}
+
+// readLayout reads and checks a run's layout: metadata, one row per point
+// the run embeds (RunRows: every input row 0..n−1, or the run's subsample)
+// in that order, finite coordinates. It returns the coordinates, 2 per row.
 func readLayout(dir string, info *Info, r *Run) ([]float64, error) {
+	y, _, err := readLayoutRows(dir, info, r)
+	return y, err
+}
+
+// readLayoutRows is readLayout, also returning the run's input rows (nil:
+// all).
+func readLayoutRows(dir string, info *Info, r *Run) ([]float64, []int32, error) {
 	path := layoutPath(dir, r.ID)
 	t, err := parquetio.Read(path)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	if err := checkMeta(path, t.Meta, info, r, "layout"); err != nil {
-		return nil, err
+		return nil, nil, err
 	}
-	if t.Rows() != info.Input.N {
-		return nil, fmt.Errorf("%s: %d rows, want %d", path, t.Rows(), info.Input.N)
+	rows := RunRows(info.Input.N, r)
+	want := info.Input.N
+	if rows != nil {
+		want = len(rows)
+	}
+	if t.Rows() != want {
+		return nil, nil, fmt.Errorf("%s: %d rows, want %d", path, t.Rows(), want)
 	}
 	pts, err := t.Int32("point")
 	if err != nil {
-		return nil, fmt.Errorf("%s: %w", path, err)
+		return nil, nil, fmt.Errorf("%s: %w", path, err)
 	}
 	xs, err := t.Float64("x")
 	if err != nil {
-		return nil, fmt.Errorf("%s: %w", path, err)
+		return nil, nil, fmt.Errorf("%s: %w", path, err)
 	}
 	ys, err := t.Float64("y")
 	if err != nil {
-		return nil, fmt.Errorf("%s: %w", path, err)
+		return nil, nil, fmt.Errorf("%s: %w", path, err)
 	}
 	y := make([]float64, 2*len(xs))
 	for i := range xs {
-		if int(pts[i]) != i {
-			return nil, fmt.Errorf("%s: row %d holds point %d", path, i+1, pts[i])
+		want := int32(i)
+		if rows != nil {
+			want = rows[i]
+		}
+		if pts[i] != want {
+			return nil, nil, fmt.Errorf("%s: row %d holds point %d, want %d", path, i+1, pts[i], want)
 		}
 		if math.IsNaN(xs[i]) || math.IsInf(xs[i], 0) || math.IsNaN(ys[i]) || math.IsInf(ys[i], 0) {
-			return nil, fmt.Errorf("%s: row %d: non-finite coordinate", path, i+1)
+			return nil, nil, fmt.Errorf("%s: row %d: non-finite coordinate", path, i+1)
 		}
 		y[2*i], y[2*i+1] = xs[i], ys[i]
 	}
-	return y, nil
+	return y, rows, nil
 }
 
 // verify reports whether run r is finished in dir: its record is valid
@@ -464,7 +500,7 @@ func verify(dir string, info *Info, r *Run) *Record {
 func writeRunsTable(dir string, info *Info, runs []*Run) (int, error) {
 	var (
 		runID, settingID, lrSpec, init, gradient, gradSpec, status, errs []string
-		perp, lr, exag, theta, kl, secs                                  []float64
+		perp, lr, exag, theta, kl, secs, sub                             []float64
 		exagIters, iters, itDone                                         []int32
 		seed                                                             []int64
 		klValid, errValid                                                []bool
@@ -488,6 +524,7 @@ func writeRunsTable(dir string, info *Info, runs []*Run) (int, error) {
 		gradient = append(gradient, rec.Gradient)
 		gradSpec = append(gradSpec, s.Gradient)
 		theta = append(theta, s.Theta)
+		sub = append(sub, s.Fraction())
 		status = append(status, rec.Status)
 		errs = append(errs, rec.Error)
 		errValid = append(errValid, rec.Error != "")
@@ -514,6 +551,7 @@ func writeRunsTable(dir string, info *Info, runs []*Run) (int, error) {
 		{Name: "gradient", Values: nonNil(gradient)},
 		{Name: "gradient_spec", Values: nonNil(gradSpec)},
 		{Name: "theta", Values: nonNilF(theta)},
+		{Name: "subsample", Values: nonNilF(sub)},
 		{Name: "status", Values: nonNil(status)},
 		{Name: "error", Values: nonNil(errs), Nullable: true, Valid: allTrueNil(errValid)},
 		{Name: "kl", Values: nonNilF(kl), Nullable: true, Valid: allTrueNil(klValid)},

@@ -50,6 +50,8 @@ func MarginWords(step string, m float64) string {
 // measured.
 func notMeasuredWhy(s *studyview.Setting) string {
 	switch {
+	case s.Varied == "" && strings.HasPrefix(s.NotMeasured, "its finished runs gave bit-identical"):
+		return "its runs gave bit-identical maps"
 	case s.Varied == "":
 		return "nothing varied between its runs"
 	case s.RunsDone < 2:

@@ -217,6 +217,7 @@ func (b *viewBuilder) settings() {
 			set.UnstableShare = sc.UnstableShare
 			set.RNXAUC, set.CoAssignment = sc.RNXAUC, sc.CoAssignment
 			set.Varied, set.MedoidRun, set.MapClusters = sc.Varied, sc.MedoidRun, sc.Clusters
+			set.NotMeasured = sc.NotMeasured
 			set.Arrangements, set.ArrangementSizes, set.Bimodal = sc.Arrangements, sc.ArrangementSizes, sc.Bimodal
 			set.ConsensusShown, set.ConsensusNote = sc.ConsensusShown, sc.ConsensusNote
 		}

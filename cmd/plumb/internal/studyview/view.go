@@ -125,6 +125,9 @@ type Setting struct {
 	// Varied names what varied between the runs ("seed", or "": nothing,
 	// so between-run readings are not measured).
 	Varied string
+	// NotMeasured says why the between-run readings are missing ("" when
+	// they were measured, or not recorded).
+	NotMeasured string
 	// MedoidRun is the run shown as the setting's picture, Medoid its
 	// layout (2N, row-major, by input row; nil if it could not be read),
 	// MapClusters its number of map clusters (−1: not clustered).
