@@ -22,11 +22,11 @@ import (
 // averages over when ScoreOptions.RNXQueries is 0 (a fixed sample, the
 // same for every run; every K keeps its meaning and the estimate is
 // unbiased, see stability.RNXOptions). Exact R_NX with every point a query
-// costs O(N² log N) per layout; at 1,000 queries a 5,000-point study's
+// costs O(N² log N) per layout; at 500 queries a 5,000-point study's
 // R_NX stays a small part of its scoring (measured in
 // internal/scripts/bench/README.md). Up to stability.DefaultExactLimit
 // points are ranked.
-const DefaultRNXQueries = 1000
+const DefaultRNXQueries = 500
 
 // ClusterScore is one row of scores/clusters.parquet: one map cluster of a
 // setting's medoid run with its stability across the setting's other runs.

@@ -25,7 +25,7 @@ func init() {
 			&cli.IntFlag{Name: "k", Value: sweep.DefaultK, Usage: "neighbourhood size of the neighbour-based scores (below n/2)"},
 			&cli.StringFlag{Name: "input", Usage: "the study's input `FILE`, if it moved since the sweep (its fingerprint must match)"},
 			&cli.Float64Flag{Name: "spread-threshold", Usage: "set spread_flagged above this spread (global placement; 0: the default 0.1); unstable comes from co-assignment < 0.75"},
-			&cli.IntFlag{Name: "rnx-queries", Usage: "query points of each run's R_NX curve (0: the default 1000; -1: every point, exact)"},
+			&cli.IntFlag{Name: "rnx-queries", Usage: "query points of each run's R_NX curve (0: the default 500; -1: every point, exact)"},
 			threadsFlag,
 		},
 		Action: scoreAction,

@@ -534,32 +534,42 @@ func heatmapFigure(st *studyview.View, sd scoreDef) (*Figure, error) {
 	return finish(c, "heatmap-"+sd.key, caption)
 }
 
-// stabilityFigure draws the chosen setting's consensus coloured by spread,
-// unstable points ringed.
+// stabilityFigure draws the chosen setting's medoid run (a map a run
+// produced; the consensus only when the medoid could not be read), each
+// point coloured by its co-assignment score on the fixed scale 0–1 (never
+// stretched to the data, so a map where nothing is unstable stays light),
+// flagged points (score < 0.75) ringed, points without a score grey.
 func stabilityFigure(st *studyview.View, si int) (*Figure, error) {
 	s := &st.Settings[si]
 	size := 460.0
 	c := newCanvas(size+260, size+70, "Per-point stability of the recommended setting")
-	c.bold(10, 20, fmt.Sprintf("Per-point spread across seeds, %s: %.1f%% of points unstable", st.Label(s), 100*s.UnstableShare), 13, "start")
-	c.rect(10, 40, size, size, rgb{0xfa, 0xfa, 0xfa}, &light, "")
-	if len(s.Consensus) == 0 {
-		c.text(10+size/2, 40+size/2, "no finished runs", 12, "middle", grey)
-		return finish(c, "stability", "The recommended setting has no consensus layout.")
+	share := "not measured"
+	if finite(s.UnstableShare) {
+		share = fmt.Sprintf("%.1f%% of points unstable", 100*s.UnstableShare)
 	}
-	m := newMapper(layoutBounds(s.Consensus), 10, 40, size)
-	smax := quantile(s.Spread, 0.95)
-	idx := drawIndex(len(s.Consensus) / 2)
+	c.bold(10, 20, fmt.Sprintf("Per-point co-assignment across runs, %s: %s", st.Label(s), share), 13, "start")
+	c.rect(10, 40, size, size, rgb{0xfa, 0xfa, 0xfa}, &light, "")
+	layout, what := s.Medoid, "the medoid run "+s.MedoidRun
+	if len(layout) != 2*len(st.IDs) {
+		layout, what = s.Consensus, "the consensus layout (the medoid run could not be read)"
+	}
+	if len(layout) == 0 {
+		c.text(10+size/2, 40+size/2, "no finished runs", 12, "middle", grey)
+		return finish(c, "stability", "The recommended setting has no layout to show.")
+	}
+	m := newMapper(layoutBounds(layout), 10, 40, size)
+	idx := drawIndex(len(layout) / 2)
 	// Draw stable points first so unstable ones stay on top.
 	for pass := 0; pass < 2; pass++ {
 		for _, p := range idx {
 			unst := len(s.Unstable) > p && s.Unstable[p]
-			if (pass == 1) != unst {
+			if (pass == 1) != unst || math.IsNaN(layout[2*p]) {
 				continue
 			}
-			x0, y0 := m.at(s.Consensus[2*p], s.Consensus[2*p+1])
-			col := categorical[0]
-			if len(s.Spread) > p && smax > 0 {
-				col = ramp(s.Spread[p] / smax)
+			x0, y0 := m.at(layout[2*p], layout[2*p+1])
+			col := grey
+			if len(s.PointScore) > p && finite(s.PointScore[p]) {
+				col = ramp(1 - s.PointScore[p])
 			}
 			c.circle(x0, y0, 2.6, col, 0.9)
 			if unst {
@@ -568,13 +578,20 @@ func stabilityFigure(st *studyview.View, si int) (*Figure, error) {
 		}
 	}
 	lx := size + 24
-	colourBar(c, lx, 50, 120, "")
-	c.text(lx, 90, "spread across seeds", 11, "start", black)
-	c.text(lx, 104, fmt.Sprintf("(0 to %s, the 95th pct.)", fmtScore(smax)), 10, "start", grey)
-	c.ring(lx+5, 126, 4.5, hexColor("#c0392b"))
-	c.text(lx+16, 130, "flagged unstable", 11, "start", black)
-	caption := fmt.Sprintf("The consensus layout of %s; each point's colour is its spread across the %d finished seeds (distance from the consensus after alignment), red rings mark points flagged unstable (%.1f%% of all).",
-		st.Label(s), s.RunsDone, 100*s.UnstableShare)
+	steps := 40
+	for k := 0; k < steps; k++ {
+		c.rect(lx+float64(k)*120/float64(steps), 50, 120/float64(steps)+0.5, 10, ramp(1-float64(k)/float64(steps-1)), nil, "")
+	}
+	c.text(lx, 74, "0", 10, "start", black)
+	c.text(lx+120*0.75, 74, "0.75", 10, "middle", black)
+	c.text(lx+120, 74, "1", 10, "end", black)
+	c.text(lx, 92, "co-assignment (fixed 0–1 scale)", 11, "start", black)
+	c.ring(lx+5, 112, 4.5, hexColor("#c0392b"))
+	c.text(lx+16, 116, "flagged unstable (< 0.75)", 11, "start", black)
+	c.circle(lx+5, 134, 2.6, grey, 0.9)
+	c.text(lx+16, 138, "not measured", 11, "start", black)
+	caption := fmt.Sprintf("%s of %s. Each point's colour is its co-assignment score across the %d finished runs: the mean Jaccard similarity, over pairs of runs, of the map-cluster groups holding it (1 = always with the same points; light), on a fixed 0–1 scale; red rings mark points below 0.75 (%s), grey points were not measured.",
+		strings.ToUpper(what[:1])+what[1:], st.Label(s), s.RunsDone, share)
 	return finish(c, "stability", caption)
 }
 
