@@ -145,3 +145,17 @@ var readingsReferences = []string{
 	"Monti, S., Tamayo, P., Mesirov, J. & Golub, T. Consensus clustering: a resampling-based method for class discovery and visualization of gene expression microarray data. Machine Learning 52, 91–118 (2003).",
 	"Schönemann, P. H. A generalized solution of the orthogonal Procrustes problem. Psychometrika 31, 1–10 (1966).",
 }
+
+// unmeasured lists the settings with finished runs whose between-run
+// readings were not measured because nothing varied between the runs (or
+// the runs came out identical).
+func unmeasured(st *studyview.View) []string {
+	var out []string
+	for i := range st.Settings {
+		s := &st.Settings[i]
+		if s.RunsDone >= 1 && s.Varied == "" {
+			out = append(out, st.Label(s))
+		}
+	}
+	return out
+}

@@ -31,9 +31,10 @@ func lrText(v float64) string {
 
 // FromSweep adapts a study opened with sweep.Open to the read model:
 // plan, input, the score tables, the consensus layouts and, for finished
-// runs, the KL traces (a missing trace file leaves that run without one).
-// The study must have been scored. Cost: one layout file and every trace
-// file are read; the rest is in memory already.
+// runs, the KL traces (a missing trace file leaves that run without one)
+// and the layouts aligned onto their consensus (loadRunLayouts).
+// The study must have been scored. Cost: every finished run's layout file
+// and trace file are read, and each layout aligned in O(n).
 func FromSweep(s *sweep.Study) (*View, error) {
 	if s.SettingScores == nil {
 		return nil, &NotScoredError{Dir: s.Dir}
@@ -51,6 +52,9 @@ func FromSweep(s *sweep.Study) (*View, error) {
 	b.runs()
 	b.pairs()
 	b.readings()
+	if err := loadRunLayouts(b.s, b.v); err != nil {
+		return nil, err
+	}
 	return b.v, nil
 }
 
@@ -240,15 +244,15 @@ func (b *viewBuilder) consensus() {
 			set.Consensus = make([]float64, 2*n)
 			set.Spread = make([]float64, n)
 			set.Unstable = make([]bool, n)
-			set.PointScore = make([]float64, n)
-			set.PointCluster = make([]int, n)
-			for i := range set.PointScore {
-				set.PointScore[i], set.PointCluster[i] = math.NaN(), -1
+			set.Stability = make([]float64, n)
+			set.Clusters = make([]int32, n)
+			for i := range set.Stability {
+				set.Stability[i], set.Clusters[i] = math.NaN(), -1
 			}
 		}
 		set.Consensus[2*p.Point], set.Consensus[2*p.Point+1] = p.ConsensusX, p.ConsensusY
 		set.Spread[p.Point], set.Unstable[p.Point] = p.Spread, p.Unstable
-		set.PointScore[p.Point], set.PointCluster[p.Point] = p.CoAssignment, p.Cluster
+		set.Stability[p.Point], set.Clusters[p.Point] = p.CoAssignment, int32(p.Cluster)
 	}
 }
 

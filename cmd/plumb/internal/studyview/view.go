@@ -145,16 +145,35 @@ type Setting struct {
 	ConsensusShown bool
 	ConsensusNote  string
 	// Consensus is the consensus layout (2N, row-major) of the setting's
-	// runs; Spread the per-point spread about it (global placement);
-	// CoAssignment the per-point co-assignment score (NaN: not measured)
-	// and Unstable its flag; Cluster each point's cluster in the medoid run
-	// (−1 noise). Any may be nil when the setting has fewer than two
-	// finished runs.
-	Consensus    []float64
-	Spread       []float64
-	PointScore   []float64
-	Unstable     []bool
-	PointCluster []int
+	// runs; Spread and Unstable hold the per-point spread and flag. Any may
+	// be nil when the setting has no finished runs.
+	Consensus []float64
+	Spread    []float64
+	Unstable  []bool
+	// Stability is each point's co-assignment score in [0, 1], higher is
+	// more stable (NaN: not measured); Unstable is its flag (< 0.75) and
+	// Spread the point's distance from the consensus (global placement).
+	// Stability is nil when the study has no such score, and the page
+	// then shows Spread on its own fixed scale.
+	Stability []float64
+	// Clusters holds each point's map cluster id in the layout shown for
+	// the setting (−1: no cluster); nil when the study has no map clusters.
+	Clusters []int32
+	// RunLayouts are the layouts of the setting's finished runs, each
+	// rotated onto the setting's consensus (NaN for points a run did not
+	// place); nil when not loaded.
+	RunLayouts []RunLayout
+}
+
+// RunLayout is one run's layout, aligned onto its setting's consensus.
+type RunLayout struct {
+	RunID string
+	Seed  uint64
+	// XY is the layout (2N, row-major, in point order).
+	XY []float64
+	// Clusters holds each point's map cluster id in this run (−1: none);
+	// nil without map clusters.
+	Clusters []int32
 }
 
 // Run is one finished or failed run.
