@@ -159,3 +159,23 @@ func unmeasured(st *studyview.View) []string {
 	}
 	return out
 }
+
+// picture returns the layout shown for setting s and says what it is: the
+// medoid run (a map some run produced, DESIGN.md) when it was read and
+// places every point, otherwise the consensus of the runs (a subsample
+// medoid leaves points out; old studies have no medoid).
+func picture(s *studyview.Setting) (layout []float64, what string) {
+	if len(s.Medoid) > 0 && len(s.Medoid) == len(s.Consensus) {
+		ok := true
+		for _, v := range s.Medoid {
+			if !finite(v) {
+				ok = false
+				break
+			}
+		}
+		if ok {
+			return s.Medoid, "the medoid run " + s.MedoidRun
+		}
+	}
+	return s.Consensus, "the consensus layout"
+}
