@@ -151,7 +151,7 @@ func layoutsFigure(st *studyview.View, ref int, chosen string) (*Figure, error) 
 	} else {
 		warnBar(c, margin, ly, 100, spreadWords)
 	}
-	caption := "One panel per setting: the consensus of its seeds, rotated and reflected by ordinary Procrustes onto the reference setting and scaled to its size so that panels are comparable; the few points beyond the 0.5th–99.5th percentile box are drawn on the frame. Where seeds disagree (high disparity) the consensus is an average of different maps and can place points between their positions in any single run. "
+	caption := "One panel per setting: its medoid run (the run closest in total Procrustes disparity to its other runs, a map a run produced; the consensus of its runs only where the medoid does not place every point), rotated and reflected by ordinary Procrustes onto the reference setting and scaled to its size so that panels are comparable; the few points beyond the 0.5th–99.5th percentile box are drawn on the frame. "
 	if mk != nil {
 		caption += "Colour shows the label (" + st.Input.LabelColumn + ")"
 		if len(order) > maxMarkers {
