@@ -110,12 +110,12 @@ func ClustersCaption(s *studyview.Setting) string {
 // readingsParagraph is the methods text for the between-run readings.
 func readingsParagraph(st *studyview.View) string {
 	var b strings.Builder
-	b.WriteString("Each run's faithfulness over every neighbourhood size was summarised by the area under the rank-based quality curve R_NX(K) on a logarithmic K axis (Lee & Verleysen, 2009; Lee, Peluffo-Ordóñez & Verleysen, 2015)")
+	b.WriteString("Each run's faithfulness over every neighbourhood size was summarised by the area under the rank-based quality curve R_NX(K) on a logarithmic K axis (Lee & Verleysen 2009; Lee, Peluffo-Ordóñez & Verleysen 2015)")
 	b.WriteString(". Between-run readings were computed only where something varied between a setting's runs (random starts); where nothing varied (PCA starts on the whole data) they are reported as not measured. ")
 	b.WriteString("The runs of a setting were grouped into distinct arrangements by single-linkage clustering of their pairwise Procrustes distances, kept only when the split leaves a clean gap and its mean silhouette width (Rousseeuw, 1987) is at least 0.5. ")
 	b.WriteString("The map shown for a setting is its medoid run (the run with the least total Procrustes disparity to the others); an averaged consensus is shown beside it only when the runs form one arrangement and every pairwise disparity is at most 0.02. ")
 	b.WriteString("Each run's map was clustered by DBSCAN (Ester et al., 1996; at least 30 neighbours within 1.5 times the median 30th-neighbour distance), and each cluster of the medoid run was matched to its most similar cluster in every other run by Jaccard similarity and read on Hennig's (2007) scale. ")
-	b.WriteString("Each point's stability is its co-assignment score: the mean over pairs of runs of the Jaccard similarity of the groups holding it (after Monti et al., 2003); points below 0.75 are flagged unstable. The earlier per-point spread (distance from the consensus) is kept as a reading of global placement only.")
+	b.WriteString("Each point's stability is its co-assignment score: the mean over pairs of runs of the Jaccard similarity of the groups holding it (the consensus idea in pairwise form; Monti et al., 2003); points below 0.75 are flagged unstable. The earlier per-point spread (distance from the consensus) is kept as a reading of global placement only.")
 	if st.HasLabels() {
 		b.WriteString(" For each label we report the share of its points not flagged and the labels its points are grouped with across runs.")
 	}
@@ -133,17 +133,6 @@ func readingsParagraph(st *studyview.View) string {
 		fmt.Fprintf(&b, " Not measured (nothing varied between the runs): %s.", strings.Join(nm, "; "))
 	}
 	return b.String()
-}
-
-// readingsReferences are the sources of the readings.
-var readingsReferences = []string{
-	"Lee, J. A. & Verleysen, M. Quality assessment of dimensionality reduction: rank-based criteria. Neurocomputing 72, 1431–1443 (2009).",
-	"Lee, J. A., Peluffo-Ordóñez, D. H. & Verleysen, M. Multi-scale similarities in stochastic neighbour embedding: reducing dimensionality while preserving both local and global structure. Neurocomputing 169, 246–261 (2015).",
-	"Rousseeuw, P. J. Silhouettes: a graphical aid to the interpretation and validation of cluster analysis. Journal of Computational and Applied Mathematics 20, 53–65 (1987).",
-	"Ester, M., Kriegel, H.-P., Sander, J. & Xu, X. A density-based algorithm for discovering clusters in large spatial databases with noise. KDD 1996, 226–231.",
-	"Hennig, C. Cluster-wise assessment of cluster stability. Computational Statistics & Data Analysis 52, 258–271 (2007).",
-	"Monti, S., Tamayo, P., Mesirov, J. & Golub, T. Consensus clustering: a resampling-based method for class discovery and visualization of gene expression microarray data. Machine Learning 52, 91–118 (2003).",
-	"Schönemann, P. H. A generalized solution of the orthogonal Procrustes problem. Psychometrika 31, 1–10 (1966).",
 }
 
 // unmeasured lists the settings with finished runs whose between-run
