@@ -30,17 +30,22 @@ type ScoreOptions struct {
 	// Threads bounds the goroutines. If Threads is 0, GOMAXPROCS is used.
 	// Results do not depend on it.
 	Threads int
-	// SpreadThreshold flags a point as unstable when its spread exceeds
-	// it. If it is 0, stability.DefaultSpreadThreshold is used.
+	// SpreadThreshold sets a point's spread_flagged when its spread
+	// exceeds it. If it is 0, stability.DefaultSpreadThreshold is used.
 	SpreadThreshold float64
 	// Lock is the caller's exclusive lock on the study (LockStudy); if it
 	// is nil, Score takes one itself for its duration.
 	Lock *Lock
+	// RNXQueries is the number of query points of each run's R_NX curve.
+	// If it is 0, DefaultRNXQueries is used; a negative value makes every
+	// ranked point a query.
+	RNXQueries int
 }
 
 // ScoreResult counts the rows written by Score.
 type ScoreResult struct {
 	Runs, Settings, Points, Pairs int
+	Clusters, Labels              int
 	K                             int
 	// Planned counts the plan's runs; Unfinished lists those without a
 	// valid record (not run yet, interrupted, or their record deleted),
@@ -158,6 +163,8 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 		settings  []SettingScore
 		points    []PointScore
 		pairs     []PairScore
+		clusters  []ClusterScore
+		labels    []LabelScore
 	)
 	// Settings are read and scored in batches of whole settings holding
 	// at most scoreBatchFloats layout values (counting every run of a
@@ -198,6 +205,7 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 			}
 		}
 		faith := sc.batch(fullLayouts)
+		aucs, aucQueries := sc.rnxAUC(batchLayouts, batchRows, opt.RNXQueries)
 		// Each run's own scores, the runs of the batch in parallel (they
 		// share only read-only inputs); used below in plan order, so the
 		// first failing run still reports its error.
@@ -231,6 +239,7 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 					return nil, fmt.Errorf("score: %w", err)
 				}
 				rs, yr, err := results[at].rs, results[at].yr, results[at].err
+				rs.RNXAUC, rs.RNXQueries = aucs[at], aucQueries[at]
 				at++
 				if err != nil {
 					return nil, fmt.Errorf("score: run %s: %w", r.ID, err)
@@ -261,6 +270,7 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 			ss.LabelAccuracy = col(func(r RunScore) float64 { return r.LabelAccuracy })
 			ss.LabelPurity = col(func(r RunScore) float64 { return r.LabelPurity })
 			ss.KL = col(func(r RunScore) float64 { return r.KL })
+			ss.RNXAUC = col(func(r RunScore) float64 { return r.RNXAUC })
 			ss.Disparity, ss.Jaccard, ss.PairSpearman = nan2(), nan2(), nan2()
 			// A layout whose points all coincide (a collapsed run) cannot be
 			// aligned (Procrustes needs a non-zero layout) and has no distance
@@ -323,19 +333,30 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 					points = append(points, PointScore{SettingID: s.ID, Point: i, ID: ds.IDs[i], Spread: ps.Spread[i],
 						Unstable: ps.Flagged[i], ConsensusX: g.Consensus[2*i], ConsensusY: g.Consensus[2*i+1], Runs: len(layouts)})
 				}
-				ss.UnstableShare = float64(ps.NumFlagged) / float64(ds.N)
 			}
+			// The disparity matrix of the kept runs, before nullStability
+			// clears the pair scores of a setting where nothing varied: the
+			// medoid run is still the setting's picture.
+			dm := disparityMatrix(pairs[pairs0:], done)
 			if ss.Varied == "" {
 				nullStability(&ss, pairs[pairs0:], points[points0:])
 			}
+			// The readings of readings.go: medoid, arrangements, clusters,
+			// co-assignment, labels.
+			rd, err := readSetting(s, ss.Varied, done, layouts, rows, dm, ds.N, ds.Labels, threads)
+			if err != nil {
+				return nil, fmt.Errorf("score: setting %s: %w", s.ID, err)
+			}
+			rd.apply(&ss, points[points0:])
+			clusters, labels = append(clusters, rd.cs...), append(labels, rd.ls...)
 			settings = append(settings, ss)
 			batch[b] = nil // its layouts are no longer needed
 		}
 	}
-	if err := writeScoreTables(dir, info, k, runScores, settings, points, pairs); err != nil {
+	if err := writeScoreTables(dir, info, k, runScores, settings, points, pairs, clusters, labels); err != nil {
 		return nil, fmt.Errorf("score: %w", err)
 	}
-	return &ScoreResult{Runs: len(runScores), Settings: len(settings), Points: len(points), Pairs: len(pairs), K: k,
+	return &ScoreResult{Runs: len(runScores), Settings: len(settings), Points: len(points), Pairs: len(pairs), Clusters: len(clusters), Labels: len(labels), K: k,
 		Planned: len(runs), Unfinished: unfinished}, nil
 }
 

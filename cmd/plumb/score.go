@@ -23,7 +23,8 @@ func init() {
 		Flags: []cli.Flag{
 			&cli.IntFlag{Name: "k", Value: sweep.DefaultK, Usage: "neighbourhood size of the neighbour-based scores (below n/2)"},
 			&cli.StringFlag{Name: "input", Usage: "the study's input `FILE`, if it moved since the sweep (its fingerprint must match)"},
-			&cli.Float64Flag{Name: "spread-threshold", Usage: "flag a point as unstable above this spread (0: the default 0.1)"},
+			&cli.Float64Flag{Name: "spread-threshold", Usage: "set spread_flagged above this spread (global placement; 0: the default 0.1); unstable comes from co-assignment < 0.75"},
+			&cli.IntFlag{Name: "rnx-queries", Usage: "query points of each run's R_NX curve (0: the default 500; -1: every point, exact)"},
 			threadsFlag,
 		},
 		Action: scoreAction,
@@ -144,7 +145,8 @@ func scoreAction(c *cli.Context) error {
 	ctx, stop := interruptContext()
 	defer stop()
 	t0 := time.Now()
-	sum, err := sweep.Score(ctx, dir, ds, sweep.ScoreOptions{K: c.Int("k"), Threads: th, SpreadThreshold: c.Float64("spread-threshold"), Lock: lock})
+	sum, err := sweep.Score(ctx, dir, ds, sweep.ScoreOptions{K: c.Int("k"), Threads: th, SpreadThreshold: c.Float64("spread-threshold"),
+		RNXQueries: c.Int("rnx-queries"), Lock: lock})
 	if err != nil {
 		if ctx.Err() != nil {
 			return interrupted("run `plumb score "+dir+"` again", "the score tables were not written (the ones there before are unchanged)")
