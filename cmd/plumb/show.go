@@ -86,6 +86,7 @@ func showRows(st *sweep.Study) []*settingRow {
 		r.set("iters", s.Iters)
 		r.set("init", s.Init)
 		r.set("gradient", s.Gradient)
+		r.set("subsample", s.Fraction())
 		var kls []float64
 		done, failed := 0, 0
 		for _, row := range st.Rows {
@@ -118,6 +119,13 @@ func showRows(st *sweep.Study) []*settingRow {
 			add("label_accuracy", ss.LabelAccuracy)
 			add("label_purity", ss.LabelPurity)
 			r.set("unstable_share", ss.UnstableShare)
+			r.set("varied", ss.Varied)
+			// null in JSON when measured; the reason otherwise.
+			var reason any
+			if ss.NotMeasured != "" {
+				reason = ss.NotMeasured
+			}
+			r.set("not_measured", reason)
 		} else {
 			r.set("kl_median", stability.Quantile(kls, 0.5))
 		}
@@ -224,10 +232,13 @@ func showTable(w io.Writer, st *sweep.Study, rows []*settingRow) {
 		{"iters", "iters"}, {"init", "init"}, {"gradient", "gradient"}, {"runs_done", "done"}, {"runs_failed", "failed"},
 		{"kl_median", "kl"},
 	}
+	if len(st.Plan.Fractions()) > 1 || st.Plan.MinFraction() < 1 {
+		cols = append(cols[:7], append([]struct{ key, head string }{{"subsample", "subsample"}}, cols[7:]...)...)
+	}
 	if st.SettingScores != nil {
 		cols = append(cols, []struct{ key, head string }{
 			{"disparity_median", "disparity"}, {"jaccard_median", "jaccard"}, {"trustworthiness_median", "trust"},
-			{"continuity_median", "contin"}, {"knn_recall_median", "recall"}, {"unstable_share", "unstable"}}...)
+			{"continuity_median", "contin"}, {"knn_recall_median", "recall"}, {"unstable_share", "unstable"}, {"varied", "varied"}}...)
 		if st.Info.Input.HasLabels {
 			cols = append(cols, struct{ key, head string }{"label_accuracy_median", "label_acc"})
 		}
@@ -240,18 +251,37 @@ func showTable(w io.Writer, st *sweep.Study, rows []*settingRow) {
 		fmt.Fprint(tw, c.head)
 	}
 	fmt.Fprintln(tw, "\t")
+	unmeasured := 0
 	for _, r := range rows {
+		reason, _ := r.vals["not_measured"].(string)
+		if reason != "" && r.vals["varied"] == "" {
+			unmeasured++
+		}
 		for i, c := range cols {
 			if i > 0 {
 				fmt.Fprint(tw, "\t")
 			}
-			fmt.Fprint(tw, cell(r.vals[c.key]))
+			v := cell(r.vals[c.key])
+			switch c.key {
+			case "disparity_median", "jaccard_median", "unstable_share":
+				if reason != "" && r.vals["varied"] == "" {
+					v = "not measured"
+				}
+			case "varied":
+				if v == "" {
+					v = "nothing"
+				}
+			}
+			fmt.Fprint(tw, v)
 		}
 		fmt.Fprintln(tw, "\t")
 	}
 	tw.Flush()
+	if unmeasured > 0 {
+		fmt.Fprintf(w, "not measured: for %d setting(s) %s\n", unmeasured, sweep.NotVariedReason)
+	}
 	if st.SettingScores != nil {
-		fmt.Fprintln(w, "medians over the runs (kl, trust, contin, recall) or pairs of runs (disparity, jaccard) of each setting; unstable: share of points with spread > threshold")
+		fmt.Fprintln(w, "medians over the runs (kl, trust, contin, recall) or pairs of runs (disparity, jaccard, on the points both runs embed) of each setting; unstable: share of points with spread > threshold; varied: what differed between the runs of a setting (seed: random start; subsample: the points embedded)")
 	}
 }
 

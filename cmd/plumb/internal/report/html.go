@@ -79,8 +79,8 @@ func page(st *studyview.View, rec *Recommendation, recErr error, figs []*Figure,
 	} else {
 		s := st.Setting(rec.Chosen.ID)
 		w("<div class=\"pick\"><p><strong>Recommended setting: %s</strong> (id <code>%s</code>).</p>\n", h(st.Label(s)), h(s.ID))
-		w("<p>Median over %d seeds: trustworthiness %s, seed-to-seed disparity %s, kNN Jaccard %s, final KL %s; %.1f%% of points unstable.</p>\n",
-			s.RunsDone, h(fmtMedianIQR(s.Trustworthiness)), h(fmtMedianIQR(s.Disparity)), h(fmtMedianIQR(s.Jaccard)), h(fmtMedianIQR(s.KL)), 100*s.UnstableShare)
+		w("<p>Median over %d seeds: trustworthiness %s, seed-to-seed disparity %s, kNN Jaccard %s, final KL %s; points unstable: %s.</p>\n",
+			s.RunsDone, h(fmtMedianIQR(s.Trustworthiness)), h(fmtMedianIQR(s.Disparity)), h(fmtMedianIQR(s.Jaccard)), h(fmtMedianIQR(s.KL)), h(fmtShare(s)))
 		if rec.RunnerUp != nil {
 			ru := st.Setting(rec.RunnerUp.ID)
 			w("<p>Runner-up: <strong>%s</strong>. Decided at the <em>%s</em> step: the runner-up was not chosen because %s.</p>\n", h(st.Label(ru)), h(stepWords[rec.DecidedBy]), h(rec.Why))
@@ -112,7 +112,7 @@ func page(st *studyview.View, rec *Recommendation, recErr error, figs []*Figure,
 		w("</div>\n")
 	}
 	if same := seedless(st); len(same) > 0 {
-		w("<p class=\"cautions\"><strong>Seeds made no difference</strong> for %s: every finished seed gave the same map (seed-to-seed disparity 0). With a deterministic start such as PCA initialisation the seed changes nothing, so for these settings the stability scores say nothing about sensitivity to the starting point; sweep <code>--init random</code> to measure it.</p>\n", h(strings.Join(same, "; ")))
+		w("<p class=\"cautions\"><strong>Seeds made no difference</strong> for %s: every finished seed gave the same map, so their stability was <strong>not measured</strong>. With a deterministic start such as PCA initialisation on all points the seed changes nothing; sweep <code>--init random</code> or <code>--subsample 0.9</code> to measure it.</p>\n", h(strings.Join(same, "; ")))
 	}
 	w("<p><strong>The rule.</strong> %s</p>\n", h(rec0(rec).Words()))
 	if rec != nil && len(rec.Excluded) > 0 {
@@ -235,10 +235,16 @@ func settingsTable(b *bytes.Buffer, st *studyview.View, rec *Recommendation) {
 			txt := "–"
 			if finite(v.Median) {
 				txt = fmtScore(v.Median) + "<br/><small>(" + fmtScore(v.IQR) + ")</small>"
+			} else if s.NotMeasured != "" && s.Varied == "" && (cols[ci].name == "disparity" || cols[ci].name == "kNN Jaccard" || cols[ci].name == "seed distance Spearman") {
+				txt = "<small>not measured</small>"
 			}
 			fmt.Fprintf(b, "<td data-v=\"%s\">%s</td>", dv, txt)
 		}
-		fmt.Fprintf(b, "<td data-v=\"%g\">%.1f</td>", s.UnstableShare, 100*s.UnstableShare)
+		if finite(s.UnstableShare) {
+			fmt.Fprintf(b, "<td data-v=\"%g\">%.1f</td>", s.UnstableShare, 100*s.UnstableShare)
+		} else {
+			b.WriteString("<td data-v=\"NaN\"><small>not measured</small></td>")
+		}
 		if r, ok := rank[s.ID]; ok {
 			fmt.Fprintf(b, "<td data-v=\"%d\">%d</td>", r, r)
 		} else {
@@ -263,7 +269,7 @@ func seedless(st *studyview.View) []string {
 	var out []string
 	for i := range st.Settings {
 		s := &st.Settings[i]
-		if s.RunsDone >= 2 && s.Disparity.Median == 0 && s.Disparity.IQR == 0 {
+		if s.RunsDone >= 2 && (s.Disparity.Median == 0 && s.Disparity.IQR == 0 || s.NotMeasured != "" && s.Varied == "") {
 			out = append(out, st.Label(s))
 		}
 	}

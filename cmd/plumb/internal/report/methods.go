@@ -29,6 +29,8 @@ func paramWords(name string) string {
 		return "gradient method as planned"
 	case "theta":
 		return "Barnes-Hut θ"
+	case "subsample":
+		return "subsample fraction"
 	}
 	return strings.ReplaceAll(name, "_", " ")
 }
@@ -54,6 +56,40 @@ func seedList(s []uint64) string {
 		return strings.Join(p[:5], ", ") + ", …, " + p[len(p)-1]
 	}
 	return strings.Join(p, ", ")
+}
+
+// variedWords says in words what differed between the runs of a setting.
+func variedWords(v string) string {
+	var parts []string
+	for _, p := range strings.Split(v, "+") {
+		switch p {
+		case "seed":
+			parts = append(parts, "the random start (each seed its own)")
+		case "subsample":
+			parts = append(parts, "the points embedded (each seed its own random subsample)")
+		}
+	}
+	return strings.Join(parts, " and ")
+}
+
+// notMeasured lists the labels of the settings whose between-run
+// agreement was not measured (nothing varied between their runs).
+func notMeasured(st *studyview.View) []string {
+	var out []string
+	for i := range st.Settings {
+		if s := &st.Settings[i]; s.NotMeasured != "" && s.Varied == "" {
+			out = append(out, st.Label(s))
+		}
+	}
+	return out
+}
+
+// fmtShare formats a setting's unstable share, or says it was not measured.
+func fmtShare(s *studyview.Setting) string {
+	if !finite(s.UnstableShare) {
+		return "not measured"
+	}
+	return fmt.Sprintf("%.1f%%", 100*s.UnstableShare)
 }
 
 func fmtMedianIQR(s stability.MedianIQR) string {
@@ -120,12 +156,33 @@ func Methods(st *studyview.View, rec *Recommendation) []string {
 		fmt.Fprintf(&b, ", on a fixed sample of %d points", st.Sampled)
 	}
 	b.WriteString(". ")
+	vs := map[string]bool{}
+	var vlist []string
+	for i := range st.Settings {
+		if v := st.Settings[i].Varied; v != "" && !vs[v] {
+			vs[v] = true
+			vlist = append(vlist, variedWords(v))
+		}
+	}
+	if len(vlist) > 0 {
+		sort.Strings(vlist)
+		fmt.Fprintf(&b, "Between the runs of a setting, what varied was %s; pairs of runs were compared on the points both embedded. ", strings.Join(vlist, "; or "))
+	}
+	if nm := notMeasured(st); len(nm) > 0 {
+		fmt.Fprintf(&b, "For %d of %d settings nothing varied between runs (deterministic PCA start on all points, shared neighbours and P), so every run gave the same map and their stability was not measured (%s). ",
+			len(nm), len(st.Settings), strings.Join(nm, "; "))
+	}
 	dlo, dhi := scoreRange(st, func(s *studyview.Setting) stability.MedianIQR { return s.Disparity })
 	jlo, jhi := scoreRange(st, func(s *studyview.Setting) stability.MedianIQR { return s.Jaccard })
 	tlo, thi := scoreRange(st, func(s *studyview.Setting) stability.MedianIQR { return s.Trustworthiness })
 	klo, khi := scoreRange(st, func(s *studyview.Setting) stability.MedianIQR { return s.KL })
-	fmt.Fprintf(&b, "Across settings, the median seed-to-seed disparity ranged from %s to %s, the median kNN Jaccard from %s to %s, the median trustworthiness from %s to %s and the median final KL divergence from %s to %s.",
-		fmtScore(dlo), fmtScore(dhi), fmtScore(jlo), fmtScore(jhi), fmtScore(tlo), fmtScore(thi), fmtScore(klo), fmtScore(khi))
+	if finite(dlo) {
+		fmt.Fprintf(&b, "Across settings, the median seed-to-seed disparity ranged from %s to %s, the median kNN Jaccard from %s to %s, the median trustworthiness from %s to %s and the median final KL divergence from %s to %s.",
+			fmtScore(dlo), fmtScore(dhi), fmtScore(jlo), fmtScore(jhi), fmtScore(tlo), fmtScore(thi), fmtScore(klo), fmtScore(khi))
+	} else {
+		fmt.Fprintf(&b, "Seed-to-seed disparity and kNN Jaccard were not measured for any setting. Across settings, the median trustworthiness ranged from %s to %s and the median final KL divergence from %s to %s.",
+			fmtScore(tlo), fmtScore(thi), fmtScore(klo), fmtScore(khi))
+	}
 	paras := []string{b.String()}
 
 	if rec != nil {
@@ -133,8 +190,13 @@ func Methods(st *studyview.View, rec *Recommendation) []string {
 		var r strings.Builder
 		fmt.Fprintf(&r, "Following a stated rule (faithfulness first: median trustworthiness within %g of the best; then stability: median disparity within %g of the lowest, then median Jaccard within %g of the highest; then the lowest median KL), we chose %s. ",
 			rec.Rule.TrustTolerance, rec.Rule.DisparityTolerance, rec.Rule.JaccardTolerance, st.Label(s))
-		fmt.Fprintf(&r, "Over its %d finished seeds it had median trustworthiness %s, seed-to-seed disparity %s, kNN Jaccard %s and final KL divergence %s; %.1f%% of its points were flagged unstable.",
-			s.RunsDone, fmtMedianIQR(s.Trustworthiness), fmtMedianIQR(s.Disparity), fmtMedianIQR(s.Jaccard), fmtMedianIQR(s.KL), 100*s.UnstableShare)
+		if s.NotMeasured != "" && s.Varied == "" {
+			fmt.Fprintf(&r, "Over its %d finished seeds it had median trustworthiness %s and final KL divergence %s; its seed-to-seed stability was not measured, because %s.",
+				s.RunsDone, fmtMedianIQR(s.Trustworthiness), fmtMedianIQR(s.KL), s.NotMeasured)
+		} else {
+			fmt.Fprintf(&r, "Over its %d finished seeds it had median trustworthiness %s, seed-to-seed disparity %s, kNN Jaccard %s and final KL divergence %s; %s of its points were flagged unstable.",
+				s.RunsDone, fmtMedianIQR(s.Trustworthiness), fmtMedianIQR(s.Disparity), fmtMedianIQR(s.Jaccard), fmtMedianIQR(s.KL), fmtShare(s))
+		}
 		if rec.RunnerUp != nil {
 			ru := st.Setting(rec.RunnerUp.ID)
 			fmt.Fprintf(&r, " The runner-up, %s, was not chosen because %s.", st.Label(ru), rec.Why)

@@ -134,6 +134,9 @@ func (b *viewBuilder) grid() {
 	if b.withTheta {
 		add("theta", []string{ff(plan.Theta)})
 	}
+	if f := plan.Fractions(); len(f) > 1 || f[0] < 1 {
+		add("subsample", mapValues(f, ff))
+	}
 }
 
 func mapValues[T any](v []T, f func(T) string) []string {
@@ -202,6 +205,10 @@ func (b *viewBuilder) settings() {
 		if b.withTheta {
 			set.Params = append(set.Params, Field{"theta", ff(ps.Theta)})
 		}
+		if f := plan.Fractions(); len(f) > 1 || f[0] < 1 {
+			set.Params = append(set.Params, Field{"subsample", ff(ps.Fraction())})
+		}
+		set.Varied = sweep.Varied(ps, plan)
 		nan := stability.MedianIQR{Median: math.NaN(), IQR: math.NaN()}
 		set.Disparity, set.Jaccard, set.Trustworthiness, set.Continuity = nan, nan, nan, nan
 		set.KNNRecall, set.DistanceSpearman, set.LabelAccuracy, set.KL = nan, nan, nan, nan
@@ -213,6 +220,7 @@ func (b *viewBuilder) settings() {
 			set.DistanceSpearman, set.LabelAccuracy, set.KL = sc.DistanceSpearman, sc.LabelAccuracy, sc.KL
 			set.PairSpearman, set.LabelPurity = sc.PairSpearman, sc.LabelPurity
 			set.UnstableShare = sc.UnstableShare
+			set.Varied, set.NotMeasured = sc.Varied, sc.NotMeasured
 		}
 		b.index[ps.ID] = len(b.v.Settings)
 		b.v.Settings = append(b.v.Settings, set)

@@ -85,6 +85,12 @@ type Setting struct {
 	KL stability.MedianIQR
 	// UnstableShare is the share of points flagged unstable.
 	UnstableShare float64
+	// Varied says what differed between the setting's runs ("seed",
+	// "subsample", "seed+subsample", or "" for nothing; sweep.Varied).
+	// NotMeasured, when not empty, says why its between-run scores
+	// (disparity, Jaccard, spreads, unstable share) were not measured;
+	// they are NaN then.
+	Varied, NotMeasured string
 	// Consensus is the consensus layout (2N, row-major) of the setting's
 	// runs; Spread and Unstable hold the per-point spread and flag. Any may
 	// be nil when the setting has no finished runs.
