@@ -251,28 +251,28 @@ func sharedLayouts(runs []plantedRun, n int) ([][]float64, []int) {
 	return out, rows
 }
 
-// medoid returns the run with the smallest sum of Procrustes disparities
-// to the others, each pair compared on the rows both embedded.
+// medoid returns the setting's medoid run (stability.Medoid), each pair
+// of runs compared by Procrustes disparity on the rows both embedded.
 func medoid(t testing.TB, runs []plantedRun, n int) int {
-	best, bestSum := 0, math.Inf(1)
+	dis := make([][]float64, len(runs))
 	for a := range runs {
-		var sum float64
-		for b := range runs {
-			if a == b {
-				continue
-			}
+		dis[a] = make([]float64, len(runs))
+	}
+	for a := range runs {
+		for b := a + 1; b < len(runs); b++ {
 			ls, _ := sharedLayouts([]plantedRun{runs[a], runs[b]}, n)
 			d, err := align.Disparity(ls[0], ls[1])
 			if err != nil {
 				t.Fatal(err)
 			}
-			sum += d
-		}
-		if sum < bestSum {
-			best, bestSum = a, sum
+			dis[a][b], dis[b][a] = d, d
 		}
 	}
-	return best
+	m, err := stability.Medoid(dis)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return m
 }
 
 // TestPlantedPointStability validates the co-assignment score on planted

@@ -140,8 +140,10 @@ func Read(path string, opt Options) (*Dataset, error) {
 		return nil, &InputError{File: path, Msg: openMessage(err), Err: err}
 	}
 	defer f.Close()
-	if err := checkRegular(path); err != nil {
-		return nil, err // replaced since the first look
+	if st, err := f.Stat(); err != nil {
+		return nil, &InputError{File: path, Msg: "cannot stat: " + err.Error(), Err: err}
+	} else if err := regularFile(path, st); err != nil {
+		return nil, err // replaced between the look and the open
 	}
 	head := make([]byte, 64)
 	n, _ := f.ReadAt(head, 0)

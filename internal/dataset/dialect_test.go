@@ -418,13 +418,51 @@ func decimalParquet(t testing.TB) []byte {
 	}
 	rec := rb.NewRecordBatch()
 	defer rec.Release()
-	tbl := array.NewTableFromRecords(sc, []arrow.RecordBatch{rec})
+	return parquetBytes(t, rec)
+}
+
+// parquetBytes writes rec as a Parquet file in memory, two rows per row
+// group.
+func parquetBytes(t testing.TB, rec arrow.RecordBatch) []byte {
+	tbl := array.NewTableFromRecords(rec.Schema(), []arrow.RecordBatch{rec})
 	defer tbl.Release()
 	var buf bytes.Buffer
 	if err := pqarrow.WriteTable(tbl, &buf, 2, parquet.NewWriterProperties(), pqarrow.DefaultWriterProps()); err != nil {
 		t.Fatal(err)
 	}
 	return buf.Bytes()
+}
+
+// TestReadColumnarNotUTF8: Parquet strings are not checked by the format,
+// so ids, labels and column names that are not UTF-8 are refused by the
+// reader with their row and column, as in CSV files.
+func TestReadColumnarNotUTF8(t *testing.T) {
+	const convert = "is not valid UTF-8; plumb reads text as UTF-8 (or UTF-16 with a byte order mark): convert the file, e.g. iconv -f latin1 -t utf-8 (if it is Latin-1)"
+	cases := []struct {
+		name        string
+		ids, labels []string
+		featureName string
+		want        string
+	}{
+		{"id", []string{"p1", "caf\xe9"}, []string{"x", "y"}, "a", `row 2, column 1 (id): id "caf\xe9" ` + convert},
+		{"label", []string{"p1", "p2"}, []string{"s\xe9", "y"}, "a", `row 1, column 2 (group): label "s\xe9" ` + convert},
+		{"column name", []string{"p1", "p2"}, []string{"x", "y"}, "\xe9t\xe9", `column 3: column name "\xe9t\xe9" ` + convert},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			rec := record([]fixCol{
+				{"id", strs(c.ids...), arrow.BinaryTypes.String},
+				{"group", strs(c.labels...), arrow.BinaryTypes.String},
+				{c.featureName, f64s([]float64{1, 2}), arrow.PrimitiveTypes.Float64},
+			})
+			defer rec.Release()
+			data := parquetBytes(t, rec)
+			_, err := readColumnar(bytes.NewReader(data), int64(len(data)), "s.parquet", "parquet", Options{IDColumn: "id", LabelColumn: "group"})
+			if err == nil || err.Error() != "s.parquet: "+c.want {
+				t.Errorf("got %v\nwant s.parquet: %s", err, c.want)
+			}
+		})
+	}
 }
 
 // TestReadDecimal: DECIMAL columns are numbers, converted through their

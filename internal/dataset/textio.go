@@ -30,6 +30,11 @@ func checkRegular(path string) error {
 	if err != nil {
 		return &InputError{File: path, Msg: openMessage(err), Err: err}
 	}
+	return regularFile(path, st)
+}
+
+// regularFile is checkRegular's verdict on a file's information.
+func regularFile(path string, st os.FileInfo) error {
 	switch {
 	case st.IsDir():
 		return &InputError{File: path, Msg: "is a directory, not a file"}
@@ -66,6 +71,11 @@ func ReadRegular(path string, limit int64) ([]byte, error) {
 		return nil, &InputError{File: path, Msg: openMessage(err), Err: err}
 	}
 	defer f.Close()
+	if st, err := f.Stat(); err != nil {
+		return nil, &InputError{File: path, Msg: "cannot stat: " + err.Error(), Err: err}
+	} else if err := regularFile(path, st); err != nil {
+		return nil, err // replaced between the look and the open
+	}
 	b, err := io.ReadAll(io.LimitReader(f, limit+1))
 	if err != nil {
 		return nil, &InputError{File: path, Msg: "read error: " + err.Error(), Err: err}

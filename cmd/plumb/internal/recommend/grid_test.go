@@ -49,11 +49,12 @@ func readDigits(t *testing.T) (x []float64, labels []string, n int) {
 // data — KL falls as perplexity rises, so a rule that compared KL across
 // perplexities would take 300 — and that the pick is the setting the rule's
 // steps select, not the largest perplexity. The table is logged; the
-// outcome and why are recorded in the rule note. About a minute of CPU:
-// set PLUMB_LONG=1 to run it.
+// outcome and why are recorded in the rule note. 150–190 s of wall time
+// on a shared 2-core machine (most of it the perplexity-300 runs): set
+// PLUMB_LONG=1 to run it.
 func TestPerplexityGridDigits(t *testing.T) {
 	if os.Getenv("PLUMB_LONG") == "" {
-		t.Skip("set PLUMB_LONG=1 to run the digits perplexity grid (about a minute)")
+		t.Skip("set PLUMB_LONG=1 to run the digits perplexity grid (a few minutes)")
 	}
 	x, labels, n := readDigits(t)
 	perps := []float64{5, 10, 30, 50, 100, 300}

@@ -22,7 +22,7 @@ func TestWriteDeterministic(t *testing.T) {
 	if _, err := Write(syntheticStudy(), b, Options{}); err != nil {
 		t.Fatal(err)
 	}
-	for _, f := range []string{"index.html", "methods.md", "figures/layouts.png", "figures/heatmap-kl.svg"} {
+	for _, f := range []string{"index.html", "methods.md", "figures/layouts.png", "figures/layouts.pdf", "figures/heatmap-kl.svg", "figures/kl-traces.pdf", "figures/stability.png"} {
 		x, _ := os.ReadFile(filepath.Join(a, f))
 		y, _ := os.ReadFile(filepath.Join(b, f))
 		if len(x) == 0 || !bytes.Equal(x, y) {
@@ -41,7 +41,7 @@ func TestWriteEdgeCases(t *testing.T) {
 		{
 			name: "no labels: colour by spread",
 			edit: func(s *studyview.View) { s.Labels = nil; s.Input.LabelColumn = "" },
-			want: []string{"spread across seeds (darker = less stable)"},
+			want: []string{"Colour shows each point&#39;s spread across seeds: light grey = stable"},
 		},
 		{
 			name: "a setting without finished runs",

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strconv"
 	"strings"
 
 	"plumb/align"
@@ -18,6 +19,7 @@ type Figure struct {
 	// Caption says what the figure shows, in a sentence or two.
 	Caption string
 	SVG     []byte
+	PDF     []byte
 	PNG     []byte
 }
 
@@ -70,14 +72,15 @@ func drawIndex(n int) []int {
 
 // marker is how the points of one label are drawn.
 type marker struct {
-	col    rgb
-	hollow bool
+	col rgb
 }
 
 // labelColours assigns markers to labels by decreasing frequency (ties
-// alphabetical), so the largest groups get the most distinct ones: first
-// the seven palette colours filled, then the same colours as rings; labels
-// past those fourteen share a grey filled marker ("other").
+// alphabetical), so the largest groups get the most distinct colours. Up to
+// len(categorical) labels each get a colour of their own; beyond that the
+// len(categorical)−1 largest keep theirs and the rest share otherColor
+// ("other" in the legend). Every marker is a filled dot: a ring of a
+// filled class's hue reads as that class in dense clusters.
 func labelColours(labels []string) (order []string, mk map[string]marker) {
 	count := map[string]int{}
 	for _, l := range labels {
@@ -93,30 +96,22 @@ func labelColours(labels []string) (order []string, mk map[string]marker) {
 		return order[i] < order[j]
 	})
 	mk = map[string]marker{}
-	n := len(categorical)
+	own := len(order)
+	if own > len(categorical) {
+		own = len(categorical) - 1
+	}
 	for i, l := range order {
-		switch {
-		case i < n:
-			mk[l] = marker{categorical[i], false}
-		case i < 2*n:
-			mk[l] = marker{categorical[i-n], true}
-		default:
-			mk[l] = marker{otherColor, false}
+		if i < own {
+			mk[l] = marker{col: categorical[i]}
+		} else {
+			mk[l] = marker{col: otherColor}
 		}
 	}
 	return order, mk
 }
 
-// maxMarkers is the number of labels with a marker of their own.
-var maxMarkers = 2 * len(categorical)
-
-func (c *canvas) mark(x, y, r float64, m marker, alpha float64) {
-	if m.hollow {
-		c.ring(x, y, r, m.col)
-		return
-	}
-	c.circle(x, y, r, m.col, alpha)
-}
+// maxMarkers is the number of labels that can have a colour of their own.
+var maxMarkers = len(categorical)
 
 type bounds struct{ x0, x1, y0, y1 float64 }
 
@@ -150,7 +145,7 @@ func newMapper(b bounds, px, py, size float64) mapper {
 	if span <= 0 {
 		span = 1
 	}
-	return mapper{ox: px + size/2, oy: py + size/2, s: (size - 20) / span, cx: (b.x0 + b.x1) / 2, cy: (b.y0 + b.y1) / 2, half: size/2 - 3}
+	return mapper{ox: px + size/2, oy: py + size/2, s: 0.94 * size / span, cx: (b.x0 + b.x1) / 2, cy: (b.y0 + b.y1) / 2, half: size/2 - 1.5}
 }
 
 // at maps a layout point into the panel, clamping points beyond the
@@ -228,146 +223,16 @@ func gridDims(n int) (cols, rows int) {
 	return cols, (n + cols - 1) / cols
 }
 
-// layoutsFigure draws the aligned small multiples.
-func layoutsFigure(st *studyview.View, ref int, chosen string) (*Figure, error) {
-	aligned, err := alignedConsensus(st, ref)
-	if err != nil {
-		return nil, err
-	}
-	n := len(st.Settings)
-	cols, rows := gridDims(n)
-	panel := math.Max(200, math.Min(320, 1000/float64(cols)-14))
-	head := 34.0
-	legendH := 0.0
-	var order []string
-	var cols2 map[string]marker
-	if st.HasLabels() {
-		order, cols2 = labelColours(st.Labels)
-		legendH = 22 * math.Ceil(float64(min(len(order), maxMarkers+1))/4)
-	} else {
-		legendH = 30
-	}
-	w := 20 + float64(cols)*(panel+14)
-	h := 30 + float64(rows)*(panel+head+8) + legendH + 10
-	c := newCanvas(w, h, "Consensus layout of each setting, aligned onto one frame")
-	c.bold(10, 20, "Consensus layout per setting, all rotated onto the reference frame of "+st.Label(&st.Settings[ref]), 13, "start")
-	b := layoutBounds(aligned...)
-	var spreadMax float64
-	for _, s := range st.Settings {
-		spreadMax = math.Max(spreadMax, quantile(s.Spread, 0.95))
-	}
-	idx := drawIndex(len(st.IDs))
-	for i := range st.Settings {
-		s := &st.Settings[i]
-		px := 10 + float64(i%cols)*(panel+14)
-		py := 30 + float64(i/cols)*(panel+head+8)
-		title := fmt.Sprintf("#%d %s", i+1, shortLabel(st, s))
-		if s.ID == chosen {
-			title += " (recommended)"
-		}
-		lines := wrap(title, int(panel/6.2))
-		for k, l := range lines {
-			c.text(px, py+12+float64(k)*13, l, 11, "start", black)
-		}
-		top := py + head
-		frame := light
-		if s.ID == chosen {
-			frame = black
-		}
-		c.rect(px, top, panel, panel, rgb{0xfa, 0xfa, 0xfa}, &frame, "")
-		y := aligned[i]
-		if y == nil {
-			c.text(px+panel/2, top+panel/2, "no finished runs", 11, "middle", grey)
-			continue
-		}
-		m := newMapper(b, px, top, panel)
-		for _, p := range idx {
-			x0, y0 := m.at(y[2*p], y[2*p+1])
-			mk := marker{col: categorical[0]}
-			if cols2 != nil {
-				mk = cols2[st.Labels[p]]
-			} else if len(s.Spread) > p && spreadMax > 0 {
-				mk.col = ramp(s.Spread[p] / spreadMax)
-			}
-			c.mark(x0, y0, 2.3, mk, 0.85)
-		}
-	}
-	ly := 30 + float64(rows)*(panel+head+8) + 6
-	if cols2 != nil {
-		shown := order
-		other := false
-		if len(order) > maxMarkers {
-			shown, other = order[:maxMarkers], true
-		}
-		for k, l := range shown {
-			x := 14 + float64(k%4)*160
-			yy := ly + float64(k/4)*22
-			c.mark(x, yy+6, 5, cols2[l], 1)
-			c.text(x+10, yy+10, l, 11, "start", black)
-		}
-		if other {
-			k := len(shown)
-			x := 14 + float64(k%4)*160
-			yy := ly + float64(k/4)*22
-			c.circle(x, yy+6, 5, otherColor, 1)
-			c.text(x+10, yy+10, fmt.Sprintf("other (%d more labels)", len(order)-len(shown)), 11, "start", black)
-		}
-	} else {
-		colourBar(c, 14, ly, 200, "per-point spread (0 to 95th percentile)")
-	}
-	caption := "One panel per setting: the consensus of its seeds, rotated and reflected by ordinary Procrustes onto the reference setting and scaled to its size so that panels are comparable; the few points beyond the 0.5th–99.5th percentile box are drawn on the frame. Where seeds disagree (high disparity) the consensus is an average of different maps and can place points between their positions in any single run. "
-	if cols2 != nil {
-		caption += "Colour shows the label (" + st.Input.LabelColumn + "). "
-	} else {
-		caption += "Colour shows each point's spread across seeds (darker = less stable). "
-	}
-	if len(idx) < len(st.IDs) {
-		caption += fmt.Sprintf("%d of %d points drawn (evenly spaced subset). ", len(idx), len(st.IDs))
-	}
-	return finish(c, "layouts", caption)
-}
-
-func colourBar(c *canvas, x, y, w float64, label string) {
-	steps := 40
-	for k := 0; k < steps; k++ {
-		c.rect(x+float64(k)*w/float64(steps), y, w/float64(steps)+0.5, 10, ramp(float64(k)/float64(steps-1)), nil, "")
-	}
-	c.text(x, y+24, "low", 10, "start", black)
-	c.text(x+w, y+24, "high", 10, "end", black)
-	c.text(x+w+10, y+9, label, 11, "start", black)
-}
-
-func wrap(s string, width int) []string {
-	if len([]rune(s)) <= width {
-		return []string{s}
-	}
-	words := strings.Fields(s)
-	var lines []string
-	cur := ""
-	for _, w := range words {
-		if cur != "" && len([]rune(cur))+1+len([]rune(w)) > width {
-			lines = append(lines, cur)
-			cur = w
-			continue
-		}
-		if cur != "" {
-			cur += " "
-		}
-		cur += w
-	}
-	lines = append(lines, cur)
-	if len(lines) > 2 {
-		lines = []string{lines[0], strings.Join(lines[1:], " ")}
-	}
-	return lines
-}
-
 func finish(c *canvas, name, caption string) (*Figure, error) {
 	p, err := c.png()
 	if err != nil {
 		return nil, fmt.Errorf("report: figure %s: %w", name, err)
 	}
-	return &Figure{Name: name, Caption: caption, SVG: c.svg(), PNG: p}, nil
+	d, err := c.pdf()
+	if err != nil {
+		return nil, fmt.Errorf("report: figure %s: %w", name, err)
+	}
+	return &Figure{Name: name, Caption: caption, SVG: c.svg(), PDF: d, PNG: p}, nil
 }
 
 // quantile returns stability.Quantile of the finite values of v, NaN if
@@ -436,148 +301,6 @@ func fmtScore(x float64) string {
 	}
 }
 
-// heatmapFigure draws one score over two parameters, one facet per
-// combination of the other varied parameters.
-func heatmapFigure(st *studyview.View, sd scoreDef) (*Figure, error) {
-	xp, yp, facets := heatmapAxes(st)
-	xs, ys := []string{""}, []string{""}
-	if xp != nil {
-		xs = xp.Values
-	}
-	if yp != nil {
-		ys = yp.Values
-	}
-	var keys []string
-	seen := map[string]bool{}
-	for i := range st.Settings {
-		k := facetKey(&st.Settings[i], facets)
-		if !seen[k] {
-			seen[k] = true
-			keys = append(keys, k)
-		}
-	}
-	lo, hi := math.Inf(1), math.Inf(-1)
-	for i := range st.Settings {
-		v := sd.get(&st.Settings[i]).Median
-		if finite(v) {
-			lo, hi = math.Min(lo, v), math.Max(hi, v)
-		}
-	}
-	cw, ch := 74.0, 34.0
-	left := 110.0
-	fw := left + float64(len(xs))*cw + 20
-	fh := 40 + float64(len(ys))*ch + 40
-	fcols := max(1, min(len(keys), int(math.Floor(900/fw))))
-	frows := (len(keys) + fcols - 1) / fcols
-	better := "higher is better"
-	if sd.lowerBetter {
-		better = "lower is better"
-	}
-	W := math.Max(float64(fcols)*fw+20, 7.4*float64(len([]rune(sd.title)))+260)
-	H := 36 + float64(frows)*fh
-	c := newCanvas(W, H, "Heatmap of "+sd.title)
-	c.bold(10, 20, fmt.Sprintf("%s (%s; darker = larger value)", sd.title, better), 13, "start")
-	for fi, key := range keys {
-		ox := 10 + float64(fi%fcols)*fw
-		oy := 36 + float64(fi/fcols)*fh
-		if key != "" {
-			c.text(ox+left, oy+12, key, 11, "start", black)
-		}
-		top := oy + 20
-		for yi, yv := range ys {
-			if yp != nil {
-				c.text(ox+left-6, top+float64(yi)*ch+ch/2+4, shortName(yp.Name)+" "+yv, 11, "end", black)
-			}
-			for xi, xv := range xs {
-				var s *studyview.Setting
-				for i := range st.Settings {
-					t := &st.Settings[i]
-					if facetKey(t, facets) != key {
-						continue
-					}
-					if (xp == nil || t.Param(xp.Name) == xv) && (yp == nil || t.Param(yp.Name) == yv) {
-						s = t
-						break
-					}
-				}
-				x0, y0 := ox+left+float64(xi)*cw, top+float64(yi)*ch
-				if s == nil {
-					c.rect(x0, y0, cw-2, ch-2, white, &light, "not in the plan")
-					continue
-				}
-				v := sd.get(s)
-				t := 0.5
-				if hi > lo {
-					t = (v.Median - lo) / (hi - lo)
-				}
-				if !finite(v.Median) {
-					t = math.NaN()
-				}
-				fill := ramp(0.05 + 0.9*t)
-				if math.IsNaN(t) {
-					fill = light
-				}
-				c.rect(x0, y0, cw-2, ch-2, fill, nil, fmt.Sprintf("%s: %s = %s (IQR %s)", st.Label(s), sd.key, fmtScore(v.Median), fmtScore(v.IQR)))
-				c.text(x0+cw/2-1, y0+ch/2+4, fmtScore(v.Median), 11, "middle", textOn(fill))
-			}
-		}
-		for xi, xv := range xs {
-			if xp != nil {
-				c.text(ox+left+float64(xi)*cw+cw/2, top+float64(len(ys))*ch+14, xv, 11, "middle", black)
-			}
-		}
-		if xp != nil {
-			c.text(ox+left+float64(len(xs))*cw/2, top+float64(len(ys))*ch+30, xp.Name, 11, "middle", black)
-		}
-	}
-	caption := fmt.Sprintf("The %s of each setting (%s). Cells are coloured from the smallest value in the study (light) to the largest (dark); hover a cell in the page for the IQR.", sd.title, better)
-	return finish(c, "heatmap-"+sd.key, caption)
-}
-
-// stabilityFigure draws the chosen setting's consensus coloured by spread,
-// unstable points ringed.
-func stabilityFigure(st *studyview.View, si int) (*Figure, error) {
-	s := &st.Settings[si]
-	size := 460.0
-	c := newCanvas(size+260, size+70, "Per-point stability of the recommended setting")
-	c.bold(10, 20, fmt.Sprintf("Per-point spread across seeds, %s: %.1f%% of points unstable", st.Label(s), 100*s.UnstableShare), 13, "start")
-	c.rect(10, 40, size, size, rgb{0xfa, 0xfa, 0xfa}, &light, "")
-	if len(s.Consensus) == 0 {
-		c.text(10+size/2, 40+size/2, "no finished runs", 12, "middle", grey)
-		return finish(c, "stability", "The recommended setting has no consensus layout.")
-	}
-	m := newMapper(layoutBounds(s.Consensus), 10, 40, size)
-	smax := quantile(s.Spread, 0.95)
-	idx := drawIndex(len(s.Consensus) / 2)
-	// Draw stable points first so unstable ones stay on top.
-	for pass := 0; pass < 2; pass++ {
-		for _, p := range idx {
-			unst := len(s.Unstable) > p && s.Unstable[p]
-			if (pass == 1) != unst {
-				continue
-			}
-			x0, y0 := m.at(s.Consensus[2*p], s.Consensus[2*p+1])
-			col := categorical[0]
-			if len(s.Spread) > p && smax > 0 {
-				col = ramp(s.Spread[p] / smax)
-			}
-			c.circle(x0, y0, 2.6, col, 0.9)
-			if unst {
-				c.ring(x0, y0, 4.5, hexColor("#c0392b"))
-			}
-		}
-	}
-	lx := size + 24
-	colourBar(c, lx, 50, 120, "")
-	c.text(lx, 90, "spread across seeds", 11, "start", black)
-	c.text(lx, 104, fmt.Sprintf("(0 to %s, the 95th pct.)", fmtScore(smax)), 10, "start", grey)
-	c.ring(lx+5, 126, 4.5, hexColor("#c0392b"))
-	c.text(lx+16, 130, "flagged unstable", 11, "start", black)
-	caption := fmt.Sprintf("The consensus layout of %s; each point's colour is its spread across the %d finished seeds (distance from the consensus after alignment), red rings mark points flagged unstable (%.1f%% of all).",
-		st.Label(s), s.RunsDone, 100*s.UnstableShare)
-	return finish(c, "stability", caption)
-}
-
 // jitter returns a fixed offset in [-1, 1] for the k-th point of a strip.
 func jitter(k int) float64 {
 	// Van der Corput sequence in base 2, mapped to [-1, 1]: evenly spread,
@@ -592,150 +315,6 @@ func jitter(k int) float64 {
 	return 2*v - 1
 }
 
-// spreadFigure draws seed-to-seed strip plots of four scores.
-func spreadFigure(st *studyview.View) (*Figure, error) {
-	type row struct {
-		title string
-		vals  func(id string) []float64
-	}
-	runVals := func(get func(*studyview.Run) float64) func(string) []float64 {
-		return func(id string) []float64 {
-			var v []float64
-			for i := range st.Runs {
-				r := &st.Runs[i]
-				if r.SettingID == id && r.Status == "done" && finite(get(r)) {
-					v = append(v, get(r))
-				}
-			}
-			return v
-		}
-	}
-	pairVals := func(get func(*studyview.Pair) float64) func(string) []float64 {
-		return func(id string) []float64 {
-			var v []float64
-			for i := range st.Pairs {
-				if st.Pairs[i].SettingID == id && finite(get(&st.Pairs[i])) {
-					v = append(v, get(&st.Pairs[i]))
-				}
-			}
-			return v
-		}
-	}
-	rows := []row{
-		{"trustworthiness per run", runVals(func(r *studyview.Run) float64 { return r.Trustworthiness })},
-		{"final KL divergence per run", runVals(func(r *studyview.Run) float64 { return r.KL })},
-		{"Procrustes disparity per pair of runs", pairVals(func(p *studyview.Pair) float64 { return p.Disparity })},
-		{"kNN Jaccard per pair of runs", pairVals(func(p *studyview.Pair) float64 { return p.Jaccard })},
-	}
-	n := len(st.Settings)
-	colW := math.Max(36, math.Min(80, 760/float64(max(n, 1))))
-	left := 70.0
-	rh := 130.0
-	W := left + float64(n)*colW + 30
-	W = math.Max(W, 480)
-	H := 30 + float64(len(rows))*rh + 30
-	c := newCanvas(W, H, "Seed-to-seed spread of each score")
-	c.bold(10, 20, "Seed-to-seed spread per setting (one dot per run or pair; bar = median)", 13, "start")
-	for ri, r := range rows {
-		top := 34 + float64(ri)*rh
-		plotH := rh - 40
-		lo, hi := math.Inf(1), math.Inf(-1)
-		all := make([][]float64, n)
-		for i := range st.Settings {
-			all[i] = r.vals(st.Settings[i].ID)
-			for _, v := range all[i] {
-				lo, hi = math.Min(lo, v), math.Max(hi, v)
-			}
-		}
-		c.text(left, top+10, r.title, 11, "start", black)
-		y0 := top + 18
-		c.rect(left, y0, float64(n)*colW, plotH, rgb{0xfa, 0xfa, 0xfa}, &light, "")
-		if !finite(lo) {
-			c.text(left+10, y0+plotH/2, "no values", 11, "start", grey)
-			continue
-		}
-		if hi == lo {
-			lo, hi = lo-0.5*math.Max(math.Abs(lo)*0.01, 1e-6), hi+0.5*math.Max(math.Abs(hi)*0.01, 1e-6)
-		}
-		pad := (hi - lo) * 0.08
-		lo, hi = lo-pad, hi+pad
-		yAt := func(v float64) float64 { return y0 + plotH - (v-lo)/(hi-lo)*plotH }
-		c.text(left-4, y0+10, fmtScore(hi-pad), 10, "end", grey)
-		c.text(left-4, y0+plotH, fmtScore(lo+pad), 10, "end", grey)
-		for i := range st.Settings {
-			cx := left + (float64(i)+0.5)*colW
-			for k, v := range all[i] {
-				c.circle(cx+jitter(k)*colW*0.25, yAt(v), 2.8, categorical[0], 0.75)
-			}
-			if med := quantile(all[i], 0.5); finite(med) {
-				c.line(categorical[1], 2, 1, cx-colW*0.35, yAt(med), cx+colW*0.35, yAt(med))
-			}
-			if ri == len(rows)-1 {
-				c.text(cx, y0+plotH+14, fmt.Sprintf("#%d", i+1), 10, "middle", black)
-			}
-		}
-	}
-	c.text(left, H-6, "setting number (see the settings table)", 11, "start", black)
-	return finish(c, "seed-spread", "Each dot is one run (trustworthiness, KL) or one pair of runs of the same setting (disparity, Jaccard); the orange bar is the median. Wide strips mean the seed matters.")
-}
-
-// traceFigure draws the KL traces, one panel per setting, shared axes.
-func traceFigure(st *studyview.View) (*Figure, error) {
-	n := len(st.Settings)
-	cols, rows := gridDims(n)
-	pw, ph := 210.0, 120.0
-	W := 60 + float64(cols)*(pw+20)
-	H := 40 + float64(rows)*(ph+44) + 20
-	c := newCanvas(W, H, "KL divergence by iteration")
-	c.bold(10, 20, "KL divergence by iteration, one line per seed (shared axes)", 13, "start")
-	maxIt, lo, hi := 0, math.Inf(1), math.Inf(-1)
-	for _, r := range st.Runs {
-		for _, tp := range r.Trace {
-			if finite(tp.KL) {
-				maxIt = max(maxIt, tp.Iter)
-				lo, hi = math.Min(lo, tp.KL), math.Max(hi, tp.KL)
-			}
-		}
-	}
-	if maxIt == 0 || !finite(lo) {
-		c.text(20, 60, "no KL traces in this study", 12, "start", grey)
-		return finish(c, "kl-traces", "The study holds no KL traces.")
-	}
-	if hi == lo {
-		hi = lo + 1
-	}
-	for i := range st.Settings {
-		s := &st.Settings[i]
-		px := 50 + float64(i%cols)*(pw+20)
-		py := 34 + float64(i/cols)*(ph+44)
-		c.text(px, py+10, fmt.Sprintf("#%d %s", i+1, truncate(shortLabel(st, s), 32)), 11, "start", black)
-		top := py + 16
-		c.rect(px, top, pw, ph, rgb{0xfa, 0xfa, 0xfa}, &light, "")
-		k := 0
-		for _, r := range st.Runs {
-			if r.SettingID != s.ID || len(r.Trace) == 0 {
-				continue
-			}
-			var pts []float64
-			for _, tp := range r.Trace {
-				if !finite(tp.KL) {
-					continue
-				}
-				pts = append(pts, px+float64(tp.Iter)/float64(maxIt)*pw, top+ph-(tp.KL-lo)/(hi-lo)*ph)
-			}
-			c.line(categorical[k%len(categorical)], 1.4, 0.9, pts...)
-			k++
-		}
-		c.text(px, top+ph+12, "0", 9, "start", grey)
-		c.text(px+pw, top+ph+12, fmt.Sprint(maxIt), 9, "end", grey)
-		if i%cols == 0 {
-			c.text(px-4, top+9, fmtScore(hi), 9, "end", grey)
-			c.text(px-4, top+ph, fmtScore(lo), 9, "end", grey)
-		}
-	}
-	return finish(c, "kl-traces", "KL divergence recorded during optimisation, one line per seed. The early-exaggeration phase shows as the high plateau at the start; lines that have not flattened by the end suggest more iterations.")
-}
-
 func truncate(s string, n int) string {
 	r := []rune(s)
 	if len(r) <= n {
@@ -743,3 +322,9 @@ func truncate(s string, n int) string {
 	}
 	return string(r[:n-1]) + "…"
 }
+
+func sortSlice[T any](v []T, less func(a, b T) bool) {
+	sort.SliceStable(v, func(i, j int) bool { return less(v[i], v[j]) })
+}
+
+func parseInt(s string) (int, error) { return strconv.Atoi(s) }

@@ -56,7 +56,7 @@ func TestHeatmapFacets(t *testing.T) {
 		}
 	}
 	st.Settings = more
-	f, err := heatmapFigure(st, headline[3])
+	f, err := heatmapFigure(st, headline[3], "")
 	if err != nil {
 		t.Fatal(err)
 	}

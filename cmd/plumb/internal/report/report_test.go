@@ -36,11 +36,26 @@ func TestWriteReport(t *testing.T) {
 	}
 	wantFigs := []string{"layouts", "heatmap-disparity", "heatmap-jaccard", "heatmap-trustworthiness", "heatmap-kl", "stability", "seed-spread", "kl-traces"}
 	for _, name := range wantFigs {
-		for _, ext := range []string{".svg", ".png"} {
+		for _, ext := range []string{".svg", ".png", ".pdf"} {
 			path := filepath.Join(dir, "figures", name+ext)
 			data, err := os.ReadFile(path)
 			if err != nil {
 				t.Errorf("figure %s%s: %v", name, ext, err)
+				continue
+			}
+			if ext == ".pdf" {
+				// A one-page PDF (ISO 32000: the file starts with the
+				// header and ends with %%EOF) with its fonts embedded and
+				// the fixed date, not the time of writing.
+				if !bytes.HasPrefix(data, []byte("%PDF-1.")) || !bytes.Contains(data[len(data)-8:], []byte("%%EOF")) {
+					t.Errorf("%s: not a PDF", path)
+				}
+				if !bytes.Contains(data, []byte("/FontFile2")) {
+					t.Errorf("%s: no embedded TrueType font", path)
+				}
+				if !bytes.Contains(data, []byte("/CreationDate (D:20000101000000)")) {
+					t.Errorf("%s: creation date is not the fixed one", path)
+				}
 				continue
 			}
 			if ext == ".png" {
@@ -56,8 +71,8 @@ func TestWriteReport(t *testing.T) {
 		}
 	}
 	entries, _ := os.ReadDir(filepath.Join(dir, "figures"))
-	if len(entries) != 2*len(wantFigs) {
-		t.Errorf("figures dir holds %d files, want %d (no temporaries)", len(entries), 2*len(wantFigs))
+	if len(entries) != 3*len(wantFigs) {
+		t.Errorf("figures dir holds %d files, want %d (no temporaries)", len(entries), 3*len(wantFigs))
 	}
 
 	page, err := os.ReadFile(filepath.Join(dir, "index.html"))
@@ -112,8 +127,10 @@ func TestWriteReport(t *testing.T) {
 	if svgs != len(wantFigs) {
 		t.Errorf("inline SVG figures: got %d want %d", svgs, len(wantFigs))
 	}
-	if scripts != 1 {
-		t.Errorf("scripts: got %d want 1 inline", scripts)
+	// Three inline scripts: the maps' data (JSON), the table's script and
+	// the maps' script; none with a src.
+	if scripts != 3 {
+		t.Errorf("scripts: got %d want 3 inline", scripts)
 	}
 	if len(ext) > 0 {
 		t.Errorf("page refers to outside resources: %v", ext)
@@ -212,18 +229,19 @@ func TestLabelColoursByFrequency(t *testing.T) {
 	if strings.Join(order, ",") != "c,b,a" {
 		t.Errorf("order: got %v want c,b,a (by count, ties by name)", order)
 	}
-	if col["c"] != (marker{categorical[0], false}) || col["a"] != (marker{categorical[2], false}) {
+	if col["c"] != (marker{col: categorical[0]}) || col["a"] != (marker{col: categorical[2]}) {
 		t.Errorf("markers: got %v", col)
 	}
-	// Past the seven colours come the same colours as rings, then grey.
+	// Past the palette's 20 colours: the 19 largest labels keep theirs,
+	// the rest share grey (TestLabelColoursBeyondPalette covers more).
 	var many []string
-	for i := 0; i < 16; i++ {
-		for k := 0; k <= 16-i; k++ {
+	for i := 0; i < 25; i++ {
+		for k := 0; k <= 25-i; k++ {
 			many = append(many, fmt.Sprintf("l%02d", i))
 		}
 	}
 	order, col = labelColours(many)
-	if col[order[7]] != (marker{categorical[0], true}) || col[order[13]] != (marker{categorical[6], true}) || col[order[14]] != (marker{otherColor, false}) {
-		t.Errorf("markers past the palette: got %v %v %v", col[order[7]], col[order[13]], col[order[14]])
+	if col[order[18]] != (marker{col: categorical[18]}) || col[order[19]] != (marker{col: otherColor}) || col[order[24]] != (marker{col: otherColor}) {
+		t.Errorf("markers past the palette: got %v %v %v", col[order[18]], col[order[19]], col[order[24]])
 	}
 }

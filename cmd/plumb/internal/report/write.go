@@ -89,7 +89,7 @@ func Build(st *studyview.View, opt Options) (rec *Recommendation, recErr error, 
 		add(layoutsFigure(st, ref, chosen))
 	}
 	for _, sd := range headline {
-		add(heatmapFigure(st, sd))
+		add(heatmapFigure(st, sd, chosen))
 	}
 	if rec != nil && ref >= 0 && st.Settings[ref].ID == chosen {
 		add(stabilityFigure(st, ref))
@@ -102,8 +102,32 @@ func Build(st *studyview.View, opt Options) (rec *Recommendation, recErr error, 
 	return rec, recErr, figs, Methods(st, rec), nil
 }
 
-// Write builds the report and writes it into dir: figures/NAME.svg and
-// figures/NAME.png for each figure, methods.md and index.html (last, so a
+// mapsData lays out the interactive maps' data (nil when no setting has a
+// consensus layout), in the frame of the recommended setting or else the
+// first one with a consensus.
+func mapsData(st *studyview.View, rec *Recommendation) (*pageData, error) {
+	ref, chosen := -1, -1
+	for i := range st.Settings {
+		if rec != nil && st.Settings[i].ID == rec.Chosen.ID {
+			chosen = i
+			if len(st.Settings[i].Consensus) > 0 {
+				ref = i
+			}
+		}
+	}
+	for i := range st.Settings {
+		if ref < 0 && len(st.Settings[i].Consensus) > 0 {
+			ref = i
+		}
+	}
+	if ref < 0 || len(st.IDs) == 0 {
+		return nil, nil
+	}
+	return buildPageData(st, ref, chosen)
+}
+
+// Write builds the report and writes it into dir: figures/NAME.pdf,
+// figures/NAME.png and figures/NAME.svg for each figure, methods.md and index.html (last, so a
 // present index.html means a complete report). Every file is written
 // atomically (temporary file in the same directory, then rename).
 func Write(st *studyview.View, dir string, opt Options) (*Output, error) {
@@ -127,17 +151,27 @@ func Write(st *studyview.View, dir string, opt Options) (*Output, error) {
 		return nil
 	}
 	for _, f := range figs {
-		if err := put(filepath.Join(figDir, f.Name+".svg"), f.SVG); err != nil {
-			return nil, err
-		}
-		if err := put(filepath.Join(figDir, f.Name+".png"), f.PNG); err != nil {
-			return nil, err
+		for _, file := range []struct {
+			ext  string
+			data []byte
+		}{{".pdf", f.PDF}, {".png", f.PNG}, {".svg", f.SVG}} {
+			if err := put(filepath.Join(figDir, f.Name+file.ext), file.data); err != nil {
+				return nil, err
+			}
 		}
 	}
 	if err := put(filepath.Join(dir, "methods.md"), []byte(MethodsMarkdown(st, rec))); err != nil {
 		return nil, err
 	}
-	if err := put(out.Index, page(st, rec, recErr, figs, methods)); err != nil {
+	data, err := mapsData(st, rec)
+	if err != nil {
+		return nil, err
+	}
+	html, err := page(st, rec, recErr, figs, methods, data)
+	if err != nil {
+		return nil, err
+	}
+	if err := put(out.Index, html); err != nil {
 		return nil, err
 	}
 	return out, nil

@@ -31,9 +31,10 @@ func lrText(v float64) string {
 
 // FromSweep adapts a study opened with sweep.Open to the read model:
 // plan, input, the score tables, the consensus layouts and, for finished
-// runs, the KL traces (a missing trace file leaves that run without one).
-// The study must have been scored. Cost: one layout file and every trace
-// file are read; the rest is in memory already.
+// runs, the KL traces (a missing trace file leaves that run without one)
+// and the layouts aligned onto their consensus (loadRunLayouts).
+// The study must have been scored. Cost: every finished run's layout file
+// and trace file are read, and each layout aligned in O(n).
 func FromSweep(s *sweep.Study) (*View, error) {
 	if s.SettingScores == nil {
 		return nil, &NotScoredError{Dir: s.Dir}
@@ -50,6 +51,9 @@ func FromSweep(s *sweep.Study) (*View, error) {
 	b.consensus()
 	b.runs()
 	b.pairs()
+	if err := loadRunLayouts(b.s, b.v); err != nil {
+		return nil, err
+	}
 	return b.v, nil
 }
 

@@ -97,6 +97,29 @@ type Setting struct {
 	Consensus []float64
 	Spread    []float64
 	Unstable  []bool
+	// Stability is each point's stability in [0, 1], higher is more
+	// stable (for example the share of run pairs that keep the point with
+	// the same neighbours); nil when the study has no such score, and the
+	// page then shows Spread on its own fixed scale.
+	Stability []float64
+	// Clusters holds each point's map cluster id in the layout shown for
+	// the setting (−1: no cluster); nil when the study has no map clusters.
+	Clusters []int32
+	// RunLayouts are the layouts of the setting's finished runs, each
+	// rotated onto the setting's consensus (NaN for points a run did not
+	// place); nil when not loaded.
+	RunLayouts []RunLayout
+}
+
+// RunLayout is one run's layout, aligned onto its setting's consensus.
+type RunLayout struct {
+	RunID string
+	Seed  uint64
+	// XY is the layout (2N, row-major, in point order).
+	XY []float64
+	// Clusters holds each point's map cluster id in this run (−1: none);
+	// nil without map clusters.
+	Clusters []int32
 }
 
 // Run is one finished or failed run.
