@@ -128,7 +128,10 @@ func page(st *studyview.View, rec *Recommendation, recErr error, figs []*Figure,
 	} else {
 		s := st.Setting(rec.Chosen.ID)
 		r := &recView{Label: st.Label(s), ID: s.ID, Runs: s.RunsDone, Trust: fmtMedianIQR(s.Trustworthiness), Disparity: fmtMedianIQR(s.Disparity),
-			Jaccard: fmtMedianIQR(s.Jaccard), KL: fmtMedianIQR(s.KL), Unstable: fmt.Sprintf("%.1f%%", 100*s.UnstableShare)}
+			Jaccard: fmtMedianIQR(s.Jaccard), KL: fmtMedianIQR(s.KL), Unstable: fmtShare(s)}
+		if s.NotMeasured != "" && s.Varied == "" {
+			r.Disparity, r.Jaccard = "not measured", "not measured"
+		}
 		if rec.RunnerUp != nil {
 			r.RunnerUp = st.Label(st.Setting(rec.RunnerUp.ID))
 			r.Step, r.Why = stepWords[rec.DecidedBy], rec.Why
@@ -227,6 +230,9 @@ func settingsTableView(st *studyview.View, rec *Recommendation) tableView {
 		s := &st.Settings[i]
 		r := rowView{Num: i + 1, ID: s.ID, Chosen: rec != nil && rec.Chosen.ID == s.ID, RunsDone: s.RunsDone, Runs: s.Runs,
 			Unstable: fmt.Sprintf("%.1f", 100*s.UnstableShare), UnstableV: fmt.Sprintf("%g", s.UnstableShare), Rank: "–", RankV: "9999"}
+		if !finite(s.UnstableShare) {
+			r.Unstable = "not measured"
+		}
 		for _, p := range varied {
 			r.Params = append(r.Params, s.Param(p.Name))
 		}
@@ -267,7 +273,7 @@ func seedless(st *studyview.View) []string {
 	var out []string
 	for i := range st.Settings {
 		s := &st.Settings[i]
-		if s.RunsDone >= 2 && s.Disparity.Median == 0 && s.Disparity.IQR == 0 {
+		if s.RunsDone >= 2 && (s.Disparity.Median == 0 && s.Disparity.IQR == 0 || s.NotMeasured != "" && s.Varied == "") {
 			out = append(out, st.Label(s))
 		}
 	}

@@ -242,9 +242,17 @@ func (b *viewBuilder) consensus() {
 		}
 		set := &b.v.Settings[i]
 		if set.Consensus == nil {
+			// A point no run of the setting embedded (runs on subsamples)
+			// has no row: NaN position and spread.
 			set.Consensus = make([]float64, 2*n)
 			set.Spread = make([]float64, n)
 			set.Unstable = make([]bool, n)
+			for k := range set.Consensus {
+				set.Consensus[k] = math.NaN()
+			}
+			for k := range set.Spread {
+				set.Spread[k] = math.NaN()
+			}
 		}
 		set.Consensus[2*p.Point], set.Consensus[2*p.Point+1] = p.ConsensusX, p.ConsensusY
 		set.Spread[p.Point], set.Unstable[p.Point] = p.Spread, p.Unstable
