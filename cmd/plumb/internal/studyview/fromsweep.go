@@ -82,8 +82,13 @@ func (b *viewBuilder) input() {
 	}
 	b.v.Input = Input{Path: in.Path, Fingerprint: in.Fingerprint, N: in.N, D: in.D, Columns: in.Columns,
 		IDColumn: in.IDColumn, LabelColumn: in.LabelColumn, Preprocessing: pre}
-	if len(b.s.RunScores) > 0 {
-		b.v.Sampled = b.s.RunScores[0].Sampled
+	// A run on a subsample scores all its own points; only a fixed sample
+	// of query points (large n) counts as sampled.
+	for _, r := range b.s.RunScores {
+		if r.Sampled < r.Points {
+			b.v.Sampled = r.Sampled
+			break
+		}
 	}
 }
 
