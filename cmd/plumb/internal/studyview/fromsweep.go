@@ -160,28 +160,42 @@ func mapValues[T any](v []T, f func(T) string) []string {
 // ids from the points table when no layout is there.
 func (b *viewBuilder) points() error {
 	s, st, n := b.s, b.v, b.s.Info.Input.N
+	// A run on all points names every point; runs on subsamples name
+	// theirs, so layouts are read until every point is named.
+	var named []bool
+	left := n
 	for _, r := range s.Rows {
-		if r.Status != sweep.StatusDone {
+		if r.Status != sweep.StatusDone || (named != nil && r.Subsample < 1 && left == 0) {
 			continue
 		}
 		l, err := s.Layout(r.RunID)
 		if err != nil {
 			return fmt.Errorf("report: %w", err)
 		}
-		st.IDs = make([]string, n)
-		if l.Labels != nil {
-			st.Labels = make([]string, n)
+		if named == nil {
+			named = make([]bool, n)
+			st.IDs = make([]string, n)
+			if l.Labels != nil {
+				st.Labels = make([]string, n)
+			}
 		}
 		for i, p := range l.Point {
 			if int(p) < 0 || int(p) >= n {
 				return fmt.Errorf("report: layout of run %s: point %d outside 0..%d", r.RunID, p, n-1)
 			}
+			if named[p] {
+				continue
+			}
+			named[p] = true
+			left--
 			st.IDs[p] = l.IDs[i]
-			if l.Labels != nil {
+			if st.Labels != nil && l.Labels != nil {
 				st.Labels[p] = l.Labels[i]
 			}
 		}
-		break
+		if left == 0 {
+			break
+		}
 	}
 	if st.IDs == nil {
 		for _, p := range s.Points {
