@@ -262,14 +262,13 @@ func (b *viewBuilder) consensus() {
 		}
 		set := &b.v.Settings[i]
 		if set.Consensus == nil {
-			// A point no run of the setting embedded (runs on subsamples)
-			// has no row: NaN position and spread.
+			// A point no run of the setting embedded (runs on subsamples;
+			// rare: (1−F)^seeds of the points) has no row: NaN spread, and
+			// the consensus origin as its position, because the figures
+			// draw every consensus point.
 			set.Consensus = make([]float64, 2*n)
 			set.Spread = make([]float64, n)
 			set.Unstable = make([]bool, n)
-			for k := range set.Consensus {
-				set.Consensus[k] = math.NaN()
-			}
 			for k := range set.Spread {
 				set.Spread[k] = math.NaN()
 			}
