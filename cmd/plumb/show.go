@@ -279,7 +279,11 @@ func showTable(w io.Writer, st *sweep.Study, rows []*settingRow) {
 	}
 	tw.Flush()
 	if unmeasured > 0 {
-		fmt.Fprintf(w, "not measured: for %d setting(s) %s\n", unmeasured, sweep.NotVariedReason)
+		what := "1 setting"
+		if unmeasured > 1 {
+			what = fmt.Sprintf("%d settings", unmeasured)
+		}
+		fmt.Fprintf(w, "not measured: for %s %s\n", what, sweep.NotVariedReason)
 	}
 	if st.SettingScores != nil {
 		fmt.Fprintln(w, "medians over the runs (kl, trust, contin, recall) or pairs of runs (disparity, jaccard, on the points both runs embed) of each setting; unstable: share of points with spread > threshold; varied: what differed between the runs of a setting (seed: random start; subsample: the points embedded)")
