@@ -63,8 +63,12 @@ func PlanOutline(ds *dataset.Dataset, plan *Plan, opt Options) (*Outline, error)
 	if err != nil {
 		return nil, err
 	}
+	search, err := tsne.ResolveNeighbors(plan.Neighbors, ds.N, ds.D)
+	if err != nil {
+		return nil, err
+	}
 	o := &Outline{Plan: plan, PlanHash: plan.Hash(), Settings: plan.Settings(), Runs: len(runs),
-		Neighbors: neighborsMode(plan.Neighbors, ds.N), NeighborK: tsne.NeighborCount(ds.N, plan.MaxPerplexity()),
+		Neighbors: search, NeighborK: tsne.NeighborCount(ds.N, plan.MaxPerplexity()),
 		SharedK: sharedNeighborCount(ds.N, plan)}
 	subs, subAff := map[subKey]bool{}, map[subAffKey]bool{}
 	mine := opt.Shard.Select(runs)
@@ -185,8 +189,9 @@ func EstimateNeighbors(mode string, n, d, k, threads int) time.Duration {
 	threads = max(threads, 1)
 	nf, df := float64(n), float64(d)
 	var sec float64
+	resolved, _ := tsne.ResolveNeighbors(mode, n, d) // an unknown mode was refused with the plan
 	switch {
-	case neighborsMode(mode, n) == "approx":
+	case resolved == "approx":
 		sec = costApproxNeighbor * nf * df
 	case n <= 1000:
 		sec = costBruteNeighbor * nf * nf * df

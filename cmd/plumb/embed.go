@@ -125,7 +125,7 @@ func embedAction(c *cli.Context) error {
 		return err
 	}
 	if cfg.Method == "" || cfg.Method == tsne.MethodAuto {
-		cfg.Method = tsne.AutoMethod(data.N)
+		cfg.Method = tsne.Choose(data.N, data.D).Method
 	}
 	if !quiet {
 		fmt.Fprintf(stderr, "plumb: %s × %s, perplexity %g, gradient %s\n", words.Count(data.N, "point"), words.Count(data.D, "feature"), cfg.Perplexity, cfg.Method)

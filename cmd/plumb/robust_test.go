@@ -532,7 +532,8 @@ func TestDamagedStudy(t *testing.T) {
 }
 
 // TestCheckNoCommonPoints: plumb check of a study against a baseline made
-// from data with other ids has no common points: exit 2 with one line.
+// from data with other ids: the data changed (exit 3); compared by id
+// anyway, there are no common points: exit 2 with one line.
 func TestCheckNoCommonPoints(t *testing.T) {
 	tmp := t.TempDir()
 	base := filepath.Join(tmp, "base")
@@ -550,7 +551,7 @@ func TestCheckNoCommonPoints(t *testing.T) {
 		t.Fatalf("current: %d %s", code, stderr)
 	}
 	_, stderr, code := plumb(t, "check", "--baseline", base, cur)
-	rbOneError(t, code, stderr, 2, "cannot compare")
+	rbOneError(t, code, stderr, 3, "the input data changed")
 	_, stderr, code = plumb(t, "check", "--allow-other-data", "--baseline", base, cur)
 	rbOneError(t, code, stderr, 2, "cannot compare: no point id in common")
 	// A baseline that is no study at all.
