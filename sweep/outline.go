@@ -23,6 +23,13 @@ type Outline struct {
 	// neighbours per point, for the plan's largest perplexity.
 	Neighbors string
 	NeighborK int
+	// SharedK is the neighbours per point of the one shared search: above
+	// NeighborK when subsamples derive their lists from it.
+	SharedK int
+	// Subsamples is the number of subsamples to draw for the runs to do
+	// (one per seed and fraction below 1), SubsampleAffinities the P
+	// matrices built for them (one per subsample and perplexity).
+	Subsamples, SubsampleAffinities int
 	// Affinities lists, per perplexity with runs to do, its k and the runs
 	// sharing it.
 	Affinities []SharedAffinity
@@ -61,7 +68,9 @@ func PlanOutline(ds *dataset.Dataset, plan *Plan, opt Options) (*Outline, error)
 		return nil, err
 	}
 	o := &Outline{Plan: plan, PlanHash: plan.Hash(), Settings: plan.Settings(), Runs: len(runs),
-		Neighbors: search, NeighborK: tsne.NeighborCount(ds.N, plan.MaxPerplexity())}
+		Neighbors: search, NeighborK: tsne.NeighborCount(ds.N, plan.MaxPerplexity()),
+		SharedK: sharedNeighborCount(ds.N, plan)}
+	subs, subAff := map[subKey]bool{}, map[subAffKey]bool{}
 	mine := opt.Shard.Select(runs)
 	o.InShard = len(mine)
 	var info *Info
@@ -88,12 +97,18 @@ func PlanOutline(ds *dataset.Dataset, plan *Plan, opt Options) (*Outline, error)
 			}
 		}
 		o.Todo++
-		perRuns[r.Setting.Perplexity]++
+		if f := r.Setting.Fraction(); f < 1 {
+			subs[subKey{r.Seed, f}] = true
+			subAff[subAffKey{subKey{r.Seed, f}, r.Setting.Perplexity}] = true
+		} else {
+			perRuns[r.Setting.Perplexity]++
+		}
 		if r.Setting.Init == "pca" {
 			o.PCARuns++
 		}
 		o.Iterations += int64(r.Setting.Iters)
 	}
+	o.Subsamples, o.SubsampleAffinities = len(subs), len(subAff)
 	o.Jobs, o.Threads = parallelism(opt, ds.N, o.Todo)
 	for _, perp := range plan.Perplexity {
 		if perRuns[perp] > 0 {
@@ -105,17 +120,21 @@ func PlanOutline(ds *dataset.Dataset, plan *Plan, opt Options) (*Outline, error)
 	// affinities run on every core.
 	var longest float64
 	for _, r := range mine {
-		if perRuns[r.Setting.Perplexity] > 0 {
-			t := EstimateRun(ds.N, r.Setting, o.Threads).Seconds()
-			secs += t
-			longest = max(longest, t)
+		var t float64
+		if f := r.Setting.Fraction(); f < 1 && subs[subKey{r.Seed, f}] {
+			t = EstimateRun(SubsampleSize(ds.N, f), r.Setting, o.Threads).Seconds()
+		} else if f >= 1 && perRuns[r.Setting.Perplexity] > 0 {
+			t = EstimateRun(ds.N, r.Setting, o.Threads).Seconds()
 		}
+		secs += t
+		longest = max(longest, t)
 	}
 	cores := float64(o.Jobs * o.Threads)
 	secs = costFixed + max(secs/float64(o.Jobs), longest) + EstimateNeighbors(plan.Neighbors, ds.N, ds.D, o.NeighborK, o.Jobs*o.Threads).Seconds()
 	for _, a := range o.Affinities {
 		secs += costAffinityNeighbor * float64(ds.N) * float64(a.K) / cores
 	}
+	secs += costAffinityNeighbor * float64(ds.N) * float64(o.NeighborK) * float64(o.SubsampleAffinities) / cores
 	if o.Todo == 0 {
 		secs = 0
 	}

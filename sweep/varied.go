@@ -331,3 +331,35 @@ func rmsRadius(y []float64) float64 {
 	}
 	return math.Sqrt(ss / float64(n))
 }
+
+// UnvariedSettings returns the settings of the plan whose runs can only be
+// identical (Varied is ""), when the plan runs each setting with two or
+// more seeds; nil otherwise. Their stability will be stored as not
+// measured, so the command warns before any work (SeedWarning).
+func (p *Plan) UnvariedSettings() []*Setting {
+	if len(p.Seeds) < 2 {
+		return nil
+	}
+	var out []*Setting
+	for _, s := range p.Settings() {
+		if Varied(s, p) == "" {
+			out = append(out, s)
+		}
+	}
+	return out
+}
+
+// SeedWarning returns the plan-time warning for settings whose seeds
+// cannot change the result, saying what to add; "" when there are none.
+func (p *Plan) SeedWarning() string {
+	u := p.UnvariedSettings()
+	if len(u) == 0 {
+		return ""
+	}
+	what := fmt.Sprintf("%d of %d settings", len(u), p.NumSettings())
+	if len(u) == p.NumSettings() {
+		what = fmt.Sprintf("all %d settings", len(u))
+	}
+	return fmt.Sprintf("seeds cannot change %s (PCA start on all points: the same start, neighbours and P, and a deterministic engine), so their %d seeds will give identical maps and their stability will be stored as not measured; add --init random (or pca,random) to vary the start, or --subsample 0.9 (or 1,0.9) to vary the points",
+		what, len(p.Seeds))
+}

@@ -103,7 +103,9 @@ func demoAction(c *cli.Context) error {
 	fmt.Fprintf(w, "\nTry next:\n")
 	fmt.Fprintf(w, "  plumb show %s\n", studyDir)
 	fmt.Fprintf(w, "  plumb sweep --input %s --id-column id --label-column site --standardize \\\n", csvPath)
-	fmt.Fprintf(w, "      --perplexity 5,20,50 --learning-rate auto,200 --seeds 5 --out %s\n", filepath.Join(out, "bigger"))
+	fmt.Fprintf(w, "      --perplexity 5,20,50 --init pca,random --subsample 1,0.9 --seeds 5 --out %s\n", filepath.Join(out, "bigger"))
+	fmt.Fprintf(w, "      (random starts and 90%% subsamples make the seeds differ; PCA starts on all points\n")
+	fmt.Fprintf(w, "       give identical maps, and their stability is reported as not measured)\n")
 	fmt.Fprintf(w, "  plumb report %s\n", filepath.Join(out, "bigger"))
 	fmt.Fprintf(w, "  plumb check --baseline %s %s\n", studyDir, studyDir)
 	return nil

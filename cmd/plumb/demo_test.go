@@ -21,7 +21,9 @@ func TestDemoCommand(t *testing.T) {
 			t.Errorf("missing %s", f)
 		}
 	}
-	for _, want := range []string{"study/report/index.html", "Recommended setting: perplexity ", "Try next:", "plumb check --baseline"} {
+	for _, want := range []string{"study/report/index.html", "Recommended setting: perplexity ", "Try next:", "plumb check --baseline",
+		// The suggested sweep measures a real stability: random starts and subsamples.
+		"--init pca,random --subsample 1,0.9"} {
 		if !strings.Contains(stdout, want) {
 			t.Errorf("stdout lacks %q:\n%s", want, stdout)
 		}

@@ -87,6 +87,7 @@ func showRows(st *sweep.Study) []*settingRow {
 		r.set("iters", s.Iters)
 		r.set("init", s.Init)
 		r.set("gradient", s.Gradient)
+		r.set("subsample", s.Fraction())
 		var kls []float64
 		done, failed := 0, 0
 		for _, row := range st.Rows {
@@ -123,7 +124,11 @@ func showRows(st *sweep.Study) []*settingRow {
 			r.set("unstable_share", ss.UnstableShare)
 			r.set("varied", ss.Varied)
 			r.set("stability_measured", ss.NotMeasured == "" && ss.Varied != "" && ss.RunsDone >= 2)
-			r.set("not_measured", ss.NotMeasured)
+			var reason any // null in JSON when measured; the reason otherwise
+			if ss.NotMeasured != "" {
+				reason = ss.NotMeasured
+			}
+			r.set("not_measured", reason)
 			r.set("medoid_run", ss.MedoidRun)
 			r.set("clusters", intOrNaN(ss.Clusters, ss.Clusters >= 0))
 			r.set("arrangements", intOrNaN(ss.Arrangements, ss.Arrangements > 0))
@@ -250,11 +255,14 @@ func showTable(w io.Writer, st *sweep.Study, rows []*settingRow) {
 		{"iters", "iters"}, {"init", "init"}, {"gradient", "gradient"}, {"runs_done", "done"}, {"runs_failed", "failed"},
 		{"kl_median", "kl"},
 	}
+	if len(st.Plan.Fractions()) > 1 || st.Plan.MinFraction() < 1 {
+		cols = append(cols[:7], append([]struct{ key, head string }{{"subsample", "subsample"}}, cols[7:]...)...)
+	}
 	if st.SettingScores != nil {
 		cols = append(cols, []struct{ key, head string }{
 			{"rnx_auc_median", "rnx_auc"}, {"trustworthiness_median", "trust"}, {"continuity_median", "contin"},
 			{"knn_recall_median", "recall"}, {"disparity_median", "disparity"}, {"jaccard_median", "jaccard"},
-			{"arrangements", "arrang"}, {"unstable_share", "unstable"}, {"clusters", "clusters"}}...)
+			{"arrangements", "arrang"}, {"unstable_share", "unstable"}, {"clusters", "clusters"}, {"varied", "varied"}}...)
 		if st.Info.Input.HasLabels {
 			cols = append(cols, struct{ key, head string }{"label_accuracy_median", "label_acc"})
 		}
@@ -267,7 +275,12 @@ func showTable(w io.Writer, st *sweep.Study, rows []*settingRow) {
 		fmt.Fprint(tw, c.head)
 	}
 	fmt.Fprintln(tw, "\t")
+	unmeasured := 0
 	for _, r := range rows {
+		reason, _ := r.vals["not_measured"].(string)
+		if reason != "" && r.vals["varied"] == "" {
+			unmeasured++
+		}
 		for i, c := range cols {
 			if i > 0 {
 				fmt.Fprint(tw, "\t")
@@ -277,6 +290,13 @@ func showTable(w io.Writer, st *sweep.Study, rows []*settingRow) {
 		fmt.Fprintln(tw, "\t")
 	}
 	tw.Flush()
+	if unmeasured > 0 {
+		what := "1 setting"
+		if unmeasured > 1 {
+			what = fmt.Sprintf("%d settings", unmeasured)
+		}
+		fmt.Fprintf(w, "not measured: for %s %s\n", what, sweep.NotVariedReason)
+	}
 	if st.SettingScores != nil {
 		fmt.Fprintln(w, "medians over the runs (kl, rnx_auc, trust, contin, recall) or pairs of runs (disparity, jaccard) of each setting;")
 		fmt.Fprintln(w, "rnx_auc: area under R_NX(K) on a log-K axis; arrang: distinct arrangements of the runs;")
@@ -301,6 +321,9 @@ var betweenRun = map[string]bool{"disparity_median": true, "jaccard_median": tru
 // between-run reading of a setting whose stability was not measured.
 func showCell(r *settingRow, key string) string {
 	v := r.vals[key]
+	if key == "varied" && v == "" {
+		return "nothing"
+	}
 	if betweenRun[key] {
 		if m, ok := r.vals["stability_measured"].(bool); ok && !m {
 			if done, _ := r.vals["runs_done"].(int); done > 0 {

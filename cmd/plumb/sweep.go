@@ -133,6 +133,10 @@ func sweepAction(c *cli.Context) error {
 		for _, w := range ds.Warnings {
 			fmt.Fprintf(stderr, "plumb: warning: %s\n", w)
 		}
+		// Before any work: seeds that cannot change a setting's map.
+		if w := plan.SeedWarning(); w != "" {
+			fmt.Fprintf(stderr, "plumb: warning: %s\n", w)
+		}
 	}
 	if err := sweep.Validate(plan, ds); err != nil {
 		return err
@@ -249,10 +253,14 @@ func printOutline(w io.Writer, ds *dataset.Dataset, path string, shard sweep.Sha
 	fmt.Fprintf(w, "input: %s, %s × %s, fingerprint %.12s\n", path, words.Count(ds.N, "point"), words.Count(ds.D, "feature"), ds.Fingerprint)
 	fmt.Fprintln(w, "settings:")
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "  setting_id\tperplexity\tlearning_rate\texaggeration\texaggeration_iters\titers\tinit\tgradient")
+	fmt.Fprintln(tw, "  setting_id\tperplexity\tlearning_rate\texaggeration\texaggeration_iters\titers\tinit\tgradient\tsubsample\tvaried")
 	for _, s := range o.Settings {
-		fmt.Fprintf(tw, "  %s\t%g\t%s\t%g\t%d\t%d\t%s\t%s\n", s.ID, s.Perplexity, s.LearningRateSpec(), s.Exaggeration,
-			s.ExaggerationIters, s.Iters, s.Init, s.Gradient)
+		varied := sweep.Varied(s, p)
+		if varied == "" {
+			varied = "nothing"
+		}
+		fmt.Fprintf(tw, "  %s\t%g\t%s\t%g\t%d\t%d\t%s\t%s\t%g\t%s\n", s.ID, s.Perplexity, s.LearningRateSpec(), s.Exaggeration,
+			s.ExaggerationIters, s.Iters, s.Init, s.Gradient, s.Fraction(), varied)
 	}
 	tw.Flush()
 	fmt.Fprintf(w, "seeds: %s\n", seedList(p.Seeds))
@@ -261,12 +269,19 @@ func printOutline(w io.Writer, ds *dataset.Dataset, path string, shard sweep.Sha
 		fmt.Fprintln(w, "  none: every run of this shard is finished")
 	} else {
 		fmt.Fprintf(w, "  neighbours: %s search, k=%d for the largest perplexity %g, truncated for the others\n", o.Neighbors, o.NeighborK, p.MaxPerplexity())
+		if o.Subsamples > 0 {
+			fmt.Fprintf(w, "  subsamples: %d (one per seed and fraction below 1), neighbour lists derived from the one search (k=%d), P built per subsample and perplexity (%d)\n",
+				o.Subsamples, o.SharedK, o.SubsampleAffinities)
+		}
 		for _, a := range o.Affinities {
 			fmt.Fprintf(w, "  affinities P: perplexity %g (k=%d), shared by %s\n", a.Perplexity, a.K, words.Count(a.Runs, "run"))
 		}
 		if o.PCARuns > 0 {
 			fmt.Fprintf(w, "  PCA initialisation: once, shared by %s\n", words.Count(o.PCARuns, "run"))
 		}
+	}
+	if w2 := p.SeedWarning(); w2 != "" {
+		fmt.Fprintf(w, "warning: %s\n", w2)
 	}
 	switch {
 	case o.Mismatch != nil:

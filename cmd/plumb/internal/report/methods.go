@@ -30,6 +30,8 @@ func paramWords(name string) string {
 		return "gradient method as planned"
 	case "theta":
 		return "Barnes-Hut θ"
+	case "subsample":
+		return "subsample fraction"
 	}
 	return strings.ReplaceAll(name, "_", " ")
 }
@@ -55,6 +57,32 @@ func seedList(s []uint64) string {
 		return strings.Join(p[:5], ", ") + ", …, " + p[len(p)-1]
 	}
 	return strings.Join(p, ", ")
+}
+
+// variedWords says in words what differed between the runs of a setting.
+func variedWords(v string) string {
+	var parts []string
+	for _, p := range strings.Split(v, "+") {
+		switch p {
+		case "seed":
+			parts = append(parts, "the random start (each seed its own)")
+		case "subsample":
+			parts = append(parts, "the points embedded (each seed its own random subsample)")
+		}
+	}
+	return strings.Join(parts, " and ")
+}
+
+// notMeasured lists the labels of the settings whose between-run
+// agreement was not measured (nothing varied between their runs).
+func notMeasured(st *studyview.View) []string {
+	var out []string
+	for i := range st.Settings {
+		if s := &st.Settings[i]; s.NotMeasured != "" && s.Varied == "" {
+			out = append(out, st.Label(s))
+		}
+	}
+	return out
 }
 
 func fmtMedianIQR(s stability.MedianIQR) string {
@@ -121,12 +149,33 @@ func Methods(st *studyview.View, rec *Recommendation) []string {
 		fmt.Fprintf(&b, ", on a fixed sample of %s", words.Count(st.Sampled, "point"))
 	}
 	b.WriteString(". ")
+	vs := map[string]bool{}
+	var vlist []string
+	for i := range st.Settings {
+		if v := st.Settings[i].Varied; v != "" && !vs[v] {
+			vs[v] = true
+			vlist = append(vlist, variedWords(v))
+		}
+	}
+	if len(vlist) > 0 {
+		sort.Strings(vlist)
+		fmt.Fprintf(&b, "Between the runs of a setting, what varied was %s; pairs of runs were compared on the points both embedded. ", strings.Join(vlist, "; or "))
+	}
+	if nm := notMeasured(st); len(nm) > 0 {
+		fmt.Fprintf(&b, "For %d of %d settings nothing varied between runs (deterministic PCA start on all points, shared neighbours and P), so every run gave the same map and their stability was not measured (%s). ",
+			len(nm), len(st.Settings), strings.Join(nm, "; "))
+	}
 	dlo, dhi := scoreRange(st, func(s *studyview.Setting) stability.MedianIQR { return s.Disparity })
 	jlo, jhi := scoreRange(st, func(s *studyview.Setting) stability.MedianIQR { return s.Jaccard })
 	tlo, thi := scoreRange(st, func(s *studyview.Setting) stability.MedianIQR { return s.Trustworthiness })
 	klo, khi := scoreRange(st, func(s *studyview.Setting) stability.MedianIQR { return s.KL })
-	fmt.Fprintf(&b, "Across settings, the median seed-to-seed disparity ranged from %s to %s, the median kNN Jaccard from %s to %s, the median trustworthiness from %s to %s and the median final KL divergence from %s to %s.",
-		fmtScore(dlo), fmtScore(dhi), fmtScore(jlo), fmtScore(jhi), fmtScore(tlo), fmtScore(thi), fmtScore(klo), fmtScore(khi))
+	if finite(dlo) {
+		fmt.Fprintf(&b, "Across settings, the median seed-to-seed disparity ranged from %s to %s, the median kNN Jaccard from %s to %s, the median trustworthiness from %s to %s and the median final KL divergence from %s to %s.",
+			fmtScore(dlo), fmtScore(dhi), fmtScore(jlo), fmtScore(jhi), fmtScore(tlo), fmtScore(thi), fmtScore(klo), fmtScore(khi))
+	} else {
+		fmt.Fprintf(&b, "Seed-to-seed disparity and kNN Jaccard were not measured for any setting. Across settings, the median trustworthiness ranged from %s to %s and the median final KL divergence from %s to %s.",
+			fmtScore(tlo), fmtScore(thi), fmtScore(klo), fmtScore(khi))
+	}
 	paras := []string{b.String()}
 
 	paras = append(paras, readingsParagraph(st))

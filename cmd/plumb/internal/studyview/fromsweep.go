@@ -90,8 +90,13 @@ func (b *viewBuilder) input() {
 	}
 	b.v.Input = Input{Path: in.Path, Fingerprint: in.Fingerprint, N: in.N, D: in.D, Columns: in.Columns,
 		IDColumn: in.IDColumn, LabelColumn: in.LabelColumn, Preprocessing: pre}
-	if len(b.s.RunScores) > 0 {
-		b.v.Sampled = b.s.RunScores[0].Sampled
+	// A run on a subsample scores all its own points; only a fixed sample
+	// of query points (large n) counts as sampled.
+	for _, r := range b.s.RunScores {
+		if r.Sampled < r.Points {
+			b.v.Sampled = r.Sampled
+			break
+		}
 	}
 }
 
@@ -146,6 +151,9 @@ func (b *viewBuilder) grid() {
 	if b.withTheta {
 		add("theta", []string{ff(plan.Theta)})
 	}
+	if f := plan.Fractions(); len(f) > 1 || f[0] < 1 {
+		add("subsample", mapValues(f, ff))
+	}
 }
 
 func mapValues[T any](v []T, f func(T) string) []string {
@@ -160,28 +168,42 @@ func mapValues[T any](v []T, f func(T) string) []string {
 // ids from the points table when no layout is there.
 func (b *viewBuilder) points() error {
 	s, st, n := b.s, b.v, b.s.Info.Input.N
+	// A run on all points names every point; runs on subsamples name
+	// theirs, so layouts are read until every point is named.
+	var named []bool
+	left := n
 	for _, r := range s.Rows {
-		if r.Status != sweep.StatusDone {
+		if r.Status != sweep.StatusDone || (named != nil && r.Subsample < 1 && left == 0) {
 			continue
 		}
 		l, err := s.Layout(r.RunID)
 		if err != nil {
 			return fmt.Errorf("report: %w", err)
 		}
-		st.IDs = make([]string, n)
-		if l.Labels != nil {
-			st.Labels = make([]string, n)
+		if named == nil {
+			named = make([]bool, n)
+			st.IDs = make([]string, n)
+			if l.Labels != nil {
+				st.Labels = make([]string, n)
+			}
 		}
 		for i, p := range l.Point {
 			if int(p) < 0 || int(p) >= n {
 				return fmt.Errorf("report: layout of run %s: point %d outside 0..%d", r.RunID, p, n-1)
 			}
+			if named[p] {
+				continue
+			}
+			named[p] = true
+			left--
 			st.IDs[p] = l.IDs[i]
-			if l.Labels != nil {
+			if st.Labels != nil && l.Labels != nil {
 				st.Labels[p] = l.Labels[i]
 			}
 		}
-		break
+		if left == 0 {
+			break
+		}
 	}
 	if st.IDs == nil {
 		for _, p := range s.Points {
@@ -214,6 +236,10 @@ func (b *viewBuilder) settings() {
 		if b.withTheta {
 			set.Params = append(set.Params, Field{"theta", ff(ps.Theta)})
 		}
+		if f := plan.Fractions(); len(f) > 1 || f[0] < 1 {
+			set.Params = append(set.Params, Field{"subsample", ff(ps.Fraction())})
+		}
+		set.Varied = sweep.Varied(ps, plan)
 		nan := stability.MedianIQR{Median: math.NaN(), IQR: math.NaN()}
 		set.Disparity, set.Jaccard, set.Trustworthiness, set.Continuity = nan, nan, nan, nan
 		set.KNNRecall, set.DistanceSpearman, set.LabelAccuracy, set.KL = nan, nan, nan, nan
@@ -248,13 +274,17 @@ func (b *viewBuilder) consensus() {
 		}
 		set := &b.v.Settings[i]
 		if set.Consensus == nil {
+			// A point no run of the setting embedded (runs on subsamples;
+			// rare: (1−F)^seeds of the points) has no row: NaN spread, and
+			// the consensus origin as its position, because the figures
+			// draw every consensus point.
 			set.Consensus = make([]float64, 2*n)
 			set.Spread = make([]float64, n)
 			set.Unstable = make([]bool, n)
 			set.Stability = make([]float64, n)
 			set.Clusters = make([]int32, n)
 			for i := range set.Stability {
-				set.Stability[i], set.Clusters[i] = math.NaN(), -1
+				set.Stability[i], set.Clusters[i], set.Spread[i] = math.NaN(), -1, math.NaN()
 			}
 		}
 		set.Consensus[2*p.Point], set.Consensus[2*p.Point+1] = p.ConsensusX, p.ConsensusY

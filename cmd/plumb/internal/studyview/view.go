@@ -122,8 +122,9 @@ type Setting struct {
 	// UnstableShare is the share of points flagged unstable by
 	// co-assignment (score < 0.75); NaN when not measured.
 	UnstableShare float64
-	// Varied names what varied between the runs ("seed", or "": nothing,
-	// so between-run readings are not measured).
+	// Varied says what differed between the setting's runs ("seed",
+	// "subsample", "seed+subsample", or "" for nothing; sweep.Varied), so
+	// that between-run readings are not measured.
 	Varied string
 	// NotMeasured says why the between-run readings are missing ("" when
 	// they were measured, or not recorded).
