@@ -680,8 +680,8 @@ func (sh *shared) runOne(ctx context.Context, opt Options, info *Info, r *Run, t
 	}
 	rec = &Record{RunID: r.ID, SettingID: s.ID, Seed: r.Seed, PlanHash: info.PlanHash,
 		InputFingerprint: info.Input.Fingerprint,
-		LearningRate:     cfg.LearningRate, Gradient: string(resolveGradient(s.Gradient, n)),
-		Env:              CurrentEnv(opt.Version)}
+		LearningRate:     cfg.LearningRate, Gradient: string(resolveGradient(s.Gradient, n))}
+	rec.Env = CurrentEnv(opt.Version)
 	if rec.LearningRate == 0 {
 		rec.LearningRate = tsne.LearningRateAuto(n, cfg.Exaggeration)
 	}

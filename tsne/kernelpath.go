@@ -11,8 +11,9 @@ const (
 // (AVX-512 for the repulsion kernels, AVX2 and FMA for the rest),
 // KernelsAVX2 (AVX2 and FMA assembly) or KernelsGo (the generic Go code:
 // another architecture, the purego build tag, or a CPU without AVX2).
-// The paths may round differently, so a layout is reproducible bit for
-// bit only on the same path.
+// The paths are meant to give the same bits (TestKernelsMatchGeneric,
+// TestGradientsSameWithoutAsm); a study records the path so that a
+// layout that fails to reproduce can be traced to it if they ever do not.
 func KernelPath() string {
 	switch {
 	case useAVX512:
