@@ -134,13 +134,15 @@ type Recheck struct {
 	// coordinates (of 2·Points) whose bits differ.
 	Points, Differ int
 	// MaxDeviation is the largest |stored − recomputed| coordinate
-	// difference, at layout row Row (0-based), axis Axis ("x" or "y");
+	// difference, at layout row Row (0-based), holding input row Point
+	// (0-based) with point id ID, axis Axis ("x" or "y");
 	// MaxULP the largest distance in units in the last place. A NaN
 	// deviation marks a non-finite recomputed coordinate.
 	MaxDeviation float64
 	MaxULP       uint64
 	Row          int
 	Point        int32
+	ID           string
 	Axis         string
 	// Problem says why a run does not reproduce when it is not a
 	// coordinate difference (a failure on one side only).
@@ -213,6 +215,9 @@ func CheckRun(ctx context.Context, dir string, ds *dataset.Dataset, runID string
 		if c.Differ == 1 || dev > c.MaxDeviation || (dev == c.MaxDeviation && u > c.MaxULP) {
 			c.MaxDeviation, c.MaxULP, c.Row, c.Point = dev, u, j/2, l.Point[j/2]
 			c.Axis = "x"
+			if l.IDs != nil {
+				c.ID = l.IDs[j/2]
+			}
 			if j%2 == 1 {
 				c.Axis = "y"
 			}

@@ -7,6 +7,8 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"path/filepath"
+	"slices"
 	"strings"
 	"syscall"
 
@@ -89,6 +91,26 @@ func reproduceAction(c *cli.Context) error {
 	if len(ids) == 0 {
 		return usage2("%s has no finished runs to reproduce", dir)
 	}
+	// Every id is checked before any work: an unknown or unfinished run
+	// is a usage error, not a failed reproduction.
+	isFinished := map[string]bool{}
+	for _, id := range finished {
+		isFinished[id] = true
+	}
+	planned, err := info.Plan.Runs()
+	if err != nil {
+		return &exitError{code: 2, err: err}
+	}
+	for _, id := range ids {
+		if isFinished[id] {
+			continue
+		}
+		if slices.ContainsFunc(planned, func(r *sweep.Run) bool { return r.ID == id }) {
+			return usage2("run %s of %s is not finished (run `plumb sweep` to finish the study)", id, dir)
+		}
+		return hintError{err: &exitError{code: 2, err: &sweep.UnknownRunError{Dir: dir, RunID: id}},
+			hint: "run ids are the names of the files in " + filepath.Join(dir, sweep.RecordsDir) + " (without .json)"}
+	}
 	ds, err := studyInput(c, info)
 	if err != nil {
 		return &exitError{code: 2, err: err}
@@ -103,12 +125,8 @@ func reproduceAction(c *cli.Context) error {
 	for _, id := range ids {
 		rc, err := sweep.CheckRun(ctx, dir, ds, id, th, version)
 		if err != nil {
-			var ur *sweep.UnknownRunError
-			if errors.As(err, &ur) {
-				return hintError{err: &exitError{code: 2, err: err}, hint: "run ids are the names of the files in " + dir + "/records (without .json)"}
-			}
 			if ctx.Err() != nil {
-				return err
+				return &exitError{code: 130, err: fmt.Errorf("interrupted: %w", err)}
 			}
 			return &exitError{code: 2, err: err}
 		}
@@ -135,8 +153,8 @@ func printRecheck(w io.Writer, rc *sweep.Recheck) {
 	case rc.Problem != "":
 		fmt.Fprintf(w, "  %s  DIFFERENT: %s\n", rc.RunID, rc.Problem)
 	default:
-		fmt.Fprintf(w, "  %s  DIFFERENT: %d of %d coordinates; largest deviation %.3g (%d ulp) at point %d, %s\n",
-			rc.RunID, rc.Differ, 2*rc.Points, rc.MaxDeviation, rc.MaxULP, rc.Point, rc.Axis)
+		fmt.Fprintf(w, "  %s  DIFFERENT: %d of %d coordinates; largest deviation %.3g (%d ulp) at point %q (input row %d), %s\n",
+			rc.RunID, rc.Differ, 2*rc.Points, rc.MaxDeviation, rc.MaxULP, rc.ID, rc.Point+1, rc.Axis)
 	}
 	if rc.Match {
 		return

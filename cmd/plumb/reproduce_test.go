@@ -82,7 +82,7 @@ func TestReproduce(t *testing.T) {
 	if code != 1 || !strings.Contains(stderr, "1 of 8 runs do not reproduce") {
 		t.Fatalf("after nudge: exit %d want 1\n%s%s", code, stdout, stderr)
 	}
-	want := regexp.MustCompile(regexp.QuoteMeta(sub) + `  DIFFERENT: 1 of 240 coordinates; largest deviation \S+ \(1 ulp\) at point \d+, y`)
+	want := regexp.MustCompile(regexp.QuoteMeta(sub) + `  DIFFERENT: 1 of 240 coordinates; largest deviation \S+ \(1 ulp\) at point "\S+" \(input row \d+\), y`)
 	if !want.MatchString(stdout) {
 		t.Errorf("stdout does not name run %s with a 1-ulp deviation:\n%s", sub, stdout)
 	}
