@@ -56,8 +56,12 @@ func PlanOutline(ds *dataset.Dataset, plan *Plan, opt Options) (*Outline, error)
 	if err != nil {
 		return nil, err
 	}
+	search, err := tsne.ResolveNeighbors(plan.Neighbors, ds.N, ds.D)
+	if err != nil {
+		return nil, err
+	}
 	o := &Outline{Plan: plan, PlanHash: plan.Hash(), Settings: plan.Settings(), Runs: len(runs),
-		Neighbors: neighborsMode(plan.Neighbors, ds.N), NeighborK: tsne.NeighborCount(ds.N, plan.MaxPerplexity())}
+		Neighbors: search, NeighborK: tsne.NeighborCount(ds.N, plan.MaxPerplexity())}
 	mine := opt.Shard.Select(runs)
 	o.InShard = len(mine)
 	var info *Info
@@ -96,15 +100,21 @@ func PlanOutline(ds *dataset.Dataset, plan *Plan, opt Options) (*Outline, error)
 			o.Affinities = append(o.Affinities, SharedAffinity{Perplexity: perp, K: tsne.NeighborCount(ds.N, perp), Runs: perRuns[perp]})
 		}
 	}
+	// Runs spread over jobs: the wall time is the larger of an even share of
+	// the work and the longest run. The shared neighbour search and the
+	// affinities run on every core.
+	var longest float64
 	for _, r := range mine {
 		if perRuns[r.Setting.Perplexity] > 0 {
-			secs += EstimateRun(ds.N, r.Setting, o.Threads).Seconds()
+			t := EstimateRun(ds.N, r.Setting, o.Threads).Seconds()
+			secs += t
+			longest = max(longest, t)
 		}
 	}
-	// Runs spread over jobs; the shared neighbour search runs on all cores.
-	secs = secs/float64(o.Jobs) + EstimateNeighbors(ds.N, ds.D, o.NeighborK, o.Jobs*o.Threads).Seconds()
+	cores := float64(o.Jobs * o.Threads)
+	secs = costFixed + max(secs/float64(o.Jobs), longest) + EstimateNeighbors(plan.Neighbors, ds.N, ds.D, o.NeighborK, o.Jobs*o.Threads).Seconds()
 	for _, a := range o.Affinities {
-		secs += costAffinityNeigbor * float64(ds.N) * float64(a.K) / float64(o.Jobs*o.Threads)
+		secs += costAffinityNeighbor * float64(ds.N) * float64(a.K) / cores
 	}
 	if o.Todo == 0 {
 		secs = 0
@@ -113,20 +123,28 @@ func PlanOutline(ds *dataset.Dataset, plan *Plan, opt Options) (*Outline, error)
 	return o, nil
 }
 
-// Rough single-thread costs, measured with this version's engine on the
-// two-core development machine (1000 iterations, perplexity 30, 50
-// features): exact gradient at n = 1000 took 8.8 s, Barnes-Hut at n = 5000
-// 29.4 s, FFT interpolation at n = 5000 104 s (its grid cost dominates at
-// this size and does not grow with n, so the linear model overestimates
-// large n), exact neighbours (k = 90) at n = 5000 1.1 s, affinities 0.28 s
-// (n = 5000) and 0.09 s (n = 1000). For --dry-run estimates only; expect a
-// factor of two either way on other machines and data.
+// Single-thread CPU costs of this version's engine, fitted to one-run
+// sweeps (perplexity 30, 1,000 iterations, PCA start, 50 features, a
+// mixture of 10 Gaussian clusters) timed with user+sys CPU time by
+// internal/scripts/bench/estimate_check.sh: exact gradient at n = 500 and
+// 1,000, Barnes-Hut at 2,000, 5,000 and 20,000, FFT interpolation at 5,000
+// and 20,000 (see its README for the numbers). The estimate targets the
+// wall time on an idle machine, where a single-threaded run's wall time is
+// its CPU time; the script found the estimates within a factor of 1.5 of
+// the measured time at those sizes. Other data, a busy machine or threads
+// that do not scale perfectly widen that; outside the measured sizes (the
+// approximate neighbour search from AutoExactMaxN points, FFT beyond 20,000)
+// the costs are extrapolated.
 const (
-	costExactPerPair    = 8.8e-9 // seconds per ordered pair of points per iteration
-	costBHPerPointLog   = 4.8e-7 // seconds per point per log2(n) per iteration
-	costFFTPerPoint     = 2.1e-5 // seconds per point per iteration (measured at n = 5000)
-	costNeighborPair    = 1e-9   // seconds per pair and feature of the neighbour search
-	costAffinityNeigbor = 8e-7   // seconds per point and neighbour, per perplexity
+	costExactPerPair     = 5e-10  // seconds per ordered pair of points per iteration
+	costBHPerPointLog    = 3e-8   // seconds per point per log2(n) per iteration
+	costFFTPerPoint      = 3.9e-7 // seconds per point per iteration
+	costFFTPerIter       = 8.3e-3 // seconds per iteration for the grid (grows with the layout, then capped)
+	costExactNeighbor    = 2.6e-7 // seconds per n^1.25 per feature, vantage-point tree (fitted at 5,000 and 20,000)
+	costApproxNeighbor   = 6e-6   // seconds per point and feature, NN-descent (not measured by the script)
+	costBruteNeighbor    = 1e-10  // seconds per pair and feature, brute force (n ≤ 1,000)
+	costAffinityNeighbor = 2e-7   // seconds per point and neighbour, per perplexity
+	costFixed            = 0.15   // seconds per sweep: start, input, writing the study
 )
 
 // EstimateRun returns a rough duration of one run of setting s on n points
@@ -140,15 +158,26 @@ func EstimateRun(n int, s *Setting, threads int) time.Duration {
 	case tsne.MethodBarnesHut:
 		perIter = costBHPerPointLog * float64(n) * math.Log2(float64(max(n, 2)))
 	default:
-		perIter = costFFTPerPoint * float64(n)
+		perIter = costFFTPerIter + costFFTPerPoint*float64(n)
 	}
 	return time.Duration(perIter * float64(s.Iters) / float64(threads) * float64(time.Second))
 }
 
-// EstimateNeighbors returns a rough duration of the shared neighbour search.
-func EstimateNeighbors(n, d, k, threads int) time.Duration {
+// EstimateNeighbors returns the estimated wall time of the shared
+// neighbour search (mode auto, exact or approx) of n points in d
+// dimensions on the given threads.
+func EstimateNeighbors(mode string, n, d, k, threads int) time.Duration {
 	threads = max(threads, 1)
-	nf := float64(n)
-	sec := costNeighborPair * nf * math.Min(nf, 20*math.Sqrt(nf)*math.Log2(nf+2)) * float64(d)
+	nf, df := float64(n), float64(d)
+	var sec float64
+	resolved, _ := tsne.ResolveNeighbors(mode, n, d) // an unknown mode was refused with the plan
+	switch {
+	case resolved == "approx":
+		sec = costApproxNeighbor * nf * df
+	case n <= 1000:
+		sec = costBruteNeighbor * nf * nf * df
+	default:
+		sec = costExactNeighbor * math.Pow(nf, 1.25) * df
+	}
 	return time.Duration(sec / float64(threads) * float64(time.Second))
 }

@@ -280,10 +280,17 @@ func (sh *shared) neighbors() (*tsne.Neighbors, error) {
 		// k for the largest perplexity of the whole plan (not of this
 		// shard), so every shard truncates the same lists.
 		k := tsne.NeighborCount(sh.ds.N, sh.plan.MaxPerplexity())
+		mode, err := tsne.ResolveNeighbors(sh.plan.Neighbors, sh.ds.N, sh.ds.D)
+		if err != nil {
+			sh.nbErr = err
+			return
+		}
 		kBig := sharedNeighborCount(sh.ds.N, sh.plan)
-		mode := neighborsMode(sh.plan.Neighbors, sh.ds.N)
 		t0 := time.Now()
-		sh.nb, sh.nbErr = searchNeighbors(mode, sh.ds.X, sh.ds.N, sh.ds.D, kBig, sh.threads)
+		// Both searches return rows sorted by distance, so the lists for
+		// a smaller perplexity are the first columns of each row
+		// (tsne.Affinities reads only those).
+		sh.nb, sh.nbErr = tsne.FindNeighbors(sh.ds.X, sh.ds.N, sh.ds.D, kBig, mode, neighborSeed, sh.threads)
 		if sh.nbErr != nil {
 			sh.nbErr = fmt.Errorf("neighbours (k=%d): %w", kBig, sh.nbErr)
 			return
@@ -307,12 +314,10 @@ func (sh *shared) neighbors() (*tsne.Neighbors, error) {
 			sh.info(fmt.Sprintf("shared: %s neighbours, k=%d for perplexity up to %s, built once in %s",
 				mode, k, formatFloat(sh.plan.MaxPerplexity()), round(time.Since(t0))))
 		}
-		if sh.ds.N >= localityMinN {
-			// As tsne.Embed does: P and the runs work on points renumbered
-			// so that neighbours are near in memory; layouts are written
-			// back in input order.
-			sh.order = tsne.LocalityOrder(sh.nb)
-			sh.nb.Renumber(sh.order)
+		// As tsne.Embed does: P and the runs work on points renumbered so
+		// that neighbours are near in memory; layouts are written back in
+		// input order.
+		if sh.order = tsne.Localize(sh.nb, localityMinN); sh.order != nil {
 			sh.info("shared: points renumbered for memory locality (breadth-first order of the neighbour graph)")
 		}
 	})
@@ -782,9 +787,14 @@ func runConfig(s *Setting, threads, klEvery int) tsne.Config {
 	return cfg
 }
 
+// resolveGradient is the setting's gradient method for n points, "auto"
+// resolved by the engine's policy (tsne.Choose). Plans are validated
+// before they run, so an unknown name cannot reach here; it is returned
+// as given.
 func resolveGradient(g string, n int) tsne.Method {
-	if g == "auto" || g == "" {
-		return tsne.AutoMethod(n)
+	m, err := tsne.ResolveMethod(tsne.Method(g), n)
+	if err != nil {
+		return tsne.Method(g)
 	}
-	return tsne.Method(g)
+	return m
 }

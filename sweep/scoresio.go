@@ -10,6 +10,7 @@ import (
 
 	"plumb/internal/parquetio"
 	"plumb/stability"
+	"plumb/tsne"
 )
 
 // Files of the scores/ directory.
@@ -87,8 +88,8 @@ func writeScoreTables(dir string, info *Info, k int, runs []RunScore, settings [
 			sid[i], lrs[i], init[i], grad[i] = s.ID, s.LearningRateSpec(), s.Init, s.Gradient
 			perp[i], lr[i], ex[i], th[i], share[i] = s.Perplexity, s.LearningRate, s.Exaggeration, s.Theta, s.UnstableShare
 			sub[i], varied[i], reason[i], reasonValid[i] = s.Fraction(), s.Varied, s.NotMeasured, s.NotMeasured != ""
-			if lr[i] == 0 {
-				lr[i] = math.NaN()
+			if lr[i] == 0 { // auto: the number every run of the setting used, as in runs.parquet
+				lr[i] = tsne.LearningRateAuto(info.Input.N, s.Exaggeration)
 			}
 			ei[i], it[i], done[i], failed[i] = int32(s.ExaggerationIters), int32(s.Iters), int32(s.RunsDone), int32(s.RunsFailed)
 			for j, sp := range s.medianIQRs() {

@@ -10,51 +10,40 @@ import (
 // van der Maaten (2014): attraction exactly over the stored entries of P,
 // repulsion and Z from a quadtree over the layout. A cell of side w whose
 // centre of mass c lies at distance d from y_i, with w < θ·d and y_i not in
-// the cell (the criterion of scikit-learn's quadtree, w the full side), is
-// summarised by its point count m placed at c plus the quadrupole term of
-// the Taylor expansion about c, using the second moments
-// M = Σ_{j∈cell} (y_j − c)(y_j − c)ᵀ (the dipole term vanishes at the centre
-// of mass). With Δ = y_i − c and u = 1 + ‖Δ‖²:
+// the cell (scikit-learn's criterion, w the full side), is summarised by
+// its point count m at c plus the quadrupole term of the Taylor expansion
+// about c, with second moments M = Σ_{j∈cell} (y_j − c)(y_j − c)ᵀ. With
+// Δ = y_i − c and u = 1 + ‖Δ‖²:
 //
 //	Z_i     += m/u − tr(M)/u² + 4 ΔᵀMΔ/u³
 //	F_rep,i += (m/u² − 2 tr(M)/u³ + 12 ΔᵀMΔ/u⁴) Δ − 4 MΔ/u³
 //	∂C/∂y_i = 4 (α Σ_j p_ij w_ij (y_i − y_j) − F_rep,i / Z),   Z = Σ_i Z_i
 //
-// The kernel (1 + d²)⁻¹ is not harmonic in two dimensions, so the plain
-// monopole is biased (it underestimates Z by about ⟨s²⟩/d² per cell); the
-// quadrupole term removes that bias and cuts the gradient error at θ = 0.5
-// by roughly a factor of 7 on a random layout for a few extra flops per cell.
+// The quadrupole term removes the plain monopole's bias (the kernel is not
+// harmonic in two dimensions). Other cells are opened; leaves hold up to
+// 64 points and are summed exactly. The points of a leaf share one walk
+// (Barnes 1990), tested against the distance from c to the leaf's bounding
+// box, so each point sees the cells it would accept alone or finer ones.
+// θ = 0 opens every cell (exact sums); larger θ is faster and coarser.
+// Coincident points stay in one leaf (cells stop splitting at depth 24)
+// and exert no force on each other.
 //
-// Other cells are opened; leaves hold up to 64 points and sum exactly.
-// The points of one leaf share a walk (the group walk of Barnes, J. Comp.
-// Phys. 87, 1990): the criterion is tested with d the distance from c to
-// the group's bounding box, a lower bound on every member's distance, so
-// each point sees the cells it would accept on its own or finer ones (the
-// gradient error at θ = 0.5 about halves) and the resulting interaction
-// lists are evaluated per point without tests: the accepted cells as a
-// list of eight-lane blocks (sumCells), the points to sum exactly copied
-// into one run padded to whole blocks of eight (sumDirect), both
-// vectorised with AVX2 or AVX-512 (see kernels.go). With those kernels a
-// leaf size of 64 was the fastest of 32, 48, 64, 96 and 128: 8% less CPU
-// than 32 on 8 runs of a 5,000-point mixture at θ = 0.8, 10% on one run of
-// 20,000 points (one machine, 2026-12-02; with four-lane AVX2 kernels 32
-// had been the fastest).
-// θ = 0 opens every cell (exact sums through the tree); larger θ is faster
-// and coarser. The tree is built sequentially from the points sorted by
-// Morton key (see build; 5,000 clustered points: 78 µs from the previous
-// order, 120 µs from scratch, against 140 µs for the recursive
-// quadrant-by-quadrant split it replaced); the per-point traversals run in
-// parallel over fixed chunks and Z is reduced in index order, so the bits
-// do not depend on the thread count. Cells stop splitting at depth 24,
-// which keeps coincident points (duplicates) in one leaf where they exert
-// no force on each other.
+// Cost per evaluation: O(N log N) for the tree and the walks plus
+// O(nnz(P)) for the attraction; memory O(N). The walks run in parallel
+// over fixed chunks and Z is reduced in index order, so the result does not
+// depend on the thread count. After the first call at a given N an
+// evaluation allocates nothing. A BarnesHut is not safe for concurrent use.
+// Measurements (accuracy by θ, leaf size, build time) are in
+// internal/scripts/bench/README.md.
 //
-// Cost per evaluation: O(N log N) for the tree and traversal plus O(nnz(P)).
+// References:
 //
-// References: L. van der Maaten, "Accelerating t-SNE using Tree-Based
-// Algorithms", JMLR 15, 2014; J. Barnes & P. Hut, "A hierarchical O(N log N)
-// force-calculation algorithm", Nature 324, 1986; J. E. Barnes, "A modified
-// tree code: don't laugh; it runs", J. Comp. Phys. 87, 1990.
+//	L. van der Maaten, "Accelerating t-SNE using Tree-Based Algorithms",
+//	JMLR 15, 2014.
+//	J. Barnes, P. Hut, "A hierarchical O(N log N) force-calculation
+//	algorithm", Nature 324, 1986.
+//	J. E. Barnes, "A modified tree code: don't laugh; it runs", J. Comp.
+//	Phys. 87, 1990.
 type BarnesHut struct {
 	theta float64
 	pool  *par.Pool
@@ -91,16 +80,11 @@ type bhScratch struct {
 
 var _ Gradient = (*BarnesHut)(nil)
 
-// DefaultTheta is the default Barnes-Hut opening angle. With the quadrupole
-// term and the group walk, this tree is far more accurate at a given θ than
-// the plain monopole tree of van der Maaten (2014): at θ = 0.5 its relative
-// RMS repulsion error on three digits layouts is 5.2e-5 to 5.4e-4, against
-// 6.1e-3 to 1.8e-2 for scikit-learn 1.2.1 at its default θ = 0.5. The
-// default is the largest θ in steps of 0.1 whose error stays at or below
-// scikit-learn's on all three layouts (0.8: 4.1e-4 to 4.1e-3; 0.9 exceeds
-// it on the compact layout, 8.2e-3; leaves of 64 points, 2026-12-02).
-// TestDefaultThetaAccuracy checks this against the fixture in
-// testdata/sklearn_bh.
+// DefaultTheta is the default Barnes-Hut opening angle: the largest θ, in
+// steps of 0.1, at which the repulsion is at least as accurate as
+// scikit-learn 1.2.1's Barnes-Hut at its default θ = 0.5 on the three
+// digits layouts of testdata/sklearn_bh (TestDefaultThetaAccuracy; the
+// errors are in internal/scripts/bench/README.md).
 const DefaultTheta = 0.8
 
 type bhNode struct {

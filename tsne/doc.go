@@ -50,15 +50,15 @@
 // its θ = 0.5) including a quadrupole correction, and
 // sums the attraction exactly over the stored entries of P. FFT (Linderman
 // et al. 2019) interpolates the repulsion onto an equispaced grid and
-// convolves by FFT. AutoMethod picks exact for N ≤ ExactMaxN (1,000), FFT
-// for N ≥ FFTMinN (50,000) and Barnes-Hut in between.
+// convolves by FFT. Choose, the one "auto" policy, picks exact for
+// N ≤ ExactMaxN and Barnes-Hut beyond; FFT runs when asked for.
 //
 // # Approximate neighbours
 //
 // ApproxNeighbors runs NN-descent (Dong, Charikar & Li 2011) from a forest
 // of random-projection trees (Dasgupta & Freund 2008) on a float32 copy of
-// the data, and reports exact float64 distances; Embed uses it from
-// ApproxAutoMinN (50,000) points when EmbedConfig.Neighbors is "auto".
+// the data, and reports exact float64 distances; "auto" (Choose) uses it
+// from ApproxNeighborsMinN points.
 //
 // # Determinism and threads
 //

@@ -17,8 +17,8 @@ type EmbedConfig struct {
 	// Seed drives every random choice (the random initialisation).
 	Seed uint64
 	// Neighbors selects the neighbour search: "exact" (ExactNeighbors),
-	// "approx" (ApproxNeighbors, seeded by Seed), or "" / "auto": exact for
-	// N < ApproxAutoMinN, approximate beyond.
+	// "approx" (ApproxNeighbors, seeded by Seed), or "" / "auto": as
+	// Choose decides.
 	Neighbors string
 }
 
@@ -41,24 +41,13 @@ func Embed(x []float64, n, d int, cfg EmbedConfig) (*Result, error) {
 	}
 	threads := resolveThreads(cfg.Threads)
 	k := NeighborCount(n, cfg.Perplexity)
-	var nb *Neighbors
-	var err error
-	switch cfg.Neighbors {
-	case "exact":
-		nb, err = ExactNeighbors(x, n, d, k, threads)
-	case "approx":
-		nb, err = ApproxNeighbors(x, n, d, k, cfg.Seed, threads)
-	}
+	nb, err := FindNeighbors(x, n, d, k, cfg.Neighbors, cfg.Seed, threads)
 	if err != nil {
 		return nil, fmt.Errorf("tsne: neighbours: %w", err)
 	}
 	// Large inputs are renumbered so that neighbours are near in memory;
 	// the initial layout follows and the result is put back in input order.
-	var order []int32
-	if n >= localityMinN {
-		order = LocalityOrder(nb)
-		nb.Renumber(order)
-	}
+	order := Localize(nb, localityMinN)
 	p, err := Affinities(nb, cfg.Perplexity, threads)
 	nb = nil
 	if err != nil {
@@ -117,16 +106,14 @@ func checkEmbedConfig(cfg *EmbedConfig, n, d, lenX int) error {
 	if cfg.Init == InitPCA && d < 2 {
 		return fmt.Errorf("tsne: PCA initialisation needs at least 2 features, got %d (use random initialisation)", d)
 	}
-	switch cfg.Neighbors {
-	case "", "auto":
-		cfg.Neighbors = "exact"
-		if n >= ApproxAutoMinN {
-			cfg.Neighbors = "approx"
-		}
-	case "exact", "approx":
-	default:
-		return fmt.Errorf("tsne: unknown neighbour search %q (want auto, exact or approx)", cfg.Neighbors)
+	s, err := ResolveNeighbors(cfg.Neighbors, n, d)
+	if err != nil {
+		return err
 	}
-	_, err := resolveConfig(cfg.Config, n)
+	cfg.Neighbors = s
+	if cfg.Method == "" || cfg.Method == MethodAuto {
+		cfg.Method = Choose(n, d).Method
+	}
+	_, err = resolveConfig(cfg.Config, n)
 	return err
 }

@@ -19,37 +19,28 @@ import (
 //	Σ_j K_ij (y_i − y_j)    = y_i φ_1 − (φ_x, φ_y)
 //	Z = Σ_{i≠j} (1 + d_ij²)⁻¹ = Σ_i [(1 + ‖y_i‖²) φ_1 − 2 y_i·(φ_x, φ_y) + φ_{x²+y²}] − N
 //
-// because (1 + d²)·(1 + d²)⁻² = (1 + d²)⁻¹. The potentials are computed by
-// spreading the charges onto an equispaced grid (the layout's bounding
-// square split into B×B intervals, 3 Lagrange nodes per interval, node
-// spacing h = side/(3B)), convolving with the kernel sampled on the grid by
-// a zero-padded 2-D FFT of size 6B×6B, and gathering the potentials back
-// with the same Lagrange weights. B is the smallest 3-smooth integer (so
-// the FFT length 6B factors into 2s and 3s) not below
-// max(MinIntervals, IntervalsPerUnit · side).
+// because (1 + d²)·(1 + d²)⁻² = (1 + d²)⁻¹. The charges are spread onto an
+// equispaced grid (the layout's bounding square split into B×B intervals,
+// Nodes Lagrange nodes per interval), convolved with the kernel sampled on
+// the grid by a zero-padded 2-D FFT (our batched Stockham transform,
+// checked against gonum's dsp/fourier), and gathered back with the same
+// weights; each point's interpolated self-interaction is removed exactly.
+// B is the smallest 3-smooth integer not below max(MinIntervals,
+// IntervalsPerUnit · side), at most about MaxIntervals; beyond that cap
+// the intervals widen with the layout and the error grows as h^Nodes for
+// interval width h.
 //
-// The 2-D transform is our own batched Stockham FFT (fftPlan), checked
-// against gonum's dsp/fourier in the tests: it transforms eight grid
-// columns at a time with contiguous inner loops and measured 9× faster
-// than gonum's one-sequence-at-a-time CmplxFFT at the grid's lengths
-// (BenchmarkFFTPlan). Channels are packed in pairs as re + i·im (the
-// kernel's transform is real, so the pairs never mix), zero columns and
-// rows of the padding are not transformed, and only the m×m block of
-// potentials that the points use is transformed back.
+// Accuracy at the defaults (4 nodes, 1.25 intervals per unit): relative
+// RMS repulsion error at most 5e-3 and Z within 1e-4 on converged layouts
+// below the cap (TestFFTDefaultAccuracy); the table the defaults were
+// chosen from is in internal/scripts/bench/README.md.
 //
-// Cost per evaluation: O(N + |P| + B² log B). Memory: O(N + B²); nothing
-// is N×N. Everything is float64: the grid is O(B²) whatever N is and the
-// per-point workspace is nine numbers, so float32 would save little and
-// cost accuracy.
-//
-// The evaluation is parallel over fixed tasks (blocks of 4096 points, grid
-// rows, columns) with sums reduced in task order, so results are
-// bit-identical for any thread count. Workspaces grow and are reused: after
-// the first call, further calls at the same N with a grid no larger than
-// any seen before allocate nothing. A larger grid or N reallocates once.
-//
-// Duplicate points are fine (the kernel is 1 at distance 0). An FFT is not
-// safe for concurrent use.
+// Cost per evaluation: O(N·Nodes² + nnz(P) + M² log M) for M = Nodes·B
+// grid nodes a side; memory O(N + M²). The work is split into fixed tasks
+// reduced in task order, so results are bit-identical for any thread
+// count; after the first call, calls at the same N with a grid no larger
+// than any seen before allocate nothing. Duplicate points are fine. An FFT
+// is not safe for concurrent use.
 //
 // References:
 //
@@ -62,8 +53,16 @@ type FFT struct {
 	// dimension. If it is 0, 50 is used (Linderman et al. 2019).
 	MinIntervals int
 	// IntervalsPerUnit is the number of intervals per unit of layout extent.
-	// If it is 0, 1 is used (Linderman et al. 2019).
+	// If it is 0, DefaultFFTIntervalsPerUnit is used.
 	IntervalsPerUnit float64
+	// Nodes is the number of Lagrange interpolation nodes per interval and
+	// dimension, 2 to 8. If it is 0, DefaultFFTNodes is used. A count that
+	// is not a product of 2s and 3s is rounded up to one (5 → 6, 7 → 8).
+	Nodes int
+	// MaxIntervals caps the intervals per dimension; beyond it the
+	// intervals widen with the layout. If it is 0, DefaultFFTMaxIntervals
+	// is used.
+	MaxIntervals int
 
 	threads int
 	pool    *par.Pool
@@ -84,8 +83,15 @@ func NewFFT(threads int) *FFT {
 	return g
 }
 
+// The defaults of FFT's grid (see FFT).
 const (
-	fftNodes     = 3    // Lagrange nodes per interval
+	DefaultFFTNodes            = 4
+	DefaultFFTIntervalsPerUnit = 1.25
+	DefaultFFTMaxIntervals     = 432
+)
+
+const (
+	fftMaxNodes  = 8    // most Lagrange nodes per interval
 	fftPointTask = 4096 // points per task
 )
 
@@ -101,12 +107,13 @@ type fftState struct {
 	// Bounding square.
 	x0, y0, h float64 // origin and interval width
 	nb        int     // intervals per dimension
-	m         int     // grid nodes per dimension (3·nb)
+	np        int     // Lagrange nodes per interval
+	m         int     // grid nodes per dimension (np·nb)
 	l         int     // padded FFT length (2m)
 	hl        int     // l/2 + 1
 	// Per point.
 	box   []int32   // interval index by·nb + bx
-	wts   []float64 // 6 per point: wx0..2, wy0..2
+	wts   []float64 // 2·np per point: wx0..np−1, wy0..np−1
 	order []int32   // points sorted by box (stable)
 	start []int32   // nb² + 1 box starts into order
 	rep   []float64 // 2 per point: y_i φ_1 − (φ_x, φ_y)
@@ -125,9 +132,11 @@ type fftState struct {
 
 	mins  []float64 // 4 per point task
 	zinv  float64
-	kself [3][3]float64 // kernel between nodes of one interval, [dy][dx] apart
-	kh    float64       // interval width of the kernel transform in khat
-	knb   int           // interval count of khat (0: none)
+	kself [fftMaxNodes * fftMaxNodes]float64 // kernel between nodes of one interval, [dy·np + dx] apart
+	lagT  [fftMaxNodes]float64               // node positions (c + ½)/np within an interval
+	lagD  [fftMaxNodes]float64               // 1 / Π_{e≠c} (t_c − t_e)
+	kh    float64                            // interval width of the kernel transform in khat
+	knb   int                                // interval count of khat (0: none)
 }
 
 type fftWorker struct {
@@ -222,15 +231,22 @@ func (g *FFT) Gradient(dst, y []float64, p *Sparse, exaggeration float64) ([]flo
 	if !(side > 1e-12) {
 		side = 1e-12 // all points coincide (or NaN): any grid will do
 	}
-	minB, perUnit := g.MinIntervals, g.IntervalsPerUnit
+	minB, perUnit, maxB, nodes := g.MinIntervals, g.IntervalsPerUnit, g.MaxIntervals, g.Nodes
 	if minB <= 0 {
 		minB = 50
 	}
 	if perUnit <= 0 {
-		perUnit = 1
+		perUnit = DefaultFFTIntervalsPerUnit
 	}
-	nb, h := fftIntervals(side, minB, perUnit)
-	s.setGrid(nb)
+	if maxB <= 0 {
+		maxB = DefaultFFTMaxIntervals
+	}
+	if nodes <= 0 {
+		nodes = DefaultFFTNodes
+	}
+	nodes = fftSmooth(min(max(nodes, 2), fftMaxNodes))
+	nb, h := fftIntervals(side, minB, perUnit, maxB)
+	s.setGrid(nb, nodes)
 	s.x0, s.y0, s.h = xmin, ymin, h
 	kernelStale := h != s.kh || nb != s.knb
 	if kernelStale {
@@ -239,7 +255,7 @@ func (g *FFT) Gradient(dst, y []float64, p *Sparse, exaggeration float64) ([]flo
 
 	// Per-point interval and Lagrange weights; counting sort by interval.
 	s.box = fftGrowI(s.box, n)
-	s.wts = fftGrowF(s.wts, 6*n)
+	s.wts = fftGrowF(s.wts, 2*s.np*n)
 	s.order = fftGrowI(s.order, n)
 	s.rep = fftGrowF(s.rep, 2*n)
 	g.pool.Run(ntask, s.fnPrep)
@@ -287,25 +303,20 @@ func (g *FFT) Gradient(dst, y []float64, p *Sparse, exaggeration float64) ([]flo
 	return dst, z
 }
 
-// fftMaxIntervals caps the grid (6·576 = 3456 points per side, 0.2 GB of
-// half-transformed grid); beyond it the intervals widen with the layout.
-// It is 3-smooth, so the cap is exact.
-const fftMaxIntervals = 576
-
 // fftIntervals returns the number of intervals per dimension and their
 // width for a layout whose bounding square has the given side. Once the
 // layout spans more than minB intervals of the nominal width 1/perUnit,
-// the count follows the extent, ⌈side·perUnit⌉ rounded up to a 3-smooth
-// number (at most fftMaxIntervals), and the width is side/count ≤
-// 1/perUnit. Below, minB (rounded up likewise) intervals are used and the
+// the count follows the extent, min(⌈side·perUnit⌉, maxB) rounded up to a
+// 3-smooth number, and the width is side/count (≤ 1/perUnit below the
+// cap). Below, minB (rounded up likewise) intervals are used and the
 // width is the smallest rung of the ladder 2^(j/16)/perUnit that covers
 // the layout (at most 4.4% wider than needed), which keeps the width, and
 // so the kernel's transform, unchanged over many iterations of the early,
 // compact phase.
-func fftIntervals(side float64, minB int, perUnit float64) (int, float64) {
+func fftIntervals(side float64, minB int, perUnit float64, maxB int) (int, float64) {
 	unit := 1 / perUnit
 	if side*perUnit > float64(minB) {
-		nb := fftSmooth(min(int(math.Ceil(side*perUnit)), fftMaxIntervals))
+		nb := fftSmooth(min(int(math.Ceil(side*perUnit)), max(maxB, minB)))
 		return nb, side / float64(nb)
 	}
 	nb := fftSmooth(minB)
@@ -318,15 +329,28 @@ func fftIntervals(side float64, minB int, perUnit float64) (int, float64) {
 	return nb, h
 }
 
-// setGrid sizes the grid workspaces for nb intervals per dimension
-// (3-smooth, so that the FFT length l = 6·nb is a product of 2s and 3s).
-func (s *fftState) setGrid(nb int) {
-	if nb == s.nb {
+// setGrid sizes the grid workspaces for nb intervals per dimension and np
+// nodes per interval (both 3-smooth, so that the FFT length l = 2·np·nb is
+// a product of 2s and 3s).
+func (s *fftState) setGrid(nb, np int) {
+	if nb == s.nb && np == s.np {
 		return
 	}
-	s.nb = nb
+	s.nb, s.np = nb, np
 	s.knb = 0 // kernel transform must be redone
-	s.m = fftNodes * nb
+	for c := 0; c < np; c++ {
+		s.lagT[c] = (float64(c) + 0.5) / float64(np)
+	}
+	for c := 0; c < np; c++ {
+		d := 1.0
+		for e := 0; e < np; e++ {
+			if e != c {
+				d *= s.lagT[c] - s.lagT[e]
+			}
+		}
+		s.lagD[c] = 1 / d
+	}
+	s.m = np * nb
 	s.l = 2 * s.m
 	s.hl = s.l/2 + 1
 	s.nsx = (s.m + fftBatch - 1) / fftBatch
@@ -348,12 +372,13 @@ func (s *fftState) setGrid(nb int) {
 // setLocal fills kself, the kernel between nodes of one interval dy rows
 // and dx columns apart.
 func (s *fftState) setLocal() {
-	h := s.h / fftNodes
-	for dy := 0; dy < 3; dy++ {
-		for dx := 0; dx < 3; dx++ {
+	np := s.np
+	h := s.h / float64(np)
+	for dy := 0; dy < np; dy++ {
+		for dx := 0; dx < np; dx++ {
 			rx, ry := float64(dx)*h, float64(dy)*h
 			d := 1 + rx*rx + ry*ry
-			s.kself[dy][dx] = 1 / (d * d)
+			s.kself[dy*np+dx] = 1 / (d * d)
 		}
 	}
 }
@@ -376,18 +401,30 @@ func (s *fftState) taskBounds(_, t int) {
 	s.mins[4*t], s.mins[4*t+1], s.mins[4*t+2], s.mins[4*t+3] = xmin, xmax, ymin, ymax
 }
 
-// fftLagrange3 returns the quadratic Lagrange weights of the nodes at
-// fractions 1/6, 1/2 and 5/6 of an interval for a point at fraction u.
-func fftLagrange3(u float64) (w0, w1, w2 float64) {
-	const t0, t1, t2 = 1.0 / 6, 0.5, 5.0 / 6
-	// Denominators: (t0−t1)(t0−t2) = 2/9, (t1−t0)(t1−t2) = −1/9, (t2−t0)(t2−t1) = 2/9.
-	a, b, c := u-t0, u-t1, u-t2
-	return b * c * 4.5, -a * c * 9, a * b * 4.5
+// lagrange writes into w the Lagrange weights of the np nodes at
+// fractions (c + ½)/np of an interval for a point at fraction u:
+//
+//	w_c(u) = Π_{e≠c} (u − t_e) / (t_c − t_e)
+func (s *fftState) lagrange(w []float64, u float64) {
+	np := s.np
+	var du [fftMaxNodes]float64
+	for e := 0; e < np; e++ {
+		du[e] = u - s.lagT[e]
+	}
+	for c := 0; c < np; c++ {
+		v := s.lagD[c]
+		for e := 0; e < np; e++ {
+			if e != c {
+				v *= du[e]
+			}
+		}
+		w[c] = v
+	}
 }
 
 func (s *fftState) taskPrep(_, t int) {
 	lo, hi := s.taskRange(t)
-	nb := s.nb
+	nb, np := s.nb, s.np
 	inv := 1 / s.h
 	for i := lo; i < hi; i++ {
 		fx := (s.y[2*i] - s.x0) * inv
@@ -406,19 +443,19 @@ func (s *fftState) taskPrep(_, t int) {
 			by = 0
 		}
 		s.box[i] = int32(by*nb + bx)
-		w := s.wts[6*i : 6*i+6 : 6*i+6]
-		w[0], w[1], w[2] = fftLagrange3(fx - float64(bx))
-		w[3], w[4], w[5] = fftLagrange3(fy - float64(by))
+		w := s.wts[2*np*i : 2*np*(i+1) : 2*np*(i+1)]
+		s.lagrange(w[:np], fx-float64(bx))
+		s.lagrange(w[np:], fy-float64(by))
 	}
 }
 
 // taskSpread spreads the charges of the points in interval row t onto the
-// three grid rows of that interval row. Points are visited in index order
+// np grid rows of that interval row. Points are visited in index order
 // within each interval, so the sums do not depend on scheduling.
 func (s *fftState) taskSpread(_, t int) {
-	m, nb := s.m, s.nb
+	m, nb, np := s.m, s.nb, s.np
 	ch := s.charge
-	clear(ch[4*3*t*m : 4*(3*t+3)*m])
+	clear(ch[4*np*t*m : 4*np*(t+1)*m])
 	// Charges use coordinates relative to the grid centre (shift
 	// invariance of the kernel) to keep x² + y² small.
 	cx := s.x0 + 0.5*s.h*float64(nb)
@@ -429,11 +466,11 @@ func (s *fftState) taskSpread(_, t int) {
 			i := int(ii)
 			x, y := s.y[2*i]-cx, s.y[2*i+1]-cy
 			q3 := x*x + y*y
-			w := s.wts[6*i : 6*i+6 : 6*i+6]
-			for a := 0; a < 3; a++ {
-				row := (3*t+a)*m + 3*bx
-				for c := 0; c < 3; c++ {
-					wc := w[3+a] * w[c]
+			w := s.wts[2*np*i : 2*np*(i+1) : 2*np*(i+1)]
+			for a := 0; a < np; a++ {
+				row := (np*t+a)*m + np*bx
+				for c := 0; c < np; c++ {
+					wc := w[np+a] * w[c]
 					k := 4 * (row + c)
 					q := ch[k : k+4 : k+4]
 					q[0] += wc
@@ -479,7 +516,7 @@ func (s *fftState) kernelAt(x, y int) float64 {
 	if dc == s.m || dr == s.m {
 		return 0
 	}
-	h := s.h / fftNodes
+	h := s.h / float64(s.np)
 	rx, ry := float64(dc)*h, float64(dr)*h
 	d := 1 + rx*rx + ry*ry
 	return 1 / (d * d)
@@ -641,7 +678,7 @@ func (s *fftState) taskColsInv(w, t int) {
 // writes the exact attraction into dst and the partial Z sum into zPart.
 func (s *fftState) taskGather(_, t int) {
 	lo, hi := s.taskRange(t)
-	m, nb := s.m, s.nb
+	m, nb, np := s.m, s.nb, s.np
 	pot := s.pot
 	cx := s.x0 + 0.5*s.h*float64(nb)
 	cy := s.y0 + 0.5*s.h*float64(nb)
@@ -651,12 +688,12 @@ func (s *fftState) taskGather(_, t int) {
 	for i := lo; i < hi; i++ {
 		b := int(s.box[i])
 		bx, by := b%nb, b/nb
-		w := s.wts[6*i : 6*i+6 : 6*i+6]
+		w := s.wts[2*np*i : 2*np*(i+1) : 2*np*(i+1)]
 		var f0, f1, f2, f3 float64
-		for a := 0; a < 3; a++ {
-			row := (3*by+a)*m + 3*bx
-			for c := 0; c < 3; c++ {
-				wc := w[3+a] * w[c]
+		for a := 0; a < np; a++ {
+			row := (np*by+a)*m + np*bx
+			for c := 0; c < np; c++ {
+				wc := w[np+a] * w[c]
 				k := 4 * (row + c)
 				q := pot[k : k+4 : k+4]
 				f0 += wc * q[0]
@@ -671,25 +708,35 @@ func (s *fftState) taskGather(_, t int) {
 		// with the same weights, so the i = j term cancels in Z:
 		// K̃_ii = Σ_{a,b} W_a W_b K(node_a − node_b) with W the tensor
 		// product of the x and y weights, which is
-		// Σ_{dx,dy ∈ 0..2} K(dx, dy)·Ax(dx)·Ay(dy), where A(d) sums the
+		// Σ_{dx,dy ∈ 0..np−1} K(dx, dy)·Ax(dx)·Ay(dy), where A(d) sums the
 		// products of weights d nodes apart (both orders).
-		ax0 := w[0]*w[0] + w[1]*w[1] + w[2]*w[2]
-		ax1 := 2 * (w[0]*w[1] + w[1]*w[2])
-		ax2 := 2 * (w[0] * w[2])
-		ay0 := w[3]*w[3] + w[4]*w[4] + w[5]*w[5]
-		ay1 := 2 * (w[3]*w[4] + w[4]*w[5])
-		ay2 := 2 * (w[3] * w[5])
-		k := &s.kself
-		self := ay0*(k[0][0]*ax0+k[0][1]*ax1+k[0][2]*ax2) +
-			ay1*(k[1][0]*ax0+k[1][1]*ax1+k[1][2]*ax2) +
-			ay2*(k[2][0]*ax0+k[2][1]*ax1+k[2][2]*ax2)
+		var ax, ay [fftMaxNodes]float64
+		for d := 0; d < np; d++ {
+			var sx, sy float64
+			for c := 0; c+d < np; c++ {
+				sx += w[c] * w[c+d]
+				sy += w[np+c] * w[np+c+d]
+			}
+			if d > 0 {
+				sx, sy = 2*sx, 2*sy
+			}
+			ax[d], ay[d] = sx, sy
+		}
+		var self float64
+		for dy := 0; dy < np; dy++ {
+			var r float64
+			for dx := 0; dx < np; dx++ {
+				r += s.kself[dy*np+dx] * ax[dx]
+			}
+			self += ay[dy] * r
+		}
 		zsum += (1+u*u+v*v)*f0 - 2*(u*f1+v*f2) + f3 - self
 		s.rep[2*i] = u*f0 - f1
 		s.rep[2*i+1] = v*f0 - f2
 		// Attraction: Σ_j p_ij (1 + d²)⁻¹ (y_i − y_j).
-		ax, ay := attraction(y, p, i, xi, yi)
-		s.dst[2*i] = ax
-		s.dst[2*i+1] = ay
+		fx, fy := attraction(y, p, i, xi, yi)
+		s.dst[2*i] = fx
+		s.dst[2*i+1] = fy
 	}
 	s.zPart[t] = zsum
 }

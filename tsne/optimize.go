@@ -24,7 +24,7 @@ type Config struct {
 	// If Iters is 0, 1000 is used.
 	Iters int
 	// Method selects the gradient. If Method is "" or MethodAuto,
-	// AutoMethod(N) is used.
+	// Choose(N, d).Method is used.
 	Method Method
 	// Theta is the Barnes-Hut opening angle. If Theta is 0, DefaultTheta
 	// is used.
@@ -80,7 +80,9 @@ type Result struct {
 	ExaggerationIters int
 	// Theta is the Barnes-Hut opening angle used (0 for other methods).
 	Theta float64
-	// Trace holds the KL every KLEvery iterations and after the last one.
+	// Trace holds the KL every KLEvery iterations, of the layout that
+	// iteration started from (as in Progress), and as its last point the
+	// KL of the final layout Y (the same value as KL), at Iter = Iters.
 	Trace []TracePoint
 }
 
@@ -161,7 +163,7 @@ func resolveConfig(cfg Config, n int) (resolved, error) {
 		r.Theta = DefaultTheta
 	}
 	r.Threads = resolveThreads(r.Threads)
-	m, err := resolveMethod(r.Method, n)
+	m, err := ResolveMethod(r.Method, n)
 	if err != nil {
 		return r, err
 	}
@@ -323,7 +325,8 @@ func (o *optimizer) step() (bool, error) {
 // KL values in Progress and Result.Trace are computed during iteration t
 // from the layout that iteration starts from, with the Z the gradient
 // returned, always against the unexaggerated P (so the trace is comparable
-// across the phase change). Result.KL is that of the final layout.
+// across the phase change). Result.KL is that of the final layout, and so
+// is the trace's last point.
 //
 // A non-finite gradient or layout stops the run with a *DivergedError
 // naming the iteration. If the Progress callback returns false, Optimize
@@ -357,6 +360,15 @@ func (o *optimizer) result() *Result {
 	} else {
 		_, z := o.grad.Gradient(o.g, o.y, o.p, 1)
 		kl = o.kl.kl(o.y, z)
+	}
+	// The trace ends with the final layout's KL (step recorded the layout
+	// the last iteration started from).
+	if o.iter > 0 {
+		if t := len(o.trace); t > 0 && o.trace[t-1].Iter == o.iter {
+			o.trace[t-1].KL = kl
+		} else {
+			o.trace = append(o.trace, TracePoint{Iter: o.iter, KL: kl})
+		}
 	}
 	res := &Result{
 		Y:                 o.y,

@@ -67,6 +67,7 @@ func TestOptimizeMatchesScikitLearn(t *testing.T) {
 	// (extent about 8) and in KL.
 	f := readOptimizerFixture(t)
 	p := gradTestDenseToSparse(f.P, f.N, false)
+	var lastKL float64 // Progress at the last iteration: the KL of the layout it started from
 	res, err := Optimize(p, f.Y0, Config{
 		Method:            MethodExact,
 		LearningRate:      f.LearningRate,
@@ -74,6 +75,12 @@ func TestOptimizeMatchesScikitLearn(t *testing.T) {
 		ExaggerationIters: f.ExaggerationIters,
 		Iters:             f.NIter,
 		Threads:           1,
+		Progress: func(pr Progress) bool {
+			if pr.Iter == f.NIter && pr.HaveKL {
+				lastKL = pr.KL
+			}
+			return true
+		},
 	})
 	if err != nil {
 		t.Fatal(err)
@@ -87,12 +94,17 @@ func TestOptimizeMatchesScikitLearn(t *testing.T) {
 		t.Errorf("layout: largest coordinate difference from scikit-learn got %.3g, want < 1e-8", worst)
 	}
 	// scikit-learn's kl_divergence_ is the KL of the layout before the last
-	// update; the trace's final point is that same quantity.
-	last := res.Trace[len(res.Trace)-1]
-	if last.Iter != f.NIter || !(math.Abs(last.KL-f.KL) < 1e-8) {
-		t.Errorf("KL at iteration %d: got %.12g, want %.12g (scikit-learn, iteration %d)", last.Iter, last.KL, f.KL, f.NIter)
+	// update, which is what Progress reports at the last iteration.
+	if !(math.Abs(lastKL-f.KL) < 1e-8) {
+		t.Errorf("KL at iteration %d: got %.12g, want %.12g (scikit-learn, iteration %d)", f.NIter, lastKL, f.KL, f.NIter)
 	}
-	t.Logf("max layout difference %.3g, KL %.10f vs %.10f", worst, last.KL, f.KL)
+	// The trace's last point is the final layout's KL (engine issue: a
+	// trace ends at the layout it returns), which the exact sum confirms.
+	last := res.Trace[len(res.Trace)-1]
+	if want := ExactKL(res.Y, p, 1); last.Iter != f.NIter || last.KL != res.KL || !(math.Abs(last.KL-want) <= 1e-12*want) {
+		t.Errorf("last trace point %+v, want iteration %d and KL %.12g (Result.KL %.12g)", last, f.NIter, want, res.KL)
+	}
+	t.Logf("max layout difference %.3g, KL %.10f vs %.10f", worst, lastKL, f.KL)
 }
 
 func TestLearningRateAuto(t *testing.T) {
@@ -234,7 +246,7 @@ func BenchmarkOptimizeStep(b *testing.B) {
 		sizes = append(sizes, 100000)
 	}
 	for _, n := range sizes {
-		for _, m := range []Method{MethodBarnesHut, MethodExact} {
+		for _, m := range []Method{MethodBarnesHut, MethodFFT, MethodExact} {
 			b.Run(string(m)+"/n="+itoa(n), func(b *testing.B) {
 				if m == MethodExact && n > 10000 {
 					b.Skip("exact gradient at 100k is impractical")

@@ -14,6 +14,7 @@ import (
 	"plumb/cmd/plumb/internal/demo"
 	"plumb/cmd/plumb/internal/report"
 	"plumb/internal/dataset"
+	"plumb/internal/words"
 	"plumb/sweep"
 )
 
@@ -75,7 +76,7 @@ func demoAction(c *cli.Context) error {
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
-	say("sweeping %d settings × %d seeds into %s", plan.NumSettings(), len(plan.Seeds), studyDir)
+	say("sweeping %s × %s into %s", words.Count(plan.NumSettings(), "setting"), words.Count(len(plan.Seeds), "seed"), studyDir)
 	sum, err := sweep.Execute(ctx, ds, plan, opt)
 	if err != nil {
 		return err

@@ -13,6 +13,7 @@ import (
 	"golang.org/x/term"
 
 	"plumb/internal/dataset"
+	"plumb/internal/words"
 	"plumb/sweep"
 	"plumb/tsne"
 )
@@ -124,10 +125,10 @@ func embedAction(c *cli.Context) error {
 		return err
 	}
 	if cfg.Method == "" || cfg.Method == tsne.MethodAuto {
-		cfg.Method = tsne.AutoMethod(data.N)
+		cfg.Method = tsne.Choose(data.N, data.D).Method
 	}
 	if !quiet {
-		fmt.Fprintf(stderr, "plumb: %d points × %d features, perplexity %g, gradient %s\n", data.N, data.D, cfg.Perplexity, cfg.Method)
+		fmt.Fprintf(stderr, "plumb: %s × %s, perplexity %g, gradient %s\n", words.Count(data.N, "point"), words.Count(data.D, "feature"), cfg.Perplexity, cfg.Method)
 	}
 	if !quiet && isTerminal(stderr) {
 		bar := &progressLine{w: stderr}
@@ -155,7 +156,7 @@ func embedAction(c *cli.Context) error {
 		return err
 	}
 	if !quiet {
-		fmt.Fprintf(stderr, "plumb: KL %.4f after %d iterations in %.2fs → %s\n", res.KL, res.Iters, secs, out)
+		fmt.Fprintf(stderr, "plumb: KL %.4f after %s in %.2fs → %s\n", res.KL, words.Count(res.Iters, "iteration"), secs, out)
 	}
 	return nil
 }

@@ -2,8 +2,10 @@ package main
 
 import (
 	"encoding/json"
+	"fmt"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -81,8 +83,28 @@ func TestEmbedCSVSidecar(t *testing.T) {
 		t.Fatal(err)
 	}
 	lines := strings.Split(strings.TrimSpace(string(b)), "\n")
-	if lines[0] != "id,x,y" || len(lines) != 151 {
-		t.Fatalf("got header %q and %d lines, want id,x,y and 151", lines[0], len(lines))
+	if lines[0] != "point,id,x,y" || len(lines) != 151 {
+		t.Fatalf("got header %q and %d lines, want point,id,x,y and 151", lines[0], len(lines))
+	}
+	// The CSV layout has the Parquet layout's columns and values (the
+	// README lists point, id, label, x, y for both).
+	pq := filepath.Join(t.TempDir(), "iris.parquet")
+	if _, stderr, code := plumb(t, "embed", "-q", "--input", "../../testdata/iris.csv", "--id-column", "id", "--columns", "sepal_length,sepal_width,petal_length,petal_width",
+		"--iters", "100", "--exaggeration-iters", "50", "--init", "random", "--seed", "7", "--out", pq); code != 0 {
+		t.Fatalf("parquet: exit %d %s", code, stderr)
+	}
+	tab, err := parquetio.Read(pq)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ids, _ := tab.String("id")
+	xs, _ := tab.Float64("x")
+	ys, _ := tab.Float64("y")
+	for i, line := range lines[1:] {
+		want := fmt.Sprintf("%d,%s,%s,%s", i, ids[i], strconv.FormatFloat(xs[i], 'g', -1, 64), strconv.FormatFloat(ys[i], 'g', -1, 64))
+		if line != want {
+			t.Fatalf("CSV row %d: got %q want %q (the Parquet layout's)", i+2, line, want)
+		}
 	}
 	var rec embedRecord
 	b, err = os.ReadFile(out + ".json")

@@ -21,6 +21,7 @@ import (
 	"time"
 
 	"plumb/internal/parquetio"
+	"plumb/internal/words"
 )
 
 // krBuild builds the plumb binary into a temporary directory.
@@ -304,7 +305,7 @@ func TestKillResume(t *testing.T) {
 		t.Fatalf("final resume: %v\n%s", err, out)
 	}
 	finished := len(prev)
-	if wantLine := fmt.Sprintf("%d runs done, 0 failed, %d already finished", krRuns-finished, finished); !strings.Contains(string(out), wantLine) {
+	if wantLine := fmt.Sprintf("%s done, 0 failed, %d already finished", words.Count(krRuns-finished, "run"), finished); !strings.Contains(string(out), wantLine) {
 		t.Errorf("final resume lacks %q:\n%s", wantLine, out)
 	}
 	for f, id := range prev {

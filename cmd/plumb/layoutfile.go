@@ -13,7 +13,7 @@ import (
 	"plumb/internal/parquetio"
 )
 
-// writeLayout writes one row per point (id, label when given, x, y) to out,
+// writeLayout writes one row per point (point, id, label when given, x, y) to out,
 // atomically, with the run description alongside: in the key-value metadata
 // of a Parquet file (key "plumb.run", JSON), in a sidecar out+".json" for CSV.
 func writeLayout(out, format string, data *dataset.Dataset, y []float64, rec embedRecord) error {
@@ -62,13 +62,15 @@ func writeLayout(out, format string, data *dataset.Dataset, y []float64, rec emb
 func writeLayoutCSV(w io.Writer, data *dataset.Dataset, y []float64) error {
 	bw := bufio.NewWriter(w)
 	if data.Labels != nil {
-		bw.WriteString("id,label,x,y\n")
+		bw.WriteString("point,id,label,x,y\n")
 	} else {
-		bw.WriteString("id,x,y\n")
+		bw.WriteString("point,id,x,y\n")
 	}
 	buf := make([]byte, 0, 64)
 	for i := 0; i < data.N; i++ {
-		buf = appendCSVField(buf[:0], data.IDs[i])
+		buf = strconv.AppendInt(buf[:0], int64(i), 10)
+		buf = append(buf, ',')
+		buf = appendCSVField(buf, data.IDs[i])
 		buf = append(buf, ',')
 		if data.Labels != nil {
 			buf = appendCSVField(buf, data.Labels[i])

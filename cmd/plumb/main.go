@@ -55,7 +55,10 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 // run executes the app and returns the process exit code.
 func run(args []string, stdout, stderr io.Writer) int {
 	app := newApp(stdout, stderr)
-	err := app.Run(args)
+	err := unknownCommand(args, commands)
+	if err == nil {
+		err = app.Run(flagsFirst(helpArgs(args), commands))
+	}
 	if err == nil {
 		return 0
 	}

@@ -510,7 +510,7 @@ func TestDamagedStudy(t *testing.T) {
 	rbOneError(t, code, stderr, 0, filepath.Base(lays[1]))
 	// Resuming the sweep redoes exactly that run and rewrites the layout.
 	_, stderr, code = plumb(t, append(args, "--quiet=false")...)
-	if code != 0 || !strings.Contains(stderr, "1 runs done, 0 failed, 2 already finished") {
+	if code != 0 || !strings.Contains(stderr, "1 run done, 0 failed, 2 already finished") {
 		t.Errorf("resume after damage: exit %d\n%s", code, stderr)
 	}
 	if _, err := parquetio.Read(lays[1]); err != nil {

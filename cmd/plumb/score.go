@@ -13,6 +13,7 @@ import (
 	"github.com/urfave/cli/v2"
 
 	"plumb/internal/dataset"
+	"plumb/internal/words"
 	"plumb/sweep"
 )
 
@@ -140,7 +141,7 @@ func scoreAction(c *cli.Context) error {
 	if err != nil {
 		return err
 	}
-	fmt.Fprintf(c.App.ErrWriter, "plumb: scored %d runs in %d settings (k=%d, %d pairs) in %s\n",
-		sum.Runs, sum.Settings, sum.K, sum.Pairs, time.Since(t0).Round(time.Millisecond))
+	fmt.Fprintf(c.App.ErrWriter, "plumb: scored %s in %s (k=%d, %s) in %s\n",
+		words.Count(sum.Runs, "run"), words.Count(sum.Settings, "setting"), sum.K, words.Count(sum.Pairs, "pair"), time.Since(t0).Round(time.Millisecond))
 	return nil
 }

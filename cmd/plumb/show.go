@@ -12,6 +12,7 @@ import (
 
 	"github.com/urfave/cli/v2"
 
+	"plumb/internal/words"
 	"plumb/stability"
 	"plumb/sweep"
 )
@@ -211,7 +212,7 @@ func showTable(w io.Writer, st *sweep.Study, rows []*settingRow) {
 			failed++
 		}
 	}
-	fmt.Fprintf(w, "study %s: plan %s, %d points, %d of %d runs done, %d failed", st.Dir, st.Info.PlanHash, st.Info.Input.N, done, len(st.Planned), failed)
+	fmt.Fprintf(w, "study %s: plan %s, %s, %d of %s done, %d failed", st.Dir, st.Info.PlanHash, words.Count(st.Info.Input.N, "point"), done, words.Count(len(st.Planned), "run"), failed)
 	if st.SettingScores != nil {
 		fmt.Fprintf(w, ", scored at k=%d\n", st.ScoresK)
 	} else if st.ScoresProblem != "" {

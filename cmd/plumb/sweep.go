@@ -4,8 +4,10 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"os/signal"
+	"strconv"
 	"strings"
 	"syscall"
 	"text/tabwriter"
@@ -14,6 +16,7 @@ import (
 	"github.com/urfave/cli/v2"
 
 	"plumb/internal/dataset"
+	"plumb/internal/words"
 	"plumb/sweep"
 )
 
@@ -129,16 +132,16 @@ func sweepAction(c *cli.Context) error {
 	}
 	st := sum.Stats
 	if !c.Bool("quiet") {
-		fmt.Fprintf(stderr, "plumb: %d runs done, %d failed, %d already finished, in %s (%s)\n",
-			st.Done, st.Failed, st.Skipped, sum.Elapsed.Round(time.Millisecond), shard)
+		fmt.Fprintf(stderr, "plumb: %s done, %d failed, %d already finished, in %s (%s)\n",
+			words.Count(st.Done, "run"), st.Failed, st.Skipped, sum.Elapsed.Round(time.Millisecond), shard)
 	}
 	if sum.Canceled {
 		return &exitError{code: 130, err: hintError{
-			err:  fmt.Errorf("interrupted: %d runs finished and kept, %d in flight discarded", st.Done+st.Failed, st.Stopped),
+			err:  fmt.Errorf("interrupted: %s finished and kept, %d in flight discarded", words.Count(st.Done+st.Failed, "run"), st.Stopped),
 			hint: "run the same command again to resume"}}
 	}
 	if st.Failed > 0 && !c.Bool("quiet") {
-		fmt.Fprintf(stderr, "plumb: warning: %d runs failed; their reasons are in %s (column error)\n", st.Failed, sweep.RunsFile)
+		fmt.Fprintf(stderr, "plumb: warning: %s failed; their reasons are in %s (column error)\n", words.Count(st.Failed, "run"), sweep.RunsFile)
 	}
 	if !sum.Complete {
 		if !c.Bool("quiet") {
@@ -181,8 +184,8 @@ func (e hintError) Hint() string  { return e.hint }
 
 func printOutline(w io.Writer, ds *dataset.Dataset, path string, shard sweep.Shard, o *sweep.Outline) {
 	p := o.Plan
-	fmt.Fprintf(w, "plan %s: %d settings × %d seeds = %d runs\n", o.PlanHash, len(o.Settings), len(p.Seeds), o.Runs)
-	fmt.Fprintf(w, "input: %s, %d points × %d features, fingerprint %.12s\n", path, ds.N, ds.D, ds.Fingerprint)
+	fmt.Fprintf(w, "plan %s: %s × %s = %s\n", o.PlanHash, words.Count(len(o.Settings), "setting"), words.Count(len(p.Seeds), "seed"), words.Count(o.Runs, "run"))
+	fmt.Fprintf(w, "input: %s, %s × %s, fingerprint %.12s\n", path, words.Count(ds.N, "point"), words.Count(ds.D, "feature"), ds.Fingerprint)
 	fmt.Fprintln(w, "settings:")
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, "  setting_id\tperplexity\tlearning_rate\texaggeration\texaggeration_iters\titers\tinit\tgradient")
@@ -198,10 +201,10 @@ func printOutline(w io.Writer, ds *dataset.Dataset, path string, shard sweep.Sha
 	} else {
 		fmt.Fprintf(w, "  neighbours: %s search, k=%d for the largest perplexity %g, truncated for the others\n", o.Neighbors, o.NeighborK, p.MaxPerplexity())
 		for _, a := range o.Affinities {
-			fmt.Fprintf(w, "  affinities P: perplexity %g (k=%d), shared by %d runs\n", a.Perplexity, a.K, a.Runs)
+			fmt.Fprintf(w, "  affinities P: perplexity %g (k=%d), shared by %s\n", a.Perplexity, a.K, words.Count(a.Runs, "run"))
 		}
 		if o.PCARuns > 0 {
-			fmt.Fprintf(w, "  PCA initialisation: once, shared by %d runs\n", o.PCARuns)
+			fmt.Fprintf(w, "  PCA initialisation: once, shared by %s\n", words.Count(o.PCARuns, "run"))
 		}
 	}
 	switch {
@@ -212,9 +215,24 @@ func printOutline(w io.Writer, ds *dataset.Dataset, path string, shard sweep.Sha
 	default:
 		fmt.Fprintln(w, "study directory: new")
 	}
-	fmt.Fprintf(w, "this process (%s): %d runs, %d finished, %d to do, %d jobs × %d threads\n", shard, o.InShard, o.Finished, o.Todo, o.Jobs, o.Threads)
-	fmt.Fprintf(w, "estimate: %s for %d gradient iterations (rough, from per-method costs measured on a 2-core machine)\n",
-		roundEstimate(o.Estimate), o.Iterations)
+	fmt.Fprintf(w, "this process (%s): %s, %d finished, %d to do, %s × %s\n", shard, words.Count(o.InShard, "run"), o.Finished, o.Todo, words.Count(o.Jobs, "job"), words.Count(o.Threads, "thread"))
+	e := o.Estimate.Seconds()
+	fmt.Fprintf(w, "estimate: %s for %d gradient iterations (%s s, likely %s s to %s s: wall time on an idle machine, scoring not included)\n",
+		roundEstimate(o.Estimate), o.Iterations, secs(e), secs(e/estimateError), secs(e*estimateError))
+}
+
+// estimateError is the factor either way within which
+// internal/scripts/bench/estimate_check.sh found the estimate of single-run
+// sweeps (see sweep's cost constants).
+const estimateError = 1.5
+
+// secs prints a number of seconds with two significant digits (at least
+// whole seconds).
+func secs(s float64) string {
+	if s >= 10 {
+		return strconv.FormatFloat(math.Round(s), 'f', -1, 64)
+	}
+	return strconv.FormatFloat(s, 'g', 2, 64)
 }
 
 func roundEstimate(d time.Duration) string {
@@ -316,7 +334,7 @@ func (p *progress) line() string {
 	} else if n == p.todo {
 		eta = "0s"
 	}
-	return fmt.Sprintf("%d/%d runs, %d failed, elapsed %s, ETA %s", n, p.todo, p.failed, fmtDur(p.elapsed), eta)
+	return fmt.Sprintf("%d/%d %s, %d failed, elapsed %s, ETA %s", n, p.todo, words.Noun(p.todo, "run"), p.failed, fmtDur(p.elapsed), eta)
 }
 
 func (p *progress) draw() {

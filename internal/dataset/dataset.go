@@ -11,6 +11,8 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+
+	"plumb/internal/words"
 )
 
 // Dataset is a table of N points with D numeric features, read from a file.
@@ -321,7 +323,7 @@ func (d *Dataset) CheckPerplexity(perplexity float64) error {
 		return &InputError{File: d.Source, Msg: fmt.Sprintf("perplexity must be at least 1 (it is the exponential of an entropy), got %g", perplexity)}
 	}
 	if d.N < 2 {
-		return &InputError{File: d.Source, Msg: fmt.Sprintf("%d point(s) is too few for t-SNE: at least 2 are needed, and n − 1 ≥ 3·perplexity", d.N)}
+		return &InputError{File: d.Source, Msg: fmt.Sprintf("%s %s too few for t-SNE: at least 2 are needed, and n − 1 ≥ 3·perplexity", words.Count(d.N, "point"), map[bool]string{true: "is", false: "are"}[d.N == 1])}
 	}
 	if float64(d.N-1) < 3*perplexity {
 		return &InputError{File: d.Source, Msg: fmt.Sprintf("%d points are too few for perplexity %g: t-SNE needs n − 1 ≥ 3·perplexity, so the largest perplexity allowed is %g",

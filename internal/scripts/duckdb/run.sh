@@ -18,3 +18,4 @@ if [ -z "$study" ]; then
     --out "$study" --perplexity 5,15 --init pca,random --seeds 3 --iters 200 --exaggeration-iters 50
 fi
 PLUMB="$tmp/plumb" node "$here/check.mjs" "$study"
+PLUMB="$tmp/plumb" node "$here/readme.mjs" "$root/README.md" "$study"

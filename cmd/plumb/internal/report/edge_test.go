@@ -51,7 +51,7 @@ func TestWriteEdgeCases(t *testing.T) {
 				nan := stability.MedianIQR{Median: math.NaN(), IQR: math.NaN()}
 				x.Disparity, x.Jaccard, x.Trustworthiness, x.KL = nan, nan, nan, nan
 			},
-			want: []string{"no finished runs", "0 finished run(s); agreement across seeds needs two"},
+			want: []string{"no finished runs", "0 runs finished; agreement across seeds needs two"},
 		},
 		{
 			name: "single setting, single seed: no recommendation",

@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"plumb/cmd/plumb/internal/studyview"
+	"plumb/internal/words"
 	"plumb/stability"
 )
 
@@ -94,14 +95,14 @@ func Methods(st *studyview.View, rec *Recommendation) []string {
 	}
 	var b strings.Builder
 	fmt.Fprintf(&b, "Two-dimensional maps were computed with t-SNE (van der Maaten & Hinton, 2008) using %s %s. ", tool, st.Version)
-	fmt.Fprintf(&b, "The input (%s) has n = %d points and d = %d features (preprocessing: %s; input fingerprint %s). ",
-		nonEmpty(st.Input.Path, "file not recorded"), st.Input.N, st.Input.D, pre, shortHash(st.Input.Fingerprint))
+	fmt.Fprintf(&b, "The input (%s) has n = %s and d = %s (preprocessing: %s; input fingerprint %s). ",
+		nonEmpty(st.Input.Path, "file not recorded"), words.Count(st.Input.N, "point"), words.Count(st.Input.D, "feature"), pre, shortHash(st.Input.Fingerprint))
 	if len(varied) > 0 {
 		fmt.Fprintf(&b, "We ran every combination of %s", strings.Join(varied, " × "))
 	} else {
 		b.WriteString("We ran a single setting")
 	}
-	fmt.Fprintf(&b, " (%d setting%s), each with %d seed%s (%s): %d runs, of which %d finished", len(st.Settings), plural(len(st.Settings)), len(st.Seeds), plural(len(st.Seeds)), seedList(st.Seeds), len(st.Runs), done)
+	fmt.Fprintf(&b, " (%s), each with %s (%s): %s, of which %d finished", words.Count(len(st.Settings), "setting"), words.Count(len(st.Seeds), "seed"), seedList(st.Seeds), words.Count(len(st.Runs), "run"), done)
 	if failed > 0 {
 		fmt.Fprintf(&b, " and %d failed", failed)
 	}
@@ -117,7 +118,7 @@ func Methods(st *studyview.View, rec *Recommendation) []string {
 	fmt.Fprintf(&b, "The gradient was computed by %s. ", nonEmpty(st.Gradient, "the method recorded per run"))
 	fmt.Fprintf(&b, "The runs of each setting were aligned by generalised Procrustes analysis (Gower, 1975); agreement between seeds was measured by the Procrustes disparity of each pair of runs (the scipy.spatial.procrustes convention, 0 = identical up to rotation, reflection, scale and shift) and by the Jaccard overlap of each point's k = %d nearest neighbours in the two maps; faithfulness to the input by trustworthiness (Venna & Kaski, 2001) with the same k", st.K)
 	if st.Sampled > 0 && st.Sampled < st.Input.N {
-		fmt.Fprintf(&b, ", on a fixed sample of %d points", st.Sampled)
+		fmt.Fprintf(&b, ", on a fixed sample of %s", words.Count(st.Sampled, "point"))
 	}
 	b.WriteString(". ")
 	dlo, dhi := scoreRange(st, func(s *studyview.Setting) stability.MedianIQR { return s.Disparity })
@@ -161,18 +162,37 @@ func MethodsMarkdown(st *studyview.View, rec *Recommendation) string {
 		b.WriteString("\n\n")
 	}
 	b.WriteString("## References\n\n")
-	for _, r := range references {
+	for _, r := range Cited(b.String()) {
 		b.WriteString("- " + r + "\n")
 	}
 	return b.String()
 }
 
-var references = []string{
-	"van der Maaten, L. & Hinton, G. Visualizing Data using t-SNE. Journal of Machine Learning Research 9, 2579–2605 (2008).",
-	"Belkina, A. C. et al. Automated optimized parameters for T-distributed stochastic neighbor embedding improve visualization and analysis of large datasets. Nature Communications 10, 5415 (2019).",
-	"Gower, J. C. Generalized Procrustes analysis. Psychometrika 40, 33–51 (1975).",
-	"Venna, J. & Kaski, S. Neighborhood preservation in nonlinear projection methods: an experimental study. ICANN 2001.",
-	"Wattenberg, M., Viégas, F. & Johnson, I. How to Use t-SNE Effectively. Distill (2016).",
+// reference is one entry of methods.md's reference list and the citation
+// that calls it in the text ("(Gower, 1975)" is cited as "Gower, 1975").
+type reference struct{ cite, entry string }
+
+var references = []reference{
+	{"van der Maaten & Hinton, 2008", "van der Maaten, L. & Hinton, G. Visualizing Data using t-SNE. Journal of Machine Learning Research 9, 2579–2605 (2008)."},
+	{"van der Maaten, 2014", "van der Maaten, L. Accelerating t-SNE using Tree-Based Algorithms. Journal of Machine Learning Research 15, 3221–3245 (2014)."},
+	{"Linderman et al., 2019", "Linderman, G. C., Rachh, M., Hoskins, J. G., Steinerberger, S. & Kluger, Y. Fast interpolation-based t-SNE for improved visualization of single-cell RNA-seq data. Nature Methods 16, 243–245 (2019)."},
+	{"Belkina et al., 2019", "Belkina, A. C. et al. Automated optimized parameters for T-distributed stochastic neighbor embedding improve visualization and analysis of large datasets. Nature Communications 10, 5415 (2019)."},
+	{"Gower, 1975", "Gower, J. C. Generalized Procrustes analysis. Psychometrika 40, 33–51 (1975)."},
+	{"Venna & Kaski, 2001", "Venna, J. & Kaski, S. Neighborhood preservation in nonlinear projection methods: an experimental study. ICANN (2001)."},
+	{"", "Wattenberg, M., Viégas, F. & Johnson, I. How to Use t-SNE Effectively. Distill (2016)."},
+}
+
+// Cited returns the reference entries for the citations in text, in the
+// list's order; entries without a citation (the reading notes' source) are
+// always listed.
+func Cited(text string) []string {
+	var out []string
+	for _, r := range references {
+		if r.cite == "" || strings.Contains(text, r.cite) {
+			out = append(out, r.entry)
+		}
+	}
+	return out
 }
 
 // Cautions are the reading notes shown on every report.
@@ -197,13 +217,6 @@ func shortHash(h string) string {
 		return h[:12] + "…"
 	}
 	return nonEmpty(h, "not recorded")
-}
-
-func plural(n int) string {
-	if n == 1 {
-		return ""
-	}
-	return "s"
 }
 
 func contains(v []string, s string) bool {

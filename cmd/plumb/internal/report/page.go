@@ -102,7 +102,7 @@ type cellView struct {
 func page(st *studyview.View, rec *Recommendation, recErr error, figs []*Figure, methods []string, data *pageData) ([]byte, error) {
 	v := pageView{Tool: nonEmpty(st.Tool, "plumb"), Version: st.Version, Created: nonEmpty(st.Created, "(time not recorded)"),
 		N: st.Input.N, D: st.Input.D, NSettings: len(st.Settings), NSeeds: len(st.Seeds), NRuns: len(st.Runs),
-		Rule: rec0(rec).Words(), Cautions: Cautions, Methods: methods, References: references,
+		Rule: rec0(rec).Words(), Cautions: Cautions, Methods: methods, References: Cited(strings.Join(methods, " ")),
 		Fingerprint: nonEmpty(st.Input.Fingerprint, "not recorded"), PlanHash: nonEmpty(st.PlanHash, "not recorded"),
 		DPI: pngDPI, Width: fmt.Sprintf("two-column (%.0f mm)", fullWidth/72*25.4), TextPt: fmt.Sprintf("%g–%g", tickSize, titleSize),
 		CSS: template.CSS(pageCSS), TableJS: template.JS(tableJS), MapsJS: template.JS(mapsJS)}

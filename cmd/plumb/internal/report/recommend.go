@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"math"
 	"sort"
+
+	"plumb/internal/words"
 )
 
 // Candidate is one row of the score table the recommendation rule reads:
@@ -101,7 +103,7 @@ func Recommend(cands []Candidate, rule Rule) (*Recommendation, error) {
 	for _, c := range cands {
 		switch {
 		case c.Runs < 2:
-			rec.Excluded = append(rec.Excluded, Exclusion{c.ID, fmt.Sprintf("%d finished run(s); agreement across seeds needs two", c.Runs)})
+			rec.Excluded = append(rec.Excluded, Exclusion{c.ID, fmt.Sprintf("%s finished; agreement across seeds needs two", words.Count(c.Runs, "run"))})
 		case !finite(c.Trustworthiness):
 			rec.Excluded = append(rec.Excluded, Exclusion{c.ID, "trustworthiness not available"})
 		case !finite(c.Disparity) || !finite(c.Jaccard):

@@ -7,6 +7,7 @@ import (
 	"strconv"
 	"strings"
 
+	"plumb/internal/words"
 	"plumb/stability"
 	"plumb/sweep"
 )
@@ -74,11 +75,11 @@ func (b *viewBuilder) input() {
 	pre := "none"
 	switch {
 	case in.Standardize && in.PCA > 0:
-		pre = fmt.Sprintf("each column standardised, then PCA to %d components", in.PCA)
+		pre = fmt.Sprintf("each column standardised, then PCA to %s", words.Count(in.PCA, "component"))
 	case in.Standardize:
 		pre = "each column standardised to mean 0, standard deviation 1"
 	case in.PCA > 0:
-		pre = fmt.Sprintf("PCA to %d components", in.PCA)
+		pre = fmt.Sprintf("PCA to %s", words.Count(in.PCA, "component"))
 	}
 	b.v.Input = Input{Path: in.Path, Fingerprint: in.Fingerprint, N: in.N, D: in.D, Columns: in.Columns,
 		IDColumn: in.IDColumn, LabelColumn: in.LabelColumn, Preprocessing: pre}
