@@ -47,6 +47,13 @@
 // average of the runs only where they agree (ConsensusAgrees). SeedsNeeded
 // states how many seeds a stability reading needs.
 //
+// Whether two sets of runs of one setting differ — a baseline and tonight's
+// runs, say — is a question about pair scores: CompareSets measures how
+// much less alike runs of different sets are than runs of one set, and
+// judges the shift against every relabelling of the runs into the two sets
+// (a permutation test, exact under the hypothesis that the runs are
+// exchangeable, whatever their distribution).
+//
 // Every score is deterministic: random choices are seeded by the caller,
 // parallel loops use fixed chunks, and neighbour ties are broken by the
 // smaller point index.
@@ -94,6 +101,12 @@
 //     Applied Mathematics 20:53–65, 1987.
 //   - L. Kaufman and P. J. Rousseeuw, Finding Groups in Data: An
 //     Introduction to Cluster Analysis, Wiley, 1990.
+//   - R. A. Fisher, The Design of Experiments, Oliver & Boyd, 1935.
+//   - G. J. Székely and M. L. Rizzo, "Testing for equal distributions in
+//     high dimension", InterStat 5, 2004.
+//   - B. Phipson and G. K. Smyth, "Permutation p-values should never be
+//     zero", Statistical Applications in Genetics and Molecular Biology
+//     9(1), 2010.
 //   - J. L. Bentley, "Multidimensional binary search trees used for
 //     associative searching", Communications of the ACM 18(9):509–517, 1975.
 package stability

@@ -186,3 +186,28 @@ func ExampleDistanceRanks() {
 	fmt.Printf("stretched %.4f, moved %.4f, over %d pairs (all: %v)\n", same.Value, moved.Value, moved.Pairs, moved.All)
 	// Output: stretched 1.0000, moved 0.7727, over 6 pairs (all: true)
 }
+
+// Four runs, two in each set: runs 0 and 1 (the baseline) lie close
+// together, as do runs 2 and 3, but the two sets lie apart. Pair scores are
+// distances between the runs (a dissimilarity). Of the 6 relabelings, the
+// observed one and its mirror give the largest shift, so p = 2/6, the
+// smallest possible with 2 and 2 runs.
+func ExampleCompareSets() {
+	pos := []float64{0, 0.1, 1, 1.1}
+	n := len(pos)
+	score := make([]float64, n*n)
+	for i := range pos {
+		for j := range pos {
+			score[i*n+j] = math.Abs(pos[i] - pos[j])
+		}
+	}
+	res, err := stability.CompareSets(score, []bool{false, false, true, true}, false, 1)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Printf("within %.2f and %.2f, across %.2f, shift %.2f, p = %.3f (smallest %.3f of %d relabelings)\n",
+		res.WithinA, res.WithinB, res.Across, res.Shift, res.P, res.PMin, res.Relabelings)
+	// Output:
+	// within 0.10 and 0.10, across 1.00, shift 0.90, p = 0.333 (smallest 0.333 of 6 relabelings)
+}

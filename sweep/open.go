@@ -47,6 +47,11 @@ type RunScore struct {
 	LabelAccuracy, LabelPurity                               float64
 	K, Sampled                                               int
 	KL                                                       float64
+	// RNXAUC is the area under the R_NX(K) curve on a log-K axis (Lee &
+	// Verleysen 2009), averaged over RNXQueries query points; NaN when
+	// undefined (a collapsed layout).
+	RNXAUC     float64
+	RNXQueries int
 	// Points is the number of points the run embeds (n, or its
 	// subsample's size); its faithfulness is to those points' input.
 	Points int
@@ -63,9 +68,28 @@ type SettingScore struct {
 	// Across runs: faithfulness scores and final KL.
 	Trustworthiness, Continuity, KNNRecall, DistanceSpearman stability.MedianIQR
 	LabelAccuracy, LabelPurity, KL                           stability.MedianIQR
-	// UnstableShare is the fraction of points flagged unstable (among
-	// the points held by at least two runs).
+	// RNXAUC is the R_NX AUC across runs; CoAssignment the per-point
+	// co-assignment score across points (NaN when not measured).
+	RNXAUC, CoAssignment stability.MedianIQR
+	// UnstableShare is the share of the points with a co-assignment score
+	// that are flagged unstable (score < 0.75); NaN when not measured.
 	UnstableShare float64
+	// MedoidRun is the run with the least total disparity to the others
+	// (the setting's picture); "" without finished runs. Clusters is the
+	// number of map clusters in it (−1 when not clustered).
+	MedoidRun string
+	Clusters  int
+	// Arrangements is the number of distinct arrangements of the runs
+	// (stability.Arrange), 0 when not measured; ArrangementSizes their run
+	// counts ("3+2"), Bimodal whether there are two or more.
+	Arrangements     int
+	ArrangementSizes string
+	Bimodal          bool
+	// ConsensusShown says whether the averaged consensus may be shown
+	// beside the medoid (stability.ConsensusAgrees); ConsensusNote why
+	// not.
+	ConsensusShown bool
+	ConsensusNote  string
 	// Varied says what differed between the setting's runs: "seed",
 	// "subsample", "seed+subsample", or "" when nothing did (see Varied;
 	// also "" when its runs turned out bit-identical). With "" the
@@ -79,11 +103,21 @@ type SettingScore struct {
 
 // PointScore is one row of scores/points.parquet.
 type PointScore struct {
-	SettingID              string
-	Point                  int
-	ID                     string
-	Spread                 float64
-	Unstable               bool
+	SettingID string
+	Point     int
+	ID        string
+	// CoAssignment is the point's co-assignment score (NaN when not
+	// measured) and Unstable its flag (score < 0.75).
+	CoAssignment float64
+	Unstable     bool
+	// Spread is the RMS distance from the consensus over the consensus RMS
+	// radius (global placement); SpreadFlagged is Spread > the spread
+	// threshold.
+	Spread        float64
+	SpreadFlagged bool
+	// Cluster is the point's map cluster in the medoid run (−1: noise or
+	// not clustered).
+	Cluster                int
 	ConsensusX, ConsensusY float64
 	// Runs is the number of the setting's compared runs that hold the
 	// point (all of them without subsampling); Spread is NaN below 2.
@@ -116,6 +150,8 @@ type Study struct {
 	SettingScores []SettingScore
 	Points        []PointScore
 	Pairs         []PairScore
+	Clusters      []ClusterScore
+	Labels        []LabelScore
 	ScoresK       int
 	// ScoresProblem is set, and the score tables above left nil, when
 	// scores/ holds tables that do not form one scoring of this study (a
@@ -141,7 +177,7 @@ func Open(dir string) (*Study, error) {
 	runsPath := filepath.Join(dir, RunsFile)
 	if _, err := os.Stat(runsPath); err == nil {
 		if st.Rows, err = readRunsTable(runsPath); err != nil {
-			return nil, err
+			return nil, &RebuildError{Dir: dir, Err: err}
 		}
 	} else {
 		for _, r := range st.Planned {
@@ -156,6 +192,21 @@ func Open(dir string) (*Study, error) {
 		return nil, err
 	}
 	return st, nil
+}
+
+// RebuildError reports a damaged derived table that `plumb score` rebuilds
+// from the run records.
+type RebuildError struct {
+	Dir string
+	Err error
+}
+
+func (e *RebuildError) Error() string { return e.Err.Error() }
+func (e *RebuildError) Unwrap() error { return e.Err }
+
+// Hint says how to repair the table.
+func (e *RebuildError) Hint() string {
+	return "run `plumb score " + e.Dir + "`: it rebuilds " + RunsFile + " from records/"
 }
 
 func rowFromRecord(r *Run, rec *Record) RunRow {
@@ -202,6 +253,14 @@ func (c *colReader) f64(name string) []float64 {
 		return out
 	}
 	return v
+}
+
+// nullStr returns v[i], or "" when the named column is null there.
+func (c *colReader) nullStr(name string, i int, v []string) string {
+	if col := c.t.Column(name); col == nil || col.IsNull(i) || i >= len(v) {
+		return ""
+	}
+	return v[i]
 }
 func (c *colReader) i32(name string) []int32 {
 	v, err := c.t.Int32(name)

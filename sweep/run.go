@@ -37,6 +37,11 @@ type Options struct {
 	// RetryFailed redoes runs recorded as failed; by default they count
 	// as finished.
 	RetryFailed bool
+	// Lock is the caller's lock on the study (LockStudy with the same
+	// Shard, exclusive with Force); if it is nil, Execute takes one itself
+	// for its duration. When every run is finished a shared lock is
+	// upgraded (Lock.Upgrade) to rebuild runs.parquet.
+	Lock *Lock
 	// Events, if not nil, receives what the sweep does (shared work,
 	// finished and failed runs). It is called from one goroutine at a time.
 	Events func(Event)
@@ -110,8 +115,17 @@ type Result struct {
 	// Canceled is true when the context was cancelled before all runs of
 	// the shard finished.
 	Canceled bool
-	Elapsed  time.Duration
+	// Busy is true when every run is finished but other processes still
+	// held the study, so this shard left runs.parquet and scoring to them
+	// (or to Score).
+	Busy    bool
+	Elapsed time.Duration
 }
+
+// upgradeWait is how long a shard that finds every run finished waits for
+// the other shards to let go of the study before it leaves the shared
+// tables to them.
+var upgradeWait = 5 * time.Second
 
 // SmallN is the largest n for which DefaultParallelism runs one
 // single-threaded run per core; beyond it runs are multi-threaded.
@@ -511,11 +525,21 @@ func Execute(ctx context.Context, ds *dataset.Dataset, plan *Plan, opt Options) 
 	if info.Input.Fingerprint != ds.Fingerprint || info.Input.N != ds.N {
 		return nil, fmt.Errorf("sweep: Options.Input does not describe the dataset")
 	}
-	tempAge := staleAge
-	if opt.Shard.Whole() {
-		tempAge = 0 // the only writer of the study: every temp file is a kill's leftover
+	// One writer at a time (see LockStudy): the caller's lock, or our own.
+	lock := opt.Lock
+	if lock == nil {
+		if lock, err = LockStudy(opt.Dir, opt.Shard, opt.Force, "sweep.Execute"); err != nil {
+			return nil, err
+		}
+		defer lock.Release()
 	}
-	if err := prepare(opt.Dir, info, runs, opt.Force, tempAge); err != nil {
+	unlock, err := lock.setup()
+	if err != nil {
+		return nil, err
+	}
+	err = prepare(opt.Dir, info, runs, opt.Force, lock.Exclusive())
+	unlock()
+	if err != nil {
 		return nil, err
 	}
 	mine := opt.Shard.Select(runs)
@@ -626,7 +650,17 @@ func Execute(ctx context.Context, ds *dataset.Dataset, plan *Plan, opt Options) 
 			break
 		}
 	}
-	if sum.Complete || opt.Shard.Whole() {
+	if sum.Complete && !lock.Exclusive() {
+		// The shared tables need the study to ourselves; the other shards
+		// are finishing (or a reader is reading). If they keep it, the
+		// last of them, or `plumb score`, rebuilds and scores.
+		if lock.Upgrade(upgradeWait) {
+			cleanStudyTemps(opt.Dir, 0)
+		} else {
+			sum.Busy = true
+		}
+	}
+	if lock.Exclusive() && (sum.Complete || opt.Shard.Whole()) {
 		if _, err := writeRunsTable(opt.Dir, info, runs); err != nil {
 			return sum, err
 		}

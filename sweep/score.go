@@ -2,6 +2,7 @@ package sweep
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 
@@ -29,15 +30,41 @@ type ScoreOptions struct {
 	// Threads bounds the goroutines. If Threads is 0, GOMAXPROCS is used.
 	// Results do not depend on it.
 	Threads int
-	// SpreadThreshold flags a point as unstable when its spread exceeds
-	// it. If it is 0, stability.DefaultSpreadThreshold is used.
+	// SpreadThreshold sets a point's spread_flagged when its spread
+	// exceeds it. If it is 0, stability.DefaultSpreadThreshold is used.
 	SpreadThreshold float64
+	// Lock is the caller's exclusive lock on the study (LockStudy); if it
+	// is nil, Score takes one itself for its duration.
+	Lock *Lock
+	// RNXQueries is the number of query points of each run's R_NX curve.
+	// If it is 0, DefaultRNXQueries is used; a negative value makes every
+	// ranked point a query.
+	RNXQueries int
 }
 
 // ScoreResult counts the rows written by Score.
 type ScoreResult struct {
 	Runs, Settings, Points, Pairs int
+	Clusters, Labels              int
 	K                             int
+	// Planned counts the plan's runs; Unfinished lists those without a
+	// valid record (not run yet, interrupted, or their record deleted),
+	// which the tables leave out.
+	Planned    int
+	Unfinished []string
+}
+
+// CheckK checks a neighbourhood size against n points: the neighbour
+// scores need 1 ≤ k < n/2 (the k map neighbours and the k input neighbours
+// of a point must be able to differ).
+func CheckK(k, n int) error {
+	if k < 1 {
+		return fmt.Errorf("k = %d: must be at least 1", k)
+	}
+	if k > (n-1)/2 {
+		return fmt.Errorf("k = %d is too large for %d points: k must be below n/2, so at most %d", k, n, max((n-1)/2, 0))
+	}
+	return nil
 }
 
 // Score (re)computes the score tables of the study in dir from its
@@ -76,14 +103,14 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 		return nil, fmt.Errorf("score: %w", err)
 	}
 	if ds.Fingerprint != info.Input.Fingerprint {
-		return nil, &MismatchError{Dir: dir, What: "input", Have: "fingerprint " + short(info.Input.Fingerprint), Want: "fingerprint " + short(ds.Fingerprint)}
+		return nil, &MismatchError{Dir: dir, What: "input", Have: "fingerprint " + short(info.Input.Fingerprint), Want: "fingerprint " + short(ds.Fingerprint), Scoring: true}
 	}
 	k := opt.K
 	if k == 0 {
 		k = DefaultK
 	}
-	if k < 1 || 2*k >= ds.N {
-		return nil, fmt.Errorf("score: k = %d must be at least 1 and below n/2 = %d", k, ds.N/2)
+	if err := CheckK(k, ds.N); err != nil {
+		return nil, fmt.Errorf("score: %w", err)
 	}
 	if f := info.Plan.MinFraction(); f < 1 {
 		if m := SubsampleSize(ds.N, f); 2*k >= m {
@@ -94,9 +121,26 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 	if err != nil {
 		return nil, fmt.Errorf("score: %w", err)
 	}
-	// Another process may be scoring this study at the same moment (two
-	// shards finishing together): remove only stale temporary files.
-	cleanStudyTemps(dir, staleAge)
+	// One writer at a time: the caller's exclusive lock, or our own.
+	lock := opt.Lock
+	if lock == nil {
+		if lock, err = LockStudy(dir, Shard{}, true, "sweep.Score"); err != nil {
+			return nil, err
+		}
+		defer lock.Release()
+	} else if !lock.Exclusive() {
+		return nil, errors.New("score: the study must be locked exclusively (sweep.LockStudy)")
+	}
+	// The only writer: every temporary file is a killed process's.
+	cleanStudyTemps(dir, 0)
+	cov := coverageOf(dir, info, runs)
+	info.covers = cov.String()
+	var unfinished []string
+	for _, r := range runs {
+		if _, err := readRecord(dir, info, r); err != nil {
+			unfinished = append(unfinished, r.ID)
+		}
+	}
 	if _, err := writeRunsTable(dir, info, runs); err != nil {
 		return nil, fmt.Errorf("score: %w", err)
 	}
@@ -119,6 +163,8 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 		settings  []SettingScore
 		points    []PointScore
 		pairs     []PairScore
+		clusters  []ClusterScore
+		labels    []LabelScore
 	)
 	// Settings are read and scored in batches of whole settings holding
 	// at most scoreBatchFloats layout values (counting every run of a
@@ -159,6 +205,7 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 			}
 		}
 		faith := sc.batch(fullLayouts)
+		aucs, aucQueries := sc.rnxAUC(batchLayouts, batchRows, opt.RNXQueries)
 		// Each run's own scores, the runs of the batch in parallel (they
 		// share only read-only inputs); used below in plan order, so the
 		// first failing run still reports its error.
@@ -192,6 +239,7 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 					return nil, fmt.Errorf("score: %w", err)
 				}
 				rs, yr, err := results[at].rs, results[at].yr, results[at].err
+				rs.RNXAUC, rs.RNXQueries = aucs[at], aucQueries[at]
 				at++
 				if err != nil {
 					return nil, fmt.Errorf("score: run %s: %w", r.ID, err)
@@ -222,6 +270,7 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 			ss.LabelAccuracy = col(func(r RunScore) float64 { return r.LabelAccuracy })
 			ss.LabelPurity = col(func(r RunScore) float64 { return r.LabelPurity })
 			ss.KL = col(func(r RunScore) float64 { return r.KL })
+			ss.RNXAUC = col(func(r RunScore) float64 { return r.RNXAUC })
 			ss.Disparity, ss.Jaccard, ss.PairSpearman = nan2(), nan2(), nan2()
 			// A layout whose points all coincide (a collapsed run) cannot be
 			// aligned (Procrustes needs a non-zero layout) and has no distance
@@ -284,19 +333,31 @@ func Score(ctx context.Context, dir string, ds *dataset.Dataset, opt ScoreOption
 					points = append(points, PointScore{SettingID: s.ID, Point: i, ID: ds.IDs[i], Spread: ps.Spread[i],
 						Unstable: ps.Flagged[i], ConsensusX: g.Consensus[2*i], ConsensusY: g.Consensus[2*i+1], Runs: len(layouts)})
 				}
-				ss.UnstableShare = float64(ps.NumFlagged) / float64(ds.N)
 			}
+			// The disparity matrix of the kept runs, before nullStability
+			// clears the pair scores of a setting where nothing varied: the
+			// medoid run is still the setting's picture.
+			dm := disparityMatrix(pairs[pairs0:], done)
 			if ss.Varied == "" {
 				nullStability(&ss, pairs[pairs0:], points[points0:])
 			}
+			// The readings of readings.go: medoid, arrangements, clusters,
+			// co-assignment, labels.
+			rd, err := readSetting(s, ss.Varied, done, layouts, rows, dm, ds.N, ds.Labels, threads)
+			if err != nil {
+				return nil, fmt.Errorf("score: setting %s: %w", s.ID, err)
+			}
+			rd.apply(&ss, points[points0:])
+			clusters, labels = append(clusters, rd.cs...), append(labels, rd.ls...)
 			settings = append(settings, ss)
 			batch[b] = nil // its layouts are no longer needed
 		}
 	}
-	if err := writeScoreTables(dir, info, k, runScores, settings, points, pairs); err != nil {
+	if err := writeScoreTables(dir, info, k, runScores, settings, points, pairs, clusters, labels); err != nil {
 		return nil, fmt.Errorf("score: %w", err)
 	}
-	return &ScoreResult{Runs: len(runScores), Settings: len(settings), Points: len(points), Pairs: len(pairs), K: k}, nil
+	return &ScoreResult{Runs: len(runScores), Settings: len(settings), Points: len(points), Pairs: len(pairs), Clusters: len(clusters), Labels: len(labels), K: k,
+		Planned: len(runs), Unfinished: unfinished}, nil
 }
 
 // scoreBatchFloats bounds the layout values Score holds at once (2 per

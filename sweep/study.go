@@ -8,7 +8,6 @@ import (
 	"os"
 	"path/filepath"
 	"strconv"
-	"strings"
 	"time"
 
 	"plumb/internal/atomicfile"
@@ -93,20 +92,30 @@ type Info struct {
 	// Env is the environment of the process that created the study (nil
 	// in studies written before it was recorded).
 	Env *Env `json:"env,omitempty"`
+	// covers is the MetaCovers value Score writes into its tables.
+	covers string
 }
 
 // MismatchError reports a study directory made from other data or another
 // plan.
 type MismatchError struct {
 	Dir, What, Have, Want string
+	// Scoring is set when the input given to Score is not the study's.
+	Scoring bool
 }
 
 func (e *MismatchError) Error() string {
+	if e.Scoring {
+		return fmt.Sprintf("%s was made from other input data (study has %s, the input read now %s): the file changed since the sweep", e.Dir, e.Have, e.Want)
+	}
 	return fmt.Sprintf("%s was made from another %s (study has %s, this sweep %s)", e.Dir, e.What, e.Have, e.Want)
 }
 
 // Hint suggests how to proceed.
 func (e *MismatchError) Hint() string {
+	if e.Scoring {
+		return "pass the study's original data with --input (its fingerprint must match), or sweep the new data into another study"
+	}
 	return "choose another --out directory, or pass --force to make the directory follow this sweep (its runs from the old " + e.What + " are redone)"
 }
 
@@ -133,19 +142,20 @@ func ReadInfo(dir string) (*Info, error) {
 	return &in, nil
 }
 
-// known lists the entries a study directory may hold.
-var known = map[string]bool{StudyFile: true, RunsFile: true, LayoutsDir: true, TracesDir: true,
-	RecordsDir: true, ScoresDir: true, "report": true}
-
-// prepare makes dir a study for info: it creates the directory, checks an
-// existing study.json against the plan hash and input fingerprint (a
-// mismatch is a *MismatchError unless force), writes study.json, and
-// creates the subdirectories. With force, files of runs outside the plan and
-// the derived tables are removed. Temporary files of the shared files at
-// least tempAge old are removed (see cleanStudyTemps).
-func prepare(dir string, info *Info, runs []*Run, force bool, tempAge time.Duration) error {
-	if st, err := os.Stat(dir); err == nil && !st.IsDir() {
-		return fmt.Errorf("%s exists and is not a directory", dir)
+// prepare makes dir a study for info: it checks an existing study.json
+// against the plan hash and input fingerprint (a mismatch is a
+// *MismatchError unless force), writes study.json, and creates the
+// subdirectories. A directory without study.json must be empty (plumb's
+// lock files aside), with or without force: a directory is a study only if
+// its study.json says so, and a study.json that does not decode is not
+// replaced. With force, the files plumb wrote for runs outside the plan and
+// the derived tables are removed (removePlumbFiles), nothing else. The
+// caller holds the study's lock (LockStudy, which also created dir);
+// exclusive reports whether it holds it alone, and only then are the
+// temporary files of the shared files removed (see cleanStudyTemps).
+func prepare(dir string, info *Info, runs []*Run, force, exclusive bool) error {
+	if err := checkStudyDir(dir); err != nil {
+		return err
 	}
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return fmt.Errorf("create study directory: %w", err)
@@ -171,19 +181,11 @@ func prepare(dir string, info *Info, runs []*Run, force bool, tempAge time.Durat
 			info.Version = v
 		}
 	case errors.Is(err, os.ErrNotExist):
-		ents, rerr := os.ReadDir(dir)
-		if rerr != nil {
-			return fmt.Errorf("read study directory: %w", rerr)
-		}
-		for _, e := range ents {
-			if !known[e.Name()] && !strings.HasPrefix(e.Name(), ".") && !force {
-				return fmt.Errorf("%s is not empty and holds no %s (found %s); refusing to write a study into it", dir, StudyFile, e.Name())
-			}
-		}
 	default:
-		if !force {
-			return fmt.Errorf("%w (pass --force to overwrite it)", err)
-		}
+		return fmt.Errorf("%w (plumb replaces only a study.json it can read as its own: move the file away, or choose another --out directory)", err)
+	}
+	if force && !exclusive {
+		return fmt.Errorf("sweep: --force needs the study to itself (an exclusive lock)")
 	}
 	if err != nil || force {
 		b, err := json.MarshalIndent(info, "", "  ")
@@ -199,23 +201,11 @@ func prepare(dir string, info *Info, runs []*Run, force bool, tempAge time.Durat
 			return fmt.Errorf("create %s: %w", sub, err)
 		}
 	}
-	cleanStudyTemps(dir, tempAge)
+	if exclusive {
+		cleanStudyTemps(dir, 0)
+	}
 	if force {
-		inPlan := map[string]bool{}
-		for _, r := range runs {
-			inPlan[r.ID] = true
-		}
-		for _, sub := range []string{LayoutsDir, TracesDir, RecordsDir} {
-			ents, _ := os.ReadDir(filepath.Join(dir, sub))
-			for _, e := range ents {
-				id := strings.TrimSuffix(strings.TrimSuffix(e.Name(), ".parquet"), ".json")
-				if !inPlan[id] && !strings.HasPrefix(e.Name(), ".") {
-					os.Remove(filepath.Join(dir, sub, e.Name()))
-				}
-			}
-		}
-		os.Remove(filepath.Join(dir, RunsFile))
-		os.RemoveAll(filepath.Join(dir, ScoresDir))
+		removePlumbFiles(dir, runs)
 	}
 	return nil
 }
@@ -267,23 +257,11 @@ func baseMeta(info *Info, table string) map[string]string {
 		MetaFingerprint: info.Input.Fingerprint, MetaTable: table}
 }
 
-// staleAge is how old a temporary file of a shared table (study.json,
-// runs.parquet, scores/) must be before a process that is not the study's
-// only writer removes it as left by a killed process; younger ones may
-// belong to another shard (or a concurrent Score) writing right now, and
-// removing one would make that process's rename fail.
-const staleAge = 5 * time.Minute
-
 // cleanStudyTemps removes the temporary files of the study's shared files
-// (study.json, runs.parquet and scores/*.parquet, which parquetio.WriteAtomic
-// names ".NAME.tmp-*") that are at least minAge old. The rule its callers
-// follow:
-//
-//   - Execute without sharding (Shard.Whole) is the study's only writer, so
-//     it removes them all (minAge 0): they can only be left by a kill.
-//   - Execute of one shard of several, and Score (which shards that finish
-//     at the same moment may run at once), remove only those older than
-//     staleAge.
+// (study.json, runs.parquet and scores/*.parquet, which parquetio.Write
+// names ".NAME.tmp-*") that are at least minAge old. Only a process holding
+// the study exclusively calls it (with minAge 0): every other writer is
+// then locked out, so the files can only be left by a killed process.
 func cleanStudyTemps(dir string, minAge time.Duration) {
 	pats := []string{atomicfile.TempPattern(filepath.Join(dir, StudyFile)), atomicfile.TempPattern(filepath.Join(dir, RunsFile)),
 		filepath.Join(dir, ScoresDir, ".*.tmp-*")}

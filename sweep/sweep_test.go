@@ -252,10 +252,11 @@ func TestDeterministicAcrossParallelism(t *testing.T) {
 }
 
 // Temporary files left by a killed process: a run's own are removed when
-// the run is redone; those of shared tables by a shard when older than
-// staleAge (a younger one may be another shard's write in progress), and by
-// an unsharded sweep, the study's only writer, whatever their age (the rule
-// of cleanStudyTemps).
+// the run is redone; those of shared tables only by a process holding the
+// study exclusively (the rule of cleanStudyTemps): a shard under the shared
+// lock leaves them, since it cannot know that no other writer is at work;
+// the unsharded sweep, the study's only writer, removes them whatever
+// their age.
 func TestStaleTemporaryFilesRemoved(t *testing.T) {
 	ds := iris(t)
 	p := smallPlan(t)
@@ -278,15 +279,26 @@ func TestStaleTemporaryFilesRemoved(t *testing.T) {
 	}
 	old := time.Now().Add(-time.Hour)
 	os.Chtimes(oldShared, old, old)
-	runSweep(t, ds, p, dir, func(o *Options) { o.Shard = sh })
-	for f, gone := range map[string]bool{runTemp: true, oldShared: true, newShared: false, newScores: false} {
+	// Shard 0/2 "runs" (holds its lock) while shard 1/2 redoes its run.
+	other, err := LockStudy(dir, Shard{Index: 0, Count: 2}, false, "test shard 0/2")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer func(w time.Duration) { upgradeWait = w }(upgradeWait)
+	upgradeWait = 50 * time.Millisecond
+	sum := runSweep(t, ds, p, dir, func(o *Options) { o.Shard = sh })
+	if !sum.Busy || sum.RunsTable {
+		t.Errorf("shard 1/2 beside a running shard: Busy=%v RunsTable=%v, want true, false", sum.Busy, sum.RunsTable)
+	}
+	other.Release()
+	for f, gone := range map[string]bool{runTemp: true, oldShared: false, newShared: false, newScores: false} {
 		_, err := os.Stat(f)
 		if gone != os.IsNotExist(err) {
 			t.Errorf("shard 1/2: %s: removed=%v, want %v", filepath.Base(f), os.IsNotExist(err), gone)
 		}
 	}
 	runSweep(t, ds, p, dir, nil)
-	for _, f := range []string{newShared, newScores} {
+	for _, f := range []string{oldShared, newShared, newScores} {
 		if _, err := os.Stat(f); !os.IsNotExist(err) {
 			t.Errorf("unsharded: %s: not removed", filepath.Base(f))
 		}

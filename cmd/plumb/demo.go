@@ -1,12 +1,8 @@
 package main
 
 import (
-	"context"
 	"fmt"
-	"os"
-	"os/signal"
 	"path/filepath"
-	"syscall"
 	"time"
 
 	"github.com/urfave/cli/v2"
@@ -74,7 +70,7 @@ func demoAction(c *cli.Context) error {
 			}
 		}
 	}
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, stop := interruptContext()
 	defer stop()
 	say("sweeping %s × %s into %s", words.Count(plan.NumSettings(), "setting"), words.Count(len(plan.Seeds), "seed"), studyDir)
 	sum, err := sweep.Execute(ctx, ds, plan, opt)
@@ -82,13 +78,16 @@ func demoAction(c *cli.Context) error {
 		return err
 	}
 	if sum.Canceled {
-		return &exitError{code: 130, err: fmt.Errorf("interrupted; run plumb demo again to resume")}
+		return interrupted("run plumb demo again to resume", "the finished runs are kept")
 	}
 	say("scoring")
 	if _, err := sweep.Score(ctx, studyDir, ds, sweep.ScoreOptions{}); err != nil {
-		return fmt.Errorf("score: %w", err)
+		if ctx.Err() != nil {
+			return interrupted("run plumb demo again to resume", "while scoring; the runs are kept")
+		}
+		return err
 	}
-	res, err := writeReport(studyDir, filepath.Join(studyDir, "report"), report.Rule{})
+	res, err := writeReport(c.App.ErrWriter, studyDir, filepath.Join(studyDir, "report"), report.Rule{})
 	if err != nil {
 		return err
 	}

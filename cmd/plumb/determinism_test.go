@@ -28,9 +28,10 @@ func TestSweepDeterminismJobsThreads(t *testing.T) {
 		t.Fatalf("jobs 2: exit %d %s", code, stderr)
 	}
 	sa, sb := krStudy(t, a), krStudy(t, b)
-	// 12 layouts, 12 traces, 12 records, runs.parquet, study.json, 4 score tables.
-	if len(sa) != 12*3+2+4 {
-		t.Errorf("study has %d files, want %d", len(sa), 12*3+2+4)
+	// 12 layouts, 12 traces, 12 records, runs.parquet, study.json, 6 score tables
+	// (runs, settings, points, pairs, clusters, labels).
+	if len(sa) != 12*3+2+6 {
+		t.Errorf("study has %d files, want %d", len(sa), 12*3+2+6)
 	}
 	krCompare(t, sa, sb)
 	// A rescore with other threads gives the same score tables.

@@ -83,6 +83,9 @@ func embedAction(c *cli.Context) error {
 	if err != nil {
 		return err
 	}
+	if err := checkLayoutOut(out, format, path); err != nil {
+		return err
+	}
 	nthreads, err := threads(c)
 	if err != nil {
 		return err
@@ -130,17 +133,25 @@ func embedAction(c *cli.Context) error {
 	if !quiet {
 		fmt.Fprintf(stderr, "plumb: %s × %s, perplexity %g, gradient %s\n", words.Count(data.N, "point"), words.Count(data.D, "feature"), cfg.Perplexity, cfg.Method)
 	}
+	ctx, stop := interruptContext()
+	defer stop()
+	var bar *progressLine
 	if !quiet && isTerminal(stderr) {
-		bar := &progressLine{w: stderr}
-		cfg.Progress = func(p tsne.Progress) bool {
-			bar.update(p)
-			return true
-		}
+		bar = &progressLine{w: stderr}
 		defer bar.done()
+	}
+	cfg.Progress = func(p tsne.Progress) bool {
+		if bar != nil {
+			bar.update(p)
+		}
+		return ctx.Err() == nil
 	}
 
 	start := time.Now()
 	res, err := tsne.Embed(data.X, data.N, data.D, cfg)
+	if err != nil && ctx.Err() != nil {
+		return interrupted("run the same command again", "no layout was written")
+	}
 	if err != nil {
 		return fmt.Errorf("embed %s: %w", path, err)
 	}

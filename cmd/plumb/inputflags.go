@@ -69,8 +69,8 @@ var threadsFlag = &cli.IntFlag{Name: "threads", Usage: "worker threads (0: all c
 // threads returns the thread count asked for, or every core.
 func threads(c *cli.Context) (int, error) {
 	t := c.Int("threads")
-	if t < 0 {
-		return 0, fmt.Errorf("--threads %d: must be 0 (all cores) or positive", t)
+	if t < 0 || t > maxParallel {
+		return 0, fmt.Errorf("--threads %d: must be 0 (all cores) or 1..%d", t, maxParallel)
 	}
 	if t == 0 {
 		t = runtime.GOMAXPROCS(0)

@@ -21,6 +21,7 @@ import (
 	"time"
 
 	"plumb/internal/parquetio"
+	"plumb/sweep"
 	"plumb/internal/words"
 )
 
@@ -432,13 +433,12 @@ func krInterrupt(t *testing.T, bin, dir string, sig os.Signal, want map[string]m
 // TestResumeCleansStudyTemps plants the temporary files a kill during a
 // study-level write leaves (atomicfile writes ".NAME.tmp-RANDOM" beside NAME, see
 // internal/atomicfile/atomicfile.go) and checks that readers ignore them and who removes
-// them (the rule of sweep/study.go cleanStudyTemps): an unsharded resume,
-// the study's only writer, removes them whatever their age; a shard of a
-// sharded sweep and `plumb score` (which two shards finishing together may
-// run at once) remove only those older than 5 minutes, since a younger one
-// may be another process's write in progress. TestKillResume hits these
-// only when the kill lands inside such a write; this makes the case
-// deterministic.
+// them (the rule of sweep/study.go cleanStudyTemps): only a process that
+// holds the study exclusively (sweep/lock.go) — an unsharded sweep,
+// `plumb score`, or a shard that found every run finished and got the
+// study to itself — and then whatever their age, since no other writer can
+// be at work. A shard that shares the study with another running shard
+// leaves them alone.
 func TestResumeCleansStudyTemps(t *testing.T) {
 	dir := filepath.Join(t.TempDir(), "study")
 	args := rbSweep(rbIris, dir, "--seeds", "2")
@@ -446,50 +446,48 @@ func TestResumeCleansStudyTemps(t *testing.T) {
 		t.Fatalf("sweep: %d %s", code, stderr)
 	}
 	planted := []string{".runs.parquet.tmp-1", ".study.json.tmp-2", "scores/.settings.parquet.tmp-3", "scores/.pairs.parquet.tmp-4"}
-	plant := func(age time.Duration) {
+	plant := func() {
 		t.Helper()
 		for _, f := range planted {
-			p := filepath.Join(dir, f)
-			if err := os.WriteFile(p, []byte("PAR1 partial"), 0o644); err != nil {
-				t.Fatal(err)
-			}
-			old := time.Now().Add(-age)
-			if err := os.Chtimes(p, old, old); err != nil {
+			if err := os.WriteFile(filepath.Join(dir, f), []byte("PAR1 partial"), 0o644); err != nil {
 				t.Fatal(err)
 			}
 		}
 	}
-	plant(0)
+	plant()
 	if _, stderr, code := plumb(t, "show", dir); code != 0 {
 		t.Errorf("show with temporary files present: exit %d %s", code, stderr)
 	}
-	// Young temporary files: a shard and `plumb score` leave them alone.
-	if _, stderr, code := plumb(t, append(args, "--shard", "1/2")...); code != 0 {
-		t.Fatalf("resume of shard 1/2: %d %s", code, stderr)
+	// Shard 0/2 is running (holds its lock): shard 1/2 shares the study
+	// and leaves the shared files, and their temporary files, alone.
+	other, err := sweep.LockStudy(dir, sweep.Shard{Index: 0, Count: 2}, false, "plumb sweep --shard 0/2 (test)")
+	if err != nil {
+		t.Fatal(err)
 	}
-	if _, stderr, code := plumb(t, "score", dir); code != 0 {
-		t.Fatalf("score: %d %s", code, stderr)
+	_, stderr, code := plumb(t, append(args, "--shard", "1/2", "--quiet=false")...)
+	other.Release()
+	if code != 0 || !strings.Contains(stderr, "other processes still hold the study") {
+		t.Fatalf("resume of shard 1/2 beside shard 0/2: %d %s", code, stderr)
 	}
 	if left := krTemps(dir); len(left) != len(planted) {
-		t.Errorf("a shard and score removed young temporary files (another process's writes in progress): left %v", left)
+		t.Errorf("a shard sharing the study removed temporary files (another process's writes may be in progress): left %v", left)
 	}
-	// Old ones (a kill's leftovers): removed by score, and by a shard.
-	plant(10 * time.Minute)
+	// score holds the study alone: removes them.
 	if _, stderr, code := plumb(t, "score", dir); code != 0 {
 		t.Fatalf("score: %d %s", code, stderr)
 	}
 	if left := krTemps(dir); len(left) > 0 {
-		t.Errorf("score left temporary files older than 5 minutes: %v", left)
+		t.Errorf("score left temporary files: %v", left)
 	}
-	plant(10 * time.Minute)
+	// A shard alone, with every run finished, takes the study to itself.
+	plant()
 	if _, stderr, code := plumb(t, append(args, "--shard", "0/2")...); code != 0 {
 		t.Fatalf("resume of shard 0/2: %d %s", code, stderr)
 	}
 	if left := krTemps(dir); len(left) > 0 {
-		t.Errorf("a shard left temporary files older than 5 minutes: %v", left)
+		t.Errorf("a shard with the study to itself left temporary files: %v", left)
 	}
-	// Young ones again: the unsharded resume removes them.
-	plant(0)
+	plant()
 	if _, stderr, code := plumb(t, args...); code != 0 {
 		t.Fatalf("resume: %d %s", code, stderr)
 	}

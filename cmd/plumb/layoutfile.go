@@ -108,3 +108,60 @@ func appendCSVField(dst []byte, s string) []byte {
 	}
 	return append(dst, '"')
 }
+
+// checkLayoutOut refuses an --out that would overwrite a file plumb did not
+// write: the input itself (or a link to it), or any existing file that is
+// not a layout plumb embed wrote (a Parquet file with plumb's "plumb.run"
+// metadata; a CSV file whose sidecar FILE.json names plumb). The same holds
+// for a CSV layout's sidecar.
+func checkLayoutOut(out, format, input string) error {
+	in, inErr := os.Stat(input)
+	for _, p := range []string{out, out + ".json"} {
+		if p != out && format != "csv" {
+			break
+		}
+		fi, err := os.Stat(p)
+		if err != nil {
+			continue
+		}
+		if inErr == nil && os.SameFile(fi, in) {
+			return fmt.Errorf("--out %s is the input file %s (or a link to it); refusing to overwrite the data with the layout", p, input)
+		}
+		if !fi.Mode().IsRegular() {
+			return fmt.Errorf("--out %s exists and is not a regular file", p)
+		}
+	}
+	if format == "csv" {
+		if fi, err := os.Stat(out + ".json"); err == nil && fi.Size() > 0 && !plumbSidecar(out+".json") {
+			return fmt.Errorf("--out %s: %s.json exists and was not written by plumb embed; refusing to overwrite it", out, out)
+		}
+	}
+	fi, err := os.Stat(out)
+	if err != nil {
+		return nil
+	}
+	ours := false
+	switch format {
+	case "parquet":
+		m, _, err := parquetio.ReadMeta(out)
+		ours = err == nil && m["plumb.table"] == "layout" && m["plumb.run"] != ""
+	case "csv":
+		ours = plumbSidecar(out + ".json")
+	}
+	if !ours && fi.Size() > 0 {
+		return hintError{err: fmt.Errorf("--out %s exists and was not written by plumb embed; refusing to overwrite it", out),
+			hint: "choose another --out file, or remove that one first"}
+	}
+	return nil
+}
+
+// plumbSidecar reports whether path is the JSON sidecar of a CSV layout
+// written by plumb embed.
+func plumbSidecar(path string) bool {
+	b, err := os.ReadFile(path)
+	if err != nil || len(b) > 1<<20 {
+		return false
+	}
+	var rec embedRecord
+	return json.Unmarshal(b, &rec) == nil && rec.Tool == "plumb" && rec.InputFingerprint != ""
+}

@@ -55,6 +55,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 // run executes the app and returns the process exit code.
 func run(args []string, stdout, stderr io.Writer) int {
 	app := newApp(stdout, stderr)
+	setCmdLine(args)
 	err := unknownCommand(args, commands)
 	if err == nil {
 		err = app.Run(flagsFirst(helpArgs(args), commands))
@@ -83,5 +84,6 @@ func run(args []string, stdout, stderr io.Writer) int {
 }
 
 func main() {
+	watchSignals()
 	os.Exit(run(os.Args, os.Stdout, os.Stderr))
 }

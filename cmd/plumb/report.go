@@ -2,12 +2,12 @@ package main
 
 import (
 	"fmt"
+	"math"
 	"path/filepath"
 
 	"github.com/urfave/cli/v2"
 
 	"plumb/cmd/plumb/internal/report"
-	"plumb/cmd/plumb/internal/studyview"
 )
 
 func init() {
@@ -17,15 +17,18 @@ func init() {
 		ArgsUsage: "STUDY_DIR",
 		Description: "Reads a scored study and writes DIR/index.html (self-contained, works offline),\n" +
 			"DIR/figures/*.svg and *.png, and DIR/methods.md. DIR defaults to STUDY_DIR/report.\n\n" +
-			"The recommendation rule, in short: among the settings whose median trustworthiness is\n" +
-			"within --trust-tolerance of the best, keep those whose median seed-to-seed disparity is\n" +
-			"within --disparity-tolerance of the lowest, then those whose median kNN Jaccard is within\n" +
-			"--jaccard-tolerance of the highest, and pick the lowest median KL. The page spells it out.",
+			"The recommendation rule, in short: keep the settings whose median R_NX AUC is within\n" +
+			"--auc-tolerance of the best; compare stability only where it was measured and only under\n" +
+			"the same perturbation: fewest distinct arrangements, then median disparity within\n" +
+			"--disparity-tolerance of the lowest, then median kNN Jaccard within --jaccard-tolerance of\n" +
+			"the highest; KL only within one perplexity (--kl-tolerance, a fraction); then the highest\n" +
+			"R_NX AUC. The page and methods.md spell it out with references.",
 		Flags: []cli.Flag{
 			&cli.StringFlag{Name: "out", Aliases: []string{"o"}, Usage: "report directory (default: STUDY_DIR/report)"},
-			&cli.Float64Flag{Name: "trust-tolerance", Value: 0.01, Usage: "trustworthiness within this of the best counts as equally faithful"},
+			&cli.Float64Flag{Name: "auc-tolerance", Value: 0.01, Usage: "median R_NX AUC within this of the best counts as equally faithful"},
 			&cli.Float64Flag{Name: "disparity-tolerance", Value: 0.01, Usage: "disparity within this of the lowest counts as equally stable"},
 			&cli.Float64Flag{Name: "jaccard-tolerance", Value: 0.02, Usage: "kNN Jaccard within this of the highest counts as equally stable"},
+			&cli.Float64Flag{Name: "kl-tolerance", Value: 0.01, Usage: "at one perplexity, median KL within this fraction of the lowest counts as equal"},
 		},
 		Action: reportAction,
 	})
@@ -37,12 +40,14 @@ func reportAction(c *cli.Context) error {
 	}
 	dir := c.Args().First()
 	rule := report.Rule{
-		TrustTolerance:     c.Float64("trust-tolerance"),
+		AUCTolerance:       c.Float64("auc-tolerance"),
 		DisparityTolerance: c.Float64("disparity-tolerance"),
 		JaccardTolerance:   c.Float64("jaccard-tolerance"),
+		KLTolerance:        c.Float64("kl-tolerance"),
 	}
-	for name, v := range map[string]float64{"trust-tolerance": rule.TrustTolerance, "disparity-tolerance": rule.DisparityTolerance, "jaccard-tolerance": rule.JaccardTolerance} {
-		if !(v > 0) {
+	for name, v := range map[string]float64{"auc-tolerance": rule.AUCTolerance, "disparity-tolerance": rule.DisparityTolerance,
+		"jaccard-tolerance": rule.JaccardTolerance, "kl-tolerance": rule.KLTolerance} {
+		if !(v > 0) || math.IsInf(v, 0) {
 			return fmt.Errorf("--%s %g: must be positive", name, v)
 		}
 	}
@@ -50,7 +55,7 @@ func reportAction(c *cli.Context) error {
 	if out == "" {
 		out = filepath.Join(dir, "report")
 	}
-	res, err := writeReport(dir, out, rule)
+	res, err := writeReport(c.App.ErrWriter, dir, out, rule)
 	if err != nil {
 		return err
 	}
@@ -58,18 +63,16 @@ func reportAction(c *cli.Context) error {
 	fmt.Fprintf(w, "report: %s\n", res.Index)
 	fmt.Fprintf(w, "methods: %s\n", filepath.Join(res.Dir, "methods.md"))
 	if res.Recommendation != nil {
+		rec := res.Recommendation
 		fmt.Fprintf(w, "recommended: %s\n", res.Chosen)
+		if rec.RunnerUp != nil {
+			fmt.Fprintf(w, "runner-up: %s, separated at step %s (margin %s)\n", rec.RunnerUp.ID, report.StepWords(rec.DecidedBy), report.MarginWords(rec.DecidedBy, rec.Margin))
+		}
+		if !rec.StabilityMeasured {
+			fmt.Fprintf(w, "stability of the recommended setting: not measured (the pick rests on faithfulness)\n")
+		}
 	} else {
-		fmt.Fprintf(w, "recommended: none (no setting has two finished, scored runs)\n")
+		fmt.Fprintf(w, "recommended: none (no setting has a finished, scored run)\n")
 	}
 	return nil
-}
-
-// writeReport opens the study in dir and writes its report into out.
-func writeReport(dir, out string, rule report.Rule) (*report.Output, error) {
-	st, err := studyview.Open(dir)
-	if err != nil {
-		return nil, err
-	}
-	return report.Write(st, out, report.Options{Rule: rule})
 }

@@ -8,6 +8,7 @@ import (
 	"strings"
 	"testing"
 
+	"plumb/cmd/plumb/internal/recommend"
 	"plumb/cmd/plumb/internal/report"
 	"plumb/cmd/plumb/internal/studyview"
 )
@@ -19,7 +20,10 @@ func TestReportCommand(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d\n%s", code, stderr)
 	}
-	if !strings.Contains(stdout, filepath.Join(out, "index.html")) || !strings.Contains(stdout, "recommended: perplexity ") {
+	// The output names the recommended setting and the rule's step that
+	// separated the runner-up (recommend.Step…, worded by report.StepWords).
+	if !strings.Contains(stdout, filepath.Join(out, "index.html")) || !strings.Contains(stdout, "recommended: perplexity ") ||
+		!strings.Contains(stdout, "separated at step (") {
 		t.Errorf("stdout: %s", stdout)
 	}
 	for _, f := range []string{"index.html", "methods.md", "figures/layouts.svg", "figures/layouts.png", "figures/stability.png", "figures/kl-traces.svg"} {
@@ -35,7 +39,7 @@ func TestReportCommand(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	rec, err := report.Recommend(report.Candidates(st), report.Rule{})
+	rec, err := recommend.Recommend(report.Candidates(st), report.Rule{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -43,7 +47,7 @@ func TestReportCommand(t *testing.T) {
 		"4 runs, of which 4 finished", "iterations (in all) 400", "early-exaggeration iterations 100",
 		"initialisation random", "k = " + strconv.Itoa(st.K),
 		// scores below 1 are printed with 4 decimals
-		"median trustworthiness " + fmt.Sprintf("%.4f", rec.Chosen.Trustworthiness)} {
+		"median R_NX AUC " + fmt.Sprintf("%.4f", rec.Chosen.RNXAUC.Median), "medoid run " + st.Setting(rec.Chosen.ID).MedoidRun} {
 		if !strings.Contains(string(m), want) {
 			t.Errorf("methods.md lacks %q:\n%s", want, m)
 		}

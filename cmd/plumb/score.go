@@ -1,13 +1,11 @@
 package main
 
 import (
-	"context"
 	"errors"
 	"fmt"
+	"math"
 	"os"
-	"os/signal"
 	"strings"
-	"syscall"
 	"time"
 
 	"github.com/urfave/cli/v2"
@@ -25,7 +23,8 @@ func init() {
 		Flags: []cli.Flag{
 			&cli.IntFlag{Name: "k", Value: sweep.DefaultK, Usage: "neighbourhood size of the neighbour-based scores (below n/2)"},
 			&cli.StringFlag{Name: "input", Usage: "the study's input `FILE`, if it moved since the sweep (its fingerprint must match)"},
-			&cli.Float64Flag{Name: "spread-threshold", Usage: "flag a point as unstable above this spread (0: the default 0.1)"},
+			&cli.Float64Flag{Name: "spread-threshold", Usage: "set spread_flagged above this spread (global placement; 0: the default 0.1); unstable comes from co-assignment < 0.75"},
+			&cli.IntFlag{Name: "rnx-queries", Usage: "query points of each run's R_NX curve (0: the default 500; -1: every point, exact)"},
 			threadsFlag,
 		},
 		Action: scoreAction,
@@ -116,8 +115,8 @@ func scoreAction(c *cli.Context) error {
 	if c.Int("k") < 1 {
 		return fmt.Errorf("--k %d: must be positive", c.Int("k"))
 	}
-	if c.Float64("spread-threshold") < 0 {
-		return fmt.Errorf("--spread-threshold %g: must be positive (or 0 for the default)", c.Float64("spread-threshold"))
+	if v := c.Float64("spread-threshold"); !(v >= 0) || math.IsInf(v, 0) {
+		return fmt.Errorf("--spread-threshold %g: must be positive (or 0 for the default)", v)
 	}
 	th, err := threads(c)
 	if err != nil {
@@ -130,16 +129,37 @@ func scoreAction(c *cli.Context) error {
 		}
 		return err
 	}
+	// k against n before the input is read (study.json knows n).
+	if err := sweep.CheckK(c.Int("k"), info.Input.N); err != nil {
+		return fmt.Errorf("--k: %w", err)
+	}
+	lock, err := sweep.LockStudy(dir, sweep.Shard{}, true, cmdLine)
+	if err != nil {
+		return err
+	}
+	defer lock.Release()
 	ds, err := studyInput(c, info)
 	if err != nil {
 		return err
 	}
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, stop := interruptContext()
 	defer stop()
 	t0 := time.Now()
-	sum, err := sweep.Score(ctx, dir, ds, sweep.ScoreOptions{K: c.Int("k"), Threads: th, SpreadThreshold: c.Float64("spread-threshold")})
+	sum, err := sweep.Score(ctx, dir, ds, sweep.ScoreOptions{K: c.Int("k"), Threads: th, SpreadThreshold: c.Float64("spread-threshold"),
+		RNXQueries: c.Int("rnx-queries"), Lock: lock})
 	if err != nil {
+		if ctx.Err() != nil {
+			return interrupted("run `plumb score "+dir+"` again", "the score tables were not written (the ones there before are unchanged)")
+		}
 		return err
+	}
+	if len(sum.Unfinished) > 0 {
+		ex := sum.Unfinished[0]
+		if len(sum.Unfinished) > 1 {
+			ex += ", …"
+		}
+		fmt.Fprintf(c.App.ErrWriter, "plumb: warning: %d of %d planned runs are not finished (no valid record: %s) and are not scored; the sweep's command redoes them\n",
+			len(sum.Unfinished), sum.Planned, ex)
 	}
 	fmt.Fprintf(c.App.ErrWriter, "plumb: scored %s in %s (k=%d, %s) in %s\n",
 		words.Count(sum.Runs, "run"), words.Count(sum.Settings, "setting"), sum.K, words.Count(sum.Pairs, "pair"), time.Since(t0).Round(time.Millisecond))

@@ -118,7 +118,18 @@ func showRows(st *sweep.Study) []*settingRow {
 			add("distance_spearman", ss.DistanceSpearman)
 			add("label_accuracy", ss.LabelAccuracy)
 			add("label_purity", ss.LabelPurity)
+			add("rnx_auc", ss.RNXAUC)
+			add("coassignment", ss.CoAssignment)
 			r.set("unstable_share", ss.UnstableShare)
+			r.set("varied", ss.Varied)
+			r.set("stability_measured", ss.NotMeasured == "" && ss.Varied != "" && ss.RunsDone >= 2)
+			r.set("not_measured", ss.NotMeasured)
+			r.set("medoid_run", ss.MedoidRun)
+			r.set("clusters", intOrNaN(ss.Clusters, ss.Clusters >= 0))
+			r.set("arrangements", intOrNaN(ss.Arrangements, ss.Arrangements > 0))
+			r.set("arrangement_sizes", ss.ArrangementSizes)
+			r.set("bimodal", ss.Bimodal)
+			r.set("consensus_shown", ss.ConsensusShown)
 		} else {
 			r.set("kl_median", stability.Quantile(kls, 0.5))
 		}
@@ -132,7 +143,11 @@ func showAction(c *cli.Context) error {
 	if err != nil {
 		return err
 	}
-	st, err := sweep.Open(dir)
+	var st *sweep.Study
+	err = readStudy(c.App.ErrWriter, dir, func() (err error) {
+		st, err = sweep.Open(dir)
+		return err
+	})
 	if err != nil {
 		return err
 	}
@@ -163,6 +178,14 @@ func showAction(c *cli.Context) error {
 	return nil
 }
 
+// intOrNaN is v as a float64 column value, NaN (missing) when !ok.
+func intOrNaN(v int, ok bool) float64 {
+	if !ok {
+		return math.NaN()
+	}
+	return float64(v)
+}
+
 // compare orders two values of one column; NaN reports missing.
 func compare(a, b any) (less, nanA, nanB bool) {
 	switch x := a.(type) {
@@ -173,6 +196,8 @@ func compare(a, b any) (less, nanA, nanB bool) {
 		return x < b.(int), false, false
 	case string:
 		return x < b.(string), false, false
+	case bool:
+		return !x && b.(bool), false, false
 	}
 	return false, false, false
 }
@@ -227,8 +252,9 @@ func showTable(w io.Writer, st *sweep.Study, rows []*settingRow) {
 	}
 	if st.SettingScores != nil {
 		cols = append(cols, []struct{ key, head string }{
-			{"disparity_median", "disparity"}, {"jaccard_median", "jaccard"}, {"trustworthiness_median", "trust"},
-			{"continuity_median", "contin"}, {"knn_recall_median", "recall"}, {"unstable_share", "unstable"}}...)
+			{"rnx_auc_median", "rnx_auc"}, {"trustworthiness_median", "trust"}, {"continuity_median", "contin"},
+			{"knn_recall_median", "recall"}, {"disparity_median", "disparity"}, {"jaccard_median", "jaccard"},
+			{"arrangements", "arrang"}, {"unstable_share", "unstable"}, {"clusters", "clusters"}}...)
 		if st.Info.Input.HasLabels {
 			cols = append(cols, struct{ key, head string }{"label_accuracy_median", "label_acc"})
 		}
@@ -246,14 +272,43 @@ func showTable(w io.Writer, st *sweep.Study, rows []*settingRow) {
 			if i > 0 {
 				fmt.Fprint(tw, "\t")
 			}
-			fmt.Fprint(tw, cell(r.vals[c.key]))
+			fmt.Fprint(tw, showCell(r, c.key))
 		}
 		fmt.Fprintln(tw, "\t")
 	}
 	tw.Flush()
 	if st.SettingScores != nil {
-		fmt.Fprintln(w, "medians over the runs (kl, trust, contin, recall) or pairs of runs (disparity, jaccard) of each setting; unstable: share of points with spread > threshold")
+		fmt.Fprintln(w, "medians over the runs (kl, rnx_auc, trust, contin, recall) or pairs of runs (disparity, jaccard) of each setting;")
+		fmt.Fprintln(w, "rnx_auc: area under R_NX(K) on a log-K axis; arrang: distinct arrangements of the runs;")
+		fmt.Fprintln(w, "unstable: share of points with co-assignment < 0.75; clusters: map clusters of the medoid run;")
+		fmt.Fprintln(w, "not measured: nothing varied between the runs (or one run), so no between-run reading")
+		seen := map[string]bool{}
+		for _, r := range rows {
+			if done, ok := r.vals["runs_done"].(int); ok && done >= 2 && r.vals["stability_measured"] == true {
+				if warn := stability.SeedWarning(done); warn != "" && !seen[warn] {
+					seen[warn] = true
+					fmt.Fprintf(w, "seeds rule: %s\n", warn)
+				}
+			}
+		}
 	}
+}
+
+// betweenRun are the columns that compare a setting's runs.
+var betweenRun = map[string]bool{"disparity_median": true, "jaccard_median": true, "arrangements": true, "unstable_share": true}
+
+// showCell prints the value of key in row r: "not measured" for a
+// between-run reading of a setting whose stability was not measured.
+func showCell(r *settingRow, key string) string {
+	v := r.vals[key]
+	if betweenRun[key] {
+		if m, ok := r.vals["stability_measured"].(bool); ok && !m {
+			if done, _ := r.vals["runs_done"].(int); done > 0 {
+				return "not measured"
+			}
+		}
+	}
+	return cell(v)
 }
 
 func cell(v any) string {
@@ -272,6 +327,9 @@ func cell(v any) string {
 	case int:
 		return strconv.Itoa(x)
 	case string:
+		if x == "" {
+			return "-"
+		}
 		return x
 	}
 	return fmt.Sprint(v)

@@ -1,15 +1,13 @@
 package main
 
 import (
-	"context"
 	"fmt"
 	"io"
 	"math"
 	"os"
-	"os/signal"
+	"path/filepath"
 	"strconv"
 	"strings"
-	"syscall"
 	"text/tabwriter"
 	"time"
 
@@ -50,6 +48,19 @@ func init() {
 }
 
 // planSpec collects the plan from --plan and the grid flags.
+// maxParallel bounds --jobs and --threads: far more than any machine has
+// cores, small enough that nothing is sized from a wild value.
+const maxParallel = 4096
+
+// checkParallelism checks --jobs or --threads: 0 (automatic) up to
+// maxParallel.
+func checkParallelism(c *cli.Context, name string) error {
+	if v := c.Int(name); v < 0 || v > maxParallel {
+		return fmt.Errorf("--%s %d: must be 0 (automatic) or 1..%d", name, v, maxParallel)
+	}
+	return nil
+}
+
 func planSpec(c *cli.Context) (sweep.Spec, error) {
 	var base sweep.Spec
 	if f := c.String("plan"); f != "" {
@@ -77,11 +88,11 @@ func sweepAction(c *cli.Context) error {
 	if err != nil {
 		return err
 	}
-	if c.Int("jobs") < 0 {
-		return fmt.Errorf("--jobs %d: must be 0 (automatic) or positive", c.Int("jobs"))
+	if err := checkParallelism(c, "jobs"); err != nil {
+		return err
 	}
-	if c.Int("threads") < 0 {
-		return fmt.Errorf("--threads %d: must be 0 (automatic) or positive", c.Int("threads"))
+	if err := checkParallelism(c, "threads"); err != nil {
+		return err
 	}
 	if c.Int("k") < 1 {
 		return fmt.Errorf("--k %d: must be positive", c.Int("k"))
@@ -94,6 +105,26 @@ func sweepAction(c *cli.Context) error {
 	if err != nil {
 		return err
 	}
+	out := c.String("out")
+	dry := c.Bool("dry-run")
+	// One writer at a time: the study's lock is taken before any work,
+	// and before the input is read when the study exists already, so that
+	// a second writer is refused at once.
+	var lock *sweep.Lock
+	takeLock := func() error {
+		if lock != nil || dry {
+			return nil
+		}
+		l, err := sweep.LockStudy(out, shard, c.Bool("force"), cmdLine)
+		lock = l
+		return err
+	}
+	defer func() { lock.Release() }()
+	if _, err := os.Stat(filepath.Join(out, sweep.StudyFile)); err == nil {
+		if err := takeLock(); err != nil {
+			return err
+		}
+	}
 	ds, err := dataset.Read(path, dopt)
 	if err != nil {
 		return err
@@ -103,11 +134,28 @@ func sweepAction(c *cli.Context) error {
 			fmt.Fprintf(stderr, "plumb: warning: %s\n", w)
 		}
 	}
-	opt := sweep.Options{
-		Dir: c.String("out"), Input: sweep.NewInput(path, dopt, ds), Version: version, Shard: shard,
-		Jobs: c.Int("jobs"), Threads: c.Int("threads"), Force: c.Bool("force"), RetryFailed: c.Bool("retry-failed"),
+	if err := sweep.Validate(plan, ds); err != nil {
+		return err
 	}
-	if c.Bool("dry-run") {
+	if !c.Bool("no-score") {
+		n := ds.N
+		if f := plan.MinFraction(); f < 1 {
+			n = sweep.SubsampleSize(ds.N, f) // the smallest layout the scores see
+		}
+		if err := sweep.CheckK(c.Int("k"), n); err != nil {
+			return hintError{err: fmt.Errorf("--k: %w, checked before the runs since the sweep scores them", err),
+				hint: fmt.Sprintf("pass --k %d or smaller, or --no-score", max((n-1)/2, 1))}
+		}
+	}
+	if err := takeLock(); err != nil {
+		return err
+	}
+	opt := sweep.Options{
+		Dir: out, Input: sweep.NewInput(path, dopt, ds), Version: version, Shard: shard,
+		Jobs: c.Int("jobs"), Threads: c.Int("threads"), Force: c.Bool("force"), RetryFailed: c.Bool("retry-failed"),
+		Lock: lock,
+	}
+	if dry {
 		o, err := sweep.PlanOutline(ds, plan, opt)
 		if err != nil {
 			return err
@@ -116,7 +164,7 @@ func sweepAction(c *cli.Context) error {
 		return nil
 	}
 
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, stop := interruptContext()
 	defer stop()
 	var prog *progress
 	if !c.Bool("quiet") {
@@ -136,12 +184,21 @@ func sweepAction(c *cli.Context) error {
 			words.Count(st.Done, "run"), st.Failed, st.Skipped, sum.Elapsed.Round(time.Millisecond), shard)
 	}
 	if sum.Canceled {
-		return &exitError{code: 130, err: hintError{
-			err:  fmt.Errorf("interrupted: %s finished and kept, %d in flight discarded", words.Count(st.Done+st.Failed, "run"), st.Stopped),
-			hint: "run the same command again to resume"}}
+		return interrupted("run the same command again to resume",
+			"%s finished and kept, %d in flight discarded", words.Count(st.Done+st.Failed, "run"), st.Stopped)
 	}
 	if st.Failed > 0 && !c.Bool("quiet") {
 		fmt.Fprintf(stderr, "plumb: warning: %s failed; their reasons are in %s (column error)\n", words.Count(st.Failed, "run"), sweep.RunsFile)
+	}
+	if !sum.Complete || !lock.Exclusive() {
+		// Let the other shards have the study at once.
+		lock.Release()
+	}
+	if sum.Busy {
+		if !c.Bool("quiet") {
+			fmt.Fprintf(stderr, "plumb: every run is finished, but other processes still hold the study; the last shard scores it, or run `plumb score %s`\n", opt.Dir)
+		}
+		return nil
 	}
 	if !sum.Complete {
 		if !c.Bool("quiet") {
@@ -152,9 +209,9 @@ func sweepAction(c *cli.Context) error {
 	if c.Bool("no-score") {
 		return nil
 	}
-	if k, ok := sweep.ScoredK(opt.Dir); ok && k == c.Int("k") && st.Done+st.Failed == 0 {
+	if k := c.Int("k"); sweep.ScoresCurrent(opt.Dir, k) {
 		if !c.Bool("quiet") {
-			fmt.Fprintf(stderr, "plumb: nothing new to score (scores at k=%d are up to date); see `plumb show %s`\n", k, opt.Dir)
+			fmt.Fprintf(stderr, "plumb: nothing new to score (scores at k=%d cover every finished run); see `plumb show %s`\n", k, opt.Dir)
 		}
 		return nil
 	}
@@ -163,7 +220,11 @@ func sweepAction(c *cli.Context) error {
 	}
 	t0 := time.Now()
 	// sweep.Score's errors start with "score: " already.
-	if _, err := sweep.Score(ctx, opt.Dir, ds, sweep.ScoreOptions{K: c.Int("k"), Threads: sum.Jobs * sum.Threads}); err != nil {
+	if _, err := sweep.Score(ctx, opt.Dir, ds, sweep.ScoreOptions{K: c.Int("k"), Threads: sum.Jobs * sum.Threads, Lock: lock}); err != nil {
+		if ctx.Err() != nil {
+			return interrupted("run the same command again to resume (it scores without redoing runs), or `plumb score "+opt.Dir+"`",
+				"while scoring: all %d runs are kept; the score tables were not written", st.Planned)
+		}
 		return err
 	}
 	if !c.Bool("quiet") {

@@ -103,6 +103,37 @@ if (show.scored) {
     check(`setting ${s.setting_id} point rows`, p.n, s.runs_done >= 2 ? n : 0);
     check(`setting ${s.setting_id} unstable_share`, p.share, s.unstable_share, 1e-12);
   }
+  // The readings: R_NX AUC per run, the medoid run's clusters, the labels.
+  const auc = Object.fromEntries((await rows(`select setting_id, quantile_cont(rnx_auc, 0.5) as a
+    from read_parquet(${q('scores/runs.parquet')}) group by setting_id`)).map((x) => [x.setting_id, x.a]));
+  const cl = Object.fromEntries((await rows(`select setting_id, count(*) as n, count(distinct medoid_run) as medoids,
+      first(medoid_run) as medoid, sum(size) as size, count(jaccard_mean) as measured,
+      count(*) filter (where reading = 'not measured') as unmeasured
+    from read_parquet(${q('scores/clusters.parquet')}) group by setting_id`)).map((x) => [x.setting_id, x]));
+  const lab = Object.fromEntries((await rows(`select setting_id, count(*) as n, sum(points) as points, count(stable_share) as measured
+    from read_parquet(${q('scores/labels.parquet')}) group by setting_id`)).map((x) => [x.setting_id, x]));
+  for (const s of show.settings) {
+    check(`setting ${s.setting_id} rnx_auc_median`, auc[s.setting_id] ?? null, s.rnx_auc_median, 1e-12);
+    const c = cl[s.setting_id] || { n: 0, medoids: 0, medoid: null, size: 0, measured: 0, unmeasured: 0 };
+    check(`setting ${s.setting_id} cluster rows`, c.n, s.clusters ?? 0);
+    if (c.n > 0) {
+      check(`setting ${s.setting_id} clusters of one medoid run`, c.medoids, 1);
+      check(`setting ${s.setting_id} medoid_run is the clusters' (equal = 1)`, c.medoid === s.medoid_run ? 1 : 0, 1);
+      check(`setting ${s.setting_id} clustered points <= n`, Number(c.size) <= n ? 1 : 0, 1);
+      // between-run readings null exactly where stability was not measured
+      check(`setting ${s.setting_id} clusters with a Jaccard`, c.measured, s.stability_measured ? c.n : 0);
+      check(`setting ${s.setting_id} clusters read "not measured"`, c.unmeasured, s.stability_measured ? 0 : c.n);
+    }
+    if (show.input.has_labels && s.runs_done > 0 && s.clusters !== null) {
+      const l = lab[s.setting_id] || { n: 0, points: 0, measured: 0 };
+      check(`setting ${s.setting_id} label points`, l.points, n);
+      check(`setting ${s.setting_id} labels with a stable share`, l.measured, s.stability_measured ? l.n : 0);
+    }
+  }
+  for (const [table, file] of [['scores.clusters', 'scores/clusters.parquet'], ['scores.labels', 'scores/labels.parquet']]) {
+    r = await one(`select count(*) as n from parquet_kv_metadata(${q(file)}) where decode(key) = 'plumb.table' and decode(value) = '${table}'`);
+    check(`${file}: plumb.table = ${table}`, r.n, 1);
+  }
 }
 console.log(failures === 0 ? 'duckdb check: all agree' : `duckdb check: ${failures} mismatches`);
 process.exit(failures === 0 ? 0 : 1);

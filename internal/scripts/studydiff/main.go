@@ -24,6 +24,7 @@ import (
 	"path/filepath"
 	"reflect"
 	"sort"
+	"strings"
 
 	"plumb/internal/parquetio"
 )
@@ -117,8 +118,8 @@ func files(dir string) ([]string, error) {
 		if err != nil {
 			return err
 		}
-		if e.IsDir() {
-			return nil
+		if e.IsDir() || strings.HasPrefix(e.Name(), ".plumb.lock") {
+			return nil // directories; the study's lock files (sweep/lock.go), bookkeeping of the processes that ran
 		}
 		rel, err := filepath.Rel(dir, path)
 		if err != nil {

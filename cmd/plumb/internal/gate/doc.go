@@ -1,35 +1,40 @@
 // Package gate compares a study with a baseline study, for nightly
-// regression runs (`plumb check`).
+// regression runs (`plumb check`): do tonight's runs of each setting still
+// look like the baseline's runs, as if made by the same code from the same
+// data with other seeds?
 //
-// Settings are matched by their parameter values (every parameter, minus
-// any the caller chooses to ignore), points by id (align.MatchByID). For
-// each matched setting the current consensus layout is aligned onto the
-// baseline's by ordinary Procrustes with scaling (Schönemann 1966), and the
-// gate reports:
+// Settings are matched by the values of their parameters (every field of a
+// setting, minus any the caller ignores), points by id (align.MatchByID).
+// For each matched setting:
 //
-//	disparity to baseline   Procrustes disparity, scipy convention, in [0, 1]
-//	Jaccard to baseline     mean kNN Jaccard overlap of the two consensus maps
-//	score changes           trustworthiness, seed-to-seed disparity and
-//	                        Jaccard, final KL: current − baseline
-//	points that moved most  distance after alignment, in units of the
-//	                        baseline consensus's RMS radius
+//	reproduction   on the same data, a current run with the same start as a
+//	               baseline run (same seed, or any seed with PCA
+//	               initialisation) must reproduce it within a rounding
+//	               tolerance: the engine is deterministic
+//	layout tests   every pair of runs is scored by kNN Jaccard overlap and
+//	               Procrustes disparity; the shift of the pairs across the
+//	               studies against the pairs within one is tested by
+//	               permutation over relabelings of the runs
+//	               (stability.CompareSets), Bonferroni over the tests that
+//	               can reach the level (Tarone 1990), and must also exceed a
+//	               minimum size
+//	scores         median trustworthiness may fall, and median final KL rise
+//	               (relatively), by at most a limit
 //
-// A setting regresses when any of these passes its threshold (see
-// Thresholds for the documented defaults). The outcome is "pass",
-// "regression", or "incomparable" when the two studies cannot be compared
-// at all: different input fingerprints (unless allowed), no setting in
-// common, or no point id in common — the Result says which.
-//
-// Limits on disparity and Jaccard to baseline widen with the baseline's own
-// seed-to-seed variation, so that a setting which is unstable in itself is
-// not reported as a regression merely for being unstable.
+// The family-wise chance that a study made with other seeds fails a layout
+// test is at most Options.Alpha. A setting with neither a run to reproduce
+// nor enough runs to reach the level is untested. Studies that differ in
+// their input fingerprint (DataChanged), in any plan field that changes
+// what a run sees, or in the k they were scored with (Incomparable) are
+// not compared.
 //
 // References:
-//   - Schönemann, P. H. A generalized solution of the orthogonal Procrustes
-//     problem. Psychometrika 31, 1–10, 1966.
-//   - Gower, J. C. Generalized Procrustes analysis. Psychometrika 40, 33–51,
-//     1975.
+//   - R. A. Fisher, The Design of Experiments, Oliver & Boyd, 1935.
+//   - R. E. Tarone, "A modified Bonferroni method for discrete data",
+//     Biometrics 46(2):515–522, 1990.
+//   - P. H. Schönemann, "A generalized solution of the orthogonal
+//     Procrustes problem", Psychometrika 31:1–10, 1966.
 //   - The JUnit XML report format as read by common CI dashboards
-//     (testsuite/testcase/failure elements; common practice, no formal
-//     standard).
+//     (testsuite/testcase/failure/skipped elements; common practice, no
+//     formal standard).
 package gate

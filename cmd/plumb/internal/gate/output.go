@@ -21,65 +21,88 @@ func (n num) MarshalJSON() ([]byte, error) {
 	return []byte(strconv.FormatFloat(float64(n), 'g', -1, 64)), nil
 }
 
-type jsonChange struct {
-	Score    string `json:"score"`
-	Baseline num    `json:"baseline"`
-	Current  num    `json:"current"`
-	Change   num    `json:"change"`
-	Failed   bool   `json:"failed"`
+type jsonTest struct {
+	Tested         bool   `json:"tested"`
+	Reason         string `json:"reason,omitempty"`
+	WithinBaseline num    `json:"within_baseline"`
+	WithinCurrent  num    `json:"within_current"`
+	Across         num    `json:"across"`
+	Shift          num    `json:"shift"`
+	MinShift       num    `json:"min_shift"`
+	P              num    `json:"p"`
+	PMin           num    `json:"p_min"`
+	Level          num    `json:"level"`
+	Relabelings    int    `json:"relabelings"`
+	Exact          bool   `json:"exact"`
+	Failed         bool   `json:"failed"`
 }
 
-type jsonMoved struct {
-	ID       string `json:"id"`
-	Distance num    `json:"distance"`
+func toJSONTest(t Test) jsonTest {
+	return jsonTest{t.Tested, t.Reason, num(t.WithinBaseline), num(t.WithinCurrent), num(t.Across), num(t.Shift), num(t.Margin),
+		num(t.P), num(t.PMin), num(t.Level), t.Relabelings, t.Exact, t.Failed}
+}
+
+type jsonChange struct {
+	Baseline num  `json:"baseline"`
+	Current  num  `json:"current"`
+	Change   num  `json:"change"`
+	Failed   bool `json:"failed"`
 }
 
 type jsonSetting struct {
-	Label          string       `json:"label"`
-	BaselineID     string       `json:"baseline_id"`
-	CurrentID      string       `json:"current_id"`
-	Pass           bool         `json:"pass"`
-	Points         int          `json:"points"`
-	MissingPoints  int          `json:"missing_points"`
-	Disparity      num          `json:"disparity_to_baseline"`
-	DisparityLimit num          `json:"disparity_limit"`
-	Jaccard        num          `json:"jaccard_to_baseline"`
-	JaccardLimit   num          `json:"jaccard_limit"`
-	K              int          `json:"k"`
-	Changes        []jsonChange `json:"changes"`
-	Moved          []jsonMoved  `json:"moved_most"`
-	Failures       []string     `json:"failures"`
+	Label         string   `json:"label"`
+	BaselineID    string   `json:"baseline_id"`
+	CurrentID     string   `json:"current_id"`
+	Status        string   `json:"status"`
+	RunsBaseline  int      `json:"runs_baseline"`
+	RunsCurrent   int      `json:"runs_current"`
+	Points        int      `json:"points"`
+	MissingPoints int      `json:"missing_points"`
+	Reproduction  any      `json:"reproduction"`
+	Jaccard       jsonTest `json:"jaccard"`
+	Disparity     jsonTest `json:"disparity"`
+	// Trustworthiness change is absolute; KL change is relative (0.05 = 5%).
+	Trust    jsonChange `json:"trustworthiness"`
+	KL       jsonChange `json:"kl_relative"`
+	Moved    []any      `json:"neighbourhood_changed_most"`
+	Failures []string   `json:"failures"`
+	Notes    []string   `json:"notes"`
 }
 
 // JSON encodes the result for machines (NaN as null), indented.
 func (r *Result) JSON() ([]byte, error) {
+	o := r.Options
 	out := struct {
-		Outcome      Outcome       `json:"outcome"`
-		Reason       string        `json:"reason"`
-		Baseline     string        `json:"baseline"`
-		Current      string        `json:"current"`
-		Thresholds   any           `json:"thresholds"`
-		Settings     []jsonSetting `json:"settings"`
-		OnlyBaseline []string      `json:"only_in_baseline"`
-		OnlyCurrent  []string      `json:"only_in_current"`
-	}{Outcome: r.Outcome, Reason: r.Reason, Baseline: r.Baseline, Current: r.Current,
-		Settings: []jsonSetting{}, OnlyBaseline: nonNil(r.OnlyBaseline), OnlyCurrent: nonNil(r.OnlyCurrent)}
-	t := r.Thresholds
+		Outcome      Outcome        `json:"outcome"`
+		ExitCode     int            `json:"exit_code"`
+		Reason       string         `json:"reason"`
+		Baseline     string         `json:"baseline"`
+		Current      string         `json:"current"`
+		Test         string         `json:"test"`
+		Thresholds   map[string]any `json:"thresholds"`
+		Settings     []jsonSetting  `json:"settings"`
+		OnlyBaseline []string       `json:"only_in_baseline"`
+		OnlyCurrent  []string       `json:"only_in_current"`
+		PlanDiffs    []string       `json:"plan_differences"`
+	}{Outcome: r.Outcome, ExitCode: r.ExitCode(), Reason: r.Reason, Baseline: r.Baseline, Current: r.Current, Test: r.TestDescription(),
+		Settings: []jsonSetting{}, OnlyBaseline: nonNil(r.OnlyBaseline), OnlyCurrent: nonNil(r.OnlyCurrent), PlanDiffs: nonNil(r.PlanDiffs)}
 	out.Thresholds = map[string]any{
-		"max_disparity": t.MaxDisparity, "min_jaccard": t.MinJaccard, "seed_factor": t.SeedFactor,
-		"max_trust_drop": t.MaxTrustDrop, "max_stability_loss": t.MaxStabilityLoss, "max_kl_rise": t.MaxKLRise,
-		"k": t.K, "moved": t.Moved,
+		"alpha": o.Alpha, "bonferroni_divisor": r.Divisor, "tests_reaching_level": r.Testable, "min_jaccard_shift": o.MinJaccardShift, "min_disparity_shift": o.MinDisparityShift,
+		"max_trust_drop": o.MaxTrustDrop, "max_kl_rise_relative": o.MaxKLRise, "exact_tolerance": o.ExactTolerance,
+		"k": r.K, "k_baseline": r.KBaseline, "k_current": r.KCurrent, "moved": o.Moved,
 	}
 	for _, s := range r.Settings {
-		js := jsonSetting{Label: s.Label, BaselineID: s.BaselineID, CurrentID: s.CurrentID, Pass: s.Pass(), Points: s.Points,
-			MissingPoints: s.MissingPoints, Disparity: num(s.Disparity), DisparityLimit: num(s.DisparityLimit),
-			Jaccard: num(s.Jaccard), JaccardLimit: num(s.JaccardLimit), K: s.K, Failures: nonNil(s.Failures),
-			Changes: []jsonChange{}, Moved: []jsonMoved{}}
-		for _, c := range s.Changes {
-			js.Changes = append(js.Changes, jsonChange{c.Score, num(c.Baseline), num(c.Current), num(c.Change), c.Failed})
+		js := jsonSetting{Label: s.Label, BaselineID: s.BaselineID, CurrentID: s.CurrentID, Status: s.Status(),
+			RunsBaseline: s.RunsBaseline, RunsCurrent: s.RunsCurrent, Points: s.Points, MissingPoints: s.MissingPoints,
+			Jaccard: toJSONTest(s.Jaccard), Disparity: toJSONTest(s.Disparity),
+			Trust:    jsonChange{num(s.Trust.Baseline), num(s.Trust.Current), num(s.Trust.Change), s.Trust.Failed},
+			KL:       jsonChange{num(s.KL.Baseline), num(s.KL.Current), num(s.KL.Change), s.KL.Failed},
+			Failures: nonNil(s.Failures), Notes: nonNil(s.Notes), Moved: []any{}}
+		if rp := s.Reproduction; rp != nil {
+			js.Reproduction = map[string]any{"pairs": rp.Pairs, "matched": rp.Matched, "worst_relative_rms": num(rp.Worst), "worst_seed": rp.WorstSeed}
 		}
 		for _, m := range s.Moved {
-			js.Moved = append(js.Moved, jsonMoved{m.ID, num(m.Distance)})
+			js.Moved = append(js.Moved, map[string]any{"id": m.ID, "jaccard_change": num(m.Change)})
 		}
 		out.Settings = append(out.Settings, js)
 	}
@@ -88,6 +111,22 @@ func (r *Result) JSON() ([]byte, error) {
 		return nil, fmt.Errorf("gate: %w", err)
 	}
 	return append(b, '\n'), nil
+}
+
+// ExitCode is the exit status plumb check gives the outcome: 0 pass, 1
+// regression, 3 data changed, 4 untested (too few runs), 2 incomparable.
+func (r *Result) ExitCode() int {
+	switch r.Outcome {
+	case Pass:
+		return 0
+	case Regression:
+		return 1
+	case DataChanged:
+		return 3
+	case Untested:
+		return 4
+	}
+	return 2
 }
 
 func nonNil(s []string) []string {
@@ -111,44 +150,72 @@ func signed(x float64) string {
 	return fmt.Sprintf("%+.4f", x)
 }
 
+func pct(x float64) string {
+	if !finite(x) {
+		return "–"
+	}
+	return fmt.Sprintf("%+.1f%%", 100*x)
+}
+
+func pval(t Test) string {
+	switch {
+	case !finite(t.P):
+		return "–"
+	case !t.Tested:
+		return fmt.Sprintf("(%.2g)", t.P)
+	}
+	return fmt.Sprintf("%.2g", t.P)
+}
+
 // Text renders the result as a table for people.
 func (r *Result) Text() string {
 	var b strings.Builder
-	fmt.Fprintf(&b, "baseline %s\ncurrent  %s\n", r.Baseline, r.Current)
-	if r.Outcome == Incomparable {
-		fmt.Fprintf(&b, "outcome: INCOMPARABLE: %s\n", r.Reason)
+	fmt.Fprintf(&b, "baseline %s (k = %d)\ncurrent  %s (k = %d)\n", r.Baseline, r.KBaseline, r.Current, r.KCurrent)
+	if r.Outcome == DataChanged || (r.Outcome == Incomparable && len(r.Settings) == 0) {
+		fmt.Fprintf(&b, "outcome: %s: %s\n", strings.ToUpper(string(r.Outcome)), r.Reason)
 		return b.String()
 	}
 	tw := tabwriter.NewWriter(&b, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "verdict\tsetting\tpoints\tdisparity\t(limit)\tjaccard\t(limit)\tΔtrust\tΔseed disp.\tΔseed jacc.\tΔKL")
+	fmt.Fprintln(tw, "verdict\tsetting\truns\treproduced\tjaccard within→across\tshift\tp\tdisparity within→across\tshift\tp\tΔtrust\tΔKL")
 	for _, s := range r.Settings {
-		v := "ok"
-		if !s.Pass() {
-			v = "FAIL"
+		rep := "–"
+		if rp := s.Reproduction; rp != nil {
+			rep = fmt.Sprintf("%d/%d", rp.Matched, rp.Pairs)
 		}
-		ch := map[string]float64{}
-		for _, c := range s.Changes {
-			ch[c.Score] = c.Change
+		within := func(t Test) string {
+			w := t.WithinBaseline
+			if finite(t.WithinBaseline) && finite(t.WithinCurrent) {
+				w = (t.WithinBaseline + t.WithinCurrent) / 2
+			} else if !finite(w) {
+				w = t.WithinCurrent
+			}
+			return f4(w) + "→" + f4(t.Across)
 		}
-		fmt.Fprintf(tw, "%s\t%s\t%d\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\n", v, s.Label, s.Points,
-			f4(s.Disparity), "≤"+f4(s.DisparityLimit), f4(s.Jaccard), "≥"+f4(s.JaccardLimit),
-			signed(ch["trustworthiness"]), signed(ch["seed disparity"]), signed(ch["seed Jaccard"]), signed(ch["final KL"]))
+		fmt.Fprintf(tw, "%s\t%s\t%d/%d\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\n", strings.ToUpper(s.Status()), s.Label,
+			s.RunsBaseline, s.RunsCurrent, rep, within(s.Jaccard), signed(s.Jaccard.Shift), pval(s.Jaccard),
+			within(s.Disparity), signed(s.Disparity.Shift), pval(s.Disparity), signed(s.Trust.Change), pct(s.KL.Change))
 	}
 	tw.Flush()
+	fmt.Fprintf(&b, "runs: baseline/current; reproduced: runs identical to the baseline run of the same seed and start; "+
+		"shift: how much less alike runs across the studies are than runs within one (Jaccard in overlap, disparity in disparity units); "+
+		"p in brackets: not tested (too few runs); ΔKL relative\n")
 	for _, s := range r.Settings {
-		if s.Pass() {
+		if s.Pass() && len(s.Notes) == 0 {
 			continue
 		}
-		fmt.Fprintf(&b, "\nFAIL %s:\n", s.Label)
+		fmt.Fprintf(&b, "\n%s %s:\n", strings.ToUpper(s.Status()), s.Label)
 		for _, f := range s.Failures {
 			fmt.Fprintf(&b, "  - %s\n", f)
 		}
-		if len(s.Moved) > 0 {
+		for _, n := range s.Notes {
+			fmt.Fprintf(&b, "  - %s\n", n)
+		}
+		if len(s.Moved) > 0 && !s.Pass() {
 			var parts []string
 			for _, m := range s.Moved {
-				parts = append(parts, fmt.Sprintf("%s (%.2f)", m.ID, m.Distance))
+				parts = append(parts, fmt.Sprintf("%s (%.2f)", m.ID, m.Change))
 			}
-			fmt.Fprintf(&b, "  moved most (distance / baseline RMS radius): %s\n", strings.Join(parts, ", "))
+			fmt.Fprintf(&b, "  neighbourhoods changed most (kNN Jaccard within − across): %s\n", strings.Join(parts, ", "))
 		}
 	}
 	if len(r.OnlyBaseline) > 0 {
@@ -157,6 +224,7 @@ func (r *Result) Text() string {
 	if len(r.OnlyCurrent) > 0 {
 		fmt.Fprintf(&b, "\nnew in the current study (not checked): %s\n", strings.Join(r.OnlyCurrent, "; "))
 	}
+	fmt.Fprintf(&b, "\n%s\n", r.TestDescription())
 	fmt.Fprintf(&b, "\noutcome: %s: %s\n", strings.ToUpper(string(r.Outcome)), r.Reason)
 	return b.String()
 }
@@ -167,12 +235,17 @@ type junitFailure struct {
 	Text    string `xml:",chardata"`
 }
 
+type junitSkipped struct {
+	Message string `xml:"message,attr"`
+}
+
 type junitCase struct {
 	Name      string        `xml:"name,attr"`
 	Classname string        `xml:"classname,attr"`
 	Time      string        `xml:"time,attr"`
 	Failure   *junitFailure `xml:"failure,omitempty"`
 	Error     *junitFailure `xml:"error,omitempty"`
+	Skipped   *junitSkipped `xml:"skipped,omitempty"`
 	SystemOut string        `xml:"system-out,omitempty"`
 }
 
@@ -182,27 +255,33 @@ type junitSuite struct {
 	Tests    int         `xml:"tests,attr"`
 	Failures int         `xml:"failures,attr"`
 	Errors   int         `xml:"errors,attr"`
+	Skipped  int         `xml:"skipped,attr"`
 	Cases    []junitCase `xml:"testcase"`
 }
 
 // JUnit renders the result as a JUnit XML test suite: one test case per
-// matched setting (failed when it regressed), one per setting missing from
-// the current study, and a single errored case when the studies are
-// incomparable.
+// matched setting (failed when it changed, skipped when it could not be
+// tested), one failed case per setting missing from the current study,
+// and a single errored case when the studies were not compared.
 func (r *Result) JUnit() ([]byte, error) {
 	s := junitSuite{Name: "plumb check"}
-	if r.Outcome == Incomparable {
+	if r.Outcome == DataChanged || (r.Outcome == Incomparable && len(r.Settings) == 0) {
 		s.Cases = append(s.Cases, junitCase{Name: "comparable studies", Classname: "plumb.check", Time: "0",
-			Error: &junitFailure{Message: r.Reason, Type: "incomparable", Text: r.Reason}})
+			Error: &junitFailure{Message: r.Reason, Type: string(r.Outcome), Text: r.Reason}})
 		s.Errors = 1
 	}
 	for _, st := range r.Settings {
 		c := junitCase{Name: st.Label, Classname: "plumb.check", Time: "0",
-			SystemOut: fmt.Sprintf("disparity to baseline %s (limit %s), kNN Jaccard to baseline %s (limit %s), %d points",
-				f4(st.Disparity), f4(st.DisparityLimit), f4(st.Jaccard), f4(st.JaccardLimit), st.Points)}
-		if !st.Pass() {
+			SystemOut: fmt.Sprintf("runs %d/%d; kNN Jaccard shift %s (p %s); disparity shift %s (p %s); Δtrustworthiness %s; ΔKL %s",
+				st.RunsBaseline, st.RunsCurrent, signed(st.Jaccard.Shift), pval(st.Jaccard), signed(st.Disparity.Shift), pval(st.Disparity),
+				signed(st.Trust.Change), pct(st.KL.Change))}
+		switch st.Status() {
+		case "fail":
 			c.Failure = &junitFailure{Message: strings.Join(st.Failures, "; "), Type: "regression", Text: strings.Join(st.Failures, "\n")}
 			s.Failures++
+		case "untested":
+			c.Skipped = &junitSkipped{Message: strings.Join(st.Notes, "; ")}
+			s.Skipped++
 		}
 		s.Cases = append(s.Cases, c)
 	}

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"plumb/cmd/plumb/internal/recommend"
 	"regexp"
 	"strings"
 	"testing"
@@ -53,7 +54,7 @@ func TestMethodsCitationsListed(t *testing.T) {
 		"Barnes-Hut (van der Maaten, 2014) with θ = 0.8 and FFT-accelerated interpolation (Linderman et al., 2019)"} {
 		st := syntheticStudy()
 		st.Gradient = grad
-		rec, _ := Recommend(Candidates(st), Rule{})
+		rec, _ := recommend.Recommend(Candidates(st), Rule{})
 		md := MethodsMarkdown(st, rec)
 		cites, missing := CheckCitations(md)
 		if cites < 3 {

@@ -51,18 +51,28 @@ func TestWriteEdgeCases(t *testing.T) {
 				nan := stability.MedianIQR{Median: math.NaN(), IQR: math.NaN()}
 				x.Disparity, x.Jaccard, x.Trustworthiness, x.KL = nan, nan, nan, nan
 			},
-			want: []string{"no finished runs", "0 runs finished; agreement across seeds needs two"},
+			want: []string{"no finished runs", "<code>s-5-auto</code>: no finished run"},
 		},
 		{
-			name: "single setting, single seed: no recommendation",
+			name: "single setting, single seed: picked on faithfulness alone",
 			edit: func(s *studyview.View) {
 				s.Settings = s.Settings[:1]
 				s.Settings[0].RunsDone = 1
 				s.Settings[0].Disparity = stability.MedianIQR{Median: math.NaN(), IQR: math.NaN()}
+				s.Settings[0].Arrangements = 0
 				s.Grid = []studyview.Param{{Name: "perplexity", Values: []string{"5"}}}
 				s.Seeds = s.Seeds[:1]
 			},
-			want: []string{"No recommendation: no setting has two finished runs"},
+			want: []string{"Stability not measured</strong> for this setting (1 finished run)", "no runner-up"},
+		},
+		{
+			name: "no faithfulness score: no recommendation",
+			edit: func(s *studyview.View) {
+				for i := range s.Settings {
+					s.Settings[i].RNXAUC = stability.MedianIQR{Median: math.NaN(), IQR: math.NaN()}
+				}
+			},
+			want: []string{"No recommendation: no setting has a finished run with a defined faithfulness score"},
 		},
 	}
 	for _, tc := range cases {

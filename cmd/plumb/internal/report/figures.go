@@ -164,10 +164,10 @@ func (m mapper) at(x, y float64) (float64, float64) {
 // layouts by setting index (nil where a setting has no consensus).
 func alignedConsensus(st *studyview.View, ref int) ([][]float64, error) {
 	out := make([][]float64, len(st.Settings))
-	base := st.Settings[ref].Consensus
+	base, _ := picture(&st.Settings[ref])
 	rb := rmsRadius(base)
 	for i := range st.Settings {
-		c := st.Settings[i].Consensus
+		c, _ := picture(&st.Settings[i])
 		if len(c) == 0 {
 			continue
 		}

@@ -1,7 +1,6 @@
 package report
 
 import (
-	"fmt"
 	"math"
 	"strings"
 	"testing"
@@ -71,25 +70,4 @@ func TestHeatmapFacets(t *testing.T) {
 	if n := strings.Count(svg, "<title>perplexity "); n != 12 {
 		t.Errorf("got %d cells want 12", n)
 	}
-}
-
-func ExampleRecommend() {
-	rec, err := Recommend([]Candidate{
-		{ID: "perp-5", Runs: 5, Trustworthiness: 0.93, Disparity: 0.20, Jaccard: 0.55, KL: 1.10},
-		{ID: "perp-30", Runs: 5, Trustworthiness: 0.95, Disparity: 0.03, Jaccard: 0.90, KL: 0.80},
-		{ID: "perp-50", Runs: 5, Trustworthiness: 0.948, Disparity: 0.02, Jaccard: 0.91, KL: 0.70},
-	}, Rule{})
-	if err != nil {
-		fmt.Println(err)
-		return
-	}
-	fmt.Println("chosen:", rec.Chosen.ID)
-	fmt.Println("runner-up:", rec.RunnerUp.ID, "decided by", rec.DecidedBy)
-	fmt.Println("ranking:", rec.Ranking)
-	fmt.Println("indistinguishable:", rec.Indistinguishable)
-	// Output:
-	// chosen: perp-50
-	// runner-up: perp-30 decided by kl
-	// ranking: [perp-50 perp-30 perp-5]
-	// indistinguishable: [perp-30]
 }

@@ -129,16 +129,18 @@ func Methods(st *studyview.View, rec *Recommendation) []string {
 		fmtScore(dlo), fmtScore(dhi), fmtScore(jlo), fmtScore(jhi), fmtScore(tlo), fmtScore(thi), fmtScore(klo), fmtScore(khi))
 	paras := []string{b.String()}
 
+	paras = append(paras, readingsParagraph(st))
 	if rec != nil {
 		s := st.Setting(rec.Chosen.ID)
 		var r strings.Builder
-		fmt.Fprintf(&r, "Following a stated rule (faithfulness first: median trustworthiness within %g of the best; then stability: median disparity within %g of the lowest, then median Jaccard within %g of the highest; then the lowest median KL), we chose %s. ",
-			rec.Rule.TrustTolerance, rec.Rule.DisparityTolerance, rec.Rule.JaccardTolerance, st.Label(s))
-		fmt.Fprintf(&r, "Over its %d finished seeds it had median trustworthiness %s, seed-to-seed disparity %s, kNN Jaccard %s and final KL divergence %s; %.1f%% of its points were flagged unstable.",
-			s.RunsDone, fmtMedianIQR(s.Trustworthiness), fmtMedianIQR(s.Disparity), fmtMedianIQR(s.Jaccard), fmtMedianIQR(s.KL), 100*s.UnstableShare)
+		fmt.Fprintf(&r, "The setting was chosen by a stated rule: %s ", rec.Rule.Words())
+		fmt.Fprintf(&r, "By this rule we chose %s. %s", st.Label(s), settingSummary(s))
+		if !rec.StabilityMeasured {
+			fmt.Fprintf(&r, " Its stability was not measured (%s): the pick rests on faithfulness alone.", notMeasuredWhy(s))
+		}
 		if rec.RunnerUp != nil {
 			ru := st.Setting(rec.RunnerUp.ID)
-			fmt.Fprintf(&r, " The runner-up, %s, was not chosen because %s.", st.Label(ru), rec.Why)
+			fmt.Fprintf(&r, " The runner-up, %s, was separated at step %s (margin %s): %s.", st.Label(ru), StepWords(rec.DecidedBy), MarginWords(rec.DecidedBy, rec.Margin), rec.Why)
 		}
 		if len(rec.Indistinguishable) > 0 {
 			var names []string
@@ -146,7 +148,7 @@ func Methods(st *studyview.View, rec *Recommendation) []string {
 				names = append(names, st.Label(st.Setting(id)))
 			}
 			sort.Strings(names)
-			fmt.Fprintf(&r, " Within the tolerances or the seed-to-seed spread, %s could not be told apart from it.", strings.Join(names, "; "))
+			fmt.Fprintf(&r, " Within the tolerances or the run-to-run spread, %s could not be told apart from it.", strings.Join(names, "; "))
 		}
 		paras = append(paras, r.String())
 	}
@@ -179,6 +181,12 @@ var references = []reference{
 	{"Belkina et al., 2019", "Belkina, A. C. et al. Automated optimized parameters for T-distributed stochastic neighbor embedding improve visualization and analysis of large datasets. Nature Communications 10, 5415 (2019)."},
 	{"Gower, 1975", "Gower, J. C. Generalized Procrustes analysis. Psychometrika 40, 33–51 (1975)."},
 	{"Venna & Kaski, 2001", "Venna, J. & Kaski, S. Neighborhood preservation in nonlinear projection methods: an experimental study. ICANN (2001)."},
+	{"Lee & Verleysen", "Lee, J. A. & Verleysen, M. Quality assessment of dimensionality reduction: rank-based criteria. Neurocomputing 72, 1431–1443 (2009)."},
+	{"Lee, Peluffo-Ordóñez & Verleysen", "Lee, J. A., Peluffo-Ordóñez, D. H. & Verleysen, M. Multi-scale similarities in stochastic neighbour embedding: reducing dimensionality while preserving both local and global structure. Neurocomputing 169, 246–261 (2015)."},
+	{"Rousseeuw, 1987", "Rousseeuw, P. J. Silhouettes: a graphical aid to the interpretation and validation of cluster analysis. Journal of Computational and Applied Mathematics 20, 53–65 (1987)."},
+	{"Ester et al., 1996", "Ester, M., Kriegel, H.-P., Sander, J. & Xu, X. A density-based algorithm for discovering clusters in large spatial databases with noise. KDD 1996, 226–231."},
+	{"Hennig", "Hennig, C. Cluster-wise assessment of cluster stability. Computational Statistics & Data Analysis 52, 258–271 (2007)."},
+	{"Monti et al., 2003", "Monti, S., Tamayo, P., Mesirov, J. & Golub, T. Consensus clustering: a resampling-based method for class discovery and visualization of gene expression microarray data. Machine Learning 52, 91–118 (2003)."},
 	{"", "Wattenberg, M., Viégas, F. & Johnson, I. How to Use t-SNE Effectively. Distill (2016)."},
 }
 

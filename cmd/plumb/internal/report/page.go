@@ -5,6 +5,7 @@ import (
 	_ "embed"
 	"fmt"
 	"html/template"
+	"plumb/cmd/plumb/internal/recommend"
 	"plumb/cmd/plumb/internal/studyview"
 	"plumb/stability"
 	"strings"
@@ -26,7 +27,7 @@ var (
 	//go:embed assets/maps.js
 	mapsJS string
 
-	pageTemplate = template.Must(template.New("page").Parse(pageHTML))
+	pageTemplate = template.Must(template.New("page").Funcs(template.FuncMap{"fmtScore": fmtScore}).Parse(pageHTML))
 )
 
 type pageView struct {
@@ -35,7 +36,7 @@ type pageView struct {
 	Done, NRuns, Failed           int
 	Rec                           *recView
 	NoRec, Seedless, Rule         string
-	Excluded                      []Exclusion
+	Excluded                      []recommend.Exclusion
 	Cautions                      []string
 	Maps                          bool
 	StabilityName                 string
@@ -53,13 +54,47 @@ type pageView struct {
 }
 
 type recView struct {
-	Label, ID                     string
-	Runs                          int
-	Trust, Disparity, Jaccard, KL string
-	Unstable                      string
-	RunnerUp, Step, Why           string
-	Compare                       []compareRow
-	Indistinguishable             string
+	Label, ID                   string
+	Summary, NotMeasured, Seeds string
+	RunnerUp, Step, Margin, Why string
+	Compare                     []compareRow
+	Indistinguishable           string
+	// ClustersCaption, Clusters and Labels are the per-cluster and
+	// per-label tables of the recommended setting.
+	ClustersCaption string
+	Clusters        []studyview.Cluster
+	HasLabels       bool
+	Labels          []labelRow
+}
+
+type labelRow struct {
+	Label, Points, Stable, Mean, With, Share string
+}
+
+func clusterRows(st *studyview.View, id string) []studyview.Cluster {
+	out := st.ClustersOf(id)
+	for i := range out {
+		out[i].Labels = shorten(out[i].Labels, 5)
+	}
+	return out
+}
+
+func labelRows(st *studyview.View, id string) []labelRow {
+	var out []labelRow
+	for _, l := range st.LabelsOf(id) {
+		out = append(out, labelRow{Label: l.Label, Points: fmt.Sprint(l.Points), Stable: fmtShare(l.Stable), Mean: fmtScore(l.MeanScore),
+			With: nonEmpty(l.MixesWith, "–"), Share: fmtScore(l.MixesShare)})
+	}
+	return out
+}
+
+// shorten keeps the first k comma-separated items of a list.
+func shorten(list string, k int) string {
+	parts := strings.Split(list, ", ")
+	if len(parts) <= k {
+		return list
+	}
+	return strings.Join(parts[:k], ", ") + fmt.Sprintf(", … (%d more)", len(parts)-k)
 }
 
 type compareRow struct{ Name, A, B, Diff string }
@@ -90,6 +125,9 @@ type rowView struct {
 	Scores         []cellView
 	Unstable       string
 	UnstableV      string
+	Arrangements   string
+	ArrangementsV  string
+	Medoid         string
 	Rank, RankV    string
 }
 
@@ -121,25 +159,31 @@ func page(st *studyview.View, rec *Recommendation, recErr error, figs []*Figure,
 	}
 	if rec == nil {
 		if recErr != nil {
-			v.NoRec = strings.TrimPrefix(recErr.Error(), "report: ")
+			v.NoRec = strings.TrimPrefix(recErr.Error(), "recommend: ")
 		} else {
 			v.NoRec = "no setting could be recommended"
 		}
 	} else {
 		s := st.Setting(rec.Chosen.ID)
-		r := &recView{Label: st.Label(s), ID: s.ID, Runs: s.RunsDone, Trust: fmtMedianIQR(s.Trustworthiness), Disparity: fmtMedianIQR(s.Disparity),
-			Jaccard: fmtMedianIQR(s.Jaccard), KL: fmtMedianIQR(s.KL), Unstable: fmt.Sprintf("%.1f%%", 100*s.UnstableShare)}
+		r := &recView{Label: st.Label(s), ID: s.ID, Summary: settingSummary(s), ClustersCaption: ClustersCaption(s),
+			Clusters: clusterRows(st, s.ID), HasLabels: st.HasLabels(), Labels: labelRows(st, s.ID)}
+		if !rec.StabilityMeasured {
+			r.NotMeasured = notMeasuredWhy(s)
+		} else {
+			r.Seeds = stability.SeedWarning(s.RunsDone)
+		}
 		if rec.RunnerUp != nil {
 			r.RunnerUp = st.Label(st.Setting(rec.RunnerUp.ID))
-			r.Step, r.Why = stepWords[rec.DecidedBy], rec.Why
+			r.Step, r.Margin, r.Why = StepWords(rec.DecidedBy), MarginWords(rec.DecidedBy, rec.Margin), rec.Why
 			for _, row := range []struct {
 				name string
 				a, b float64
 			}{
-				{"trustworthiness (higher is better)", rec.Chosen.Trustworthiness, rec.RunnerUp.Trustworthiness},
-				{"disparity (lower is better)", rec.Chosen.Disparity, rec.RunnerUp.Disparity},
-				{"kNN Jaccard (higher is better)", rec.Chosen.Jaccard, rec.RunnerUp.Jaccard},
-				{"final KL (lower is better)", rec.Chosen.KL, rec.RunnerUp.KL},
+				{"R_NX AUC (higher is more faithful)", rec.Chosen.RNXAUC.Median, rec.RunnerUp.RNXAUC.Median},
+				{"distinct arrangements (fewer is more stable; 0 = not measured)", float64(rec.Chosen.Arrangements), float64(rec.RunnerUp.Arrangements)},
+				{"disparity (lower is better)", rec.Chosen.Disparity.Median, rec.RunnerUp.Disparity.Median},
+				{"kNN Jaccard (higher is better)", rec.Chosen.Jaccard.Median, rec.RunnerUp.Jaccard.Median},
+				{"final KL (lower is better; compared only at one perplexity)", rec.Chosen.KL.Median, rec.RunnerUp.KL.Median},
 			} {
 				r.Compare = append(r.Compare, compareRow{row.name, fmtScore(row.a), fmtScore(row.b), fmtScore(row.a - row.b)})
 			}
@@ -152,7 +196,7 @@ func page(st *studyview.View, rec *Recommendation, recErr error, figs []*Figure,
 		v.Rec = r
 		v.Excluded = rec.Excluded
 	}
-	v.Seedless = strings.Join(seedless(st), "; ")
+	v.Seedless = strings.Join(unmeasured(st), "; ")
 	if data != nil {
 		v.Maps, v.Data = true, data
 		v.StabilityName = data.Stability.Name
@@ -188,6 +232,7 @@ func settingsTableView(st *studyview.View, rec *Recommendation) tableView {
 		name string
 		get  func(*studyview.Setting) stability.MedianIQR
 	}{
+		{"R_NX AUC", func(s *studyview.Setting) stability.MedianIQR { return s.RNXAUC }},
 		{"trustworthiness", func(s *studyview.Setting) stability.MedianIQR { return s.Trustworthiness }},
 		{"continuity", func(s *studyview.Setting) stability.MedianIQR { return s.Continuity }},
 		{"kNN recall", func(s *studyview.Setting) stability.MedianIQR { return s.KNNRecall }},
@@ -226,7 +271,14 @@ func settingsTableView(st *studyview.View, rec *Recommendation) tableView {
 	for i := range st.Settings {
 		s := &st.Settings[i]
 		r := rowView{Num: i + 1, ID: s.ID, Chosen: rec != nil && rec.Chosen.ID == s.ID, RunsDone: s.RunsDone, Runs: s.Runs,
-			Unstable: fmt.Sprintf("%.1f", 100*s.UnstableShare), UnstableV: fmt.Sprintf("%g", s.UnstableShare), Rank: "–", RankV: "9999"}
+			Unstable: fmt.Sprintf("%.1f", 100*s.UnstableShare), UnstableV: fmt.Sprintf("%g", s.UnstableShare), Rank: "–", RankV: "9999",
+			Arrangements: "not measured", ArrangementsV: "NaN", Medoid: nonEmpty(s.MedoidRun, "–")}
+		if !finite(s.UnstableShare) {
+			r.Unstable = "not measured"
+		}
+		if s.Arrangements > 0 {
+			r.Arrangements, r.ArrangementsV = fmt.Sprintf("%d (%s)", s.Arrangements, s.ArrangementSizes), fmt.Sprint(s.Arrangements)
+		}
 		for _, p := range varied {
 			r.Params = append(r.Params, s.Param(p.Name))
 		}
@@ -251,25 +303,4 @@ func rec0(r *Recommendation) Rule {
 		return Rule{}
 	}
 	return r.Rule
-}
-
-// stepWords names the steps of the rule for the page.
-var stepWords = map[string]string{
-	"trustworthiness": "faithfulness (trustworthiness)",
-	"disparity":       "stability (disparity)",
-	"jaccard":         "stability (kNN Jaccard)",
-	"kl":              "KL divergence",
-	"order":           "id order (exact tie)",
-}
-
-// seedless lists the settings whose seeds all gave the same map.
-func seedless(st *studyview.View) []string {
-	var out []string
-	for i := range st.Settings {
-		s := &st.Settings[i]
-		if s.RunsDone >= 2 && s.Disparity.Median == 0 && s.Disparity.IQR == 0 {
-			out = append(out, st.Label(s))
-		}
-	}
-	return out
 }

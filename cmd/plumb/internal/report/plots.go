@@ -84,8 +84,8 @@ func layoutsFigure(st *studyview.View, ref int, chosen string) (*Figure, error) 
 	}
 	top := 18.0
 	h := top + float64(rows)*(panel+head+gap) + 12*float64(legendRows) + 6
-	c := newCanvas(fullWidth, h, "Consensus layout of each setting, aligned onto one frame")
-	c.bold(margin, 11, fitText("Consensus layout per setting, rotated onto the frame of "+st.Label(&st.Settings[ref]), titleSize, fullWidth-2*margin, true), titleSize, "start")
+	c := newCanvas(fullWidth, h, "Medoid run of each setting, aligned onto one frame")
+	c.bold(margin, 11, fitText("Medoid run per setting, rotated onto the frame of "+st.Label(&st.Settings[ref]), titleSize, fullWidth-2*margin, true), titleSize, "start")
 	b := layoutBounds(aligned...)
 	idx := drawIndex(len(st.IDs))
 	r := dotRadius(len(idx), panel)
@@ -151,7 +151,7 @@ func layoutsFigure(st *studyview.View, ref int, chosen string) (*Figure, error) 
 	} else {
 		warnBar(c, margin, ly, 100, spreadWords)
 	}
-	caption := "One panel per setting: the consensus of its seeds, rotated and reflected by ordinary Procrustes onto the reference setting and scaled to its size so that panels are comparable; the few points beyond the 0.5th–99.5th percentile box are drawn on the frame. Where seeds disagree (high disparity) the consensus is an average of different maps and can place points between their positions in any single run. "
+	caption := "One panel per setting: its medoid run (the run closest in total Procrustes disparity to its other runs, a map a run produced; the consensus of its runs only where the medoid does not place every point), rotated and reflected by ordinary Procrustes onto the reference setting and scaled to its size so that panels are comparable; the few points beyond the 0.5th–99.5th percentile box are drawn on the frame. "
 	if mk != nil {
 		caption += "Colour shows the label (" + st.Input.LabelColumn + ")"
 		if len(order) > maxMarkers {
@@ -349,14 +349,15 @@ func stabilityFigure(st *studyview.View, si int) (*Figure, error) {
 	W := colWidth + 40
 	c := newCanvas(W, size+52, "Per-point stability of the recommended setting")
 	c.bold(6, 11, fitText(fmt.Sprintf("Per-point stability, %s", st.Label(s)), titleSize, W-12, true), titleSize, "start")
-	c.text(6, 21, fmt.Sprintf("%.1f%% of points flagged unstable (ringed)", 100*s.UnstableShare), tickSize, "start", grey)
+	c.text(6, 21, fmt.Sprintf("%s of points flagged unstable (ringed)", fmtShare(s.UnstableShare)), tickSize, "start", grey)
 	c.rect(6, 26, size, size, rgb{0xfa, 0xfa, 0xfa}, &light, "")
 	if len(s.Consensus) == 0 {
 		c.text(6+size/2, 26+size/2, "no finished runs", textSize, "middle", grey)
 		return finish(c, "stability", "The recommended setting has no consensus layout.")
 	}
-	m := newMapper(layoutBounds(s.Consensus), 6, 26, size)
-	idx := drawIndex(len(s.Consensus) / 2)
+	shown, what := picture(s)
+	m := newMapper(layoutBounds(shown), 6, 26, size)
+	idx := drawIndex(len(shown) / 2)
 	r := dotRadius(len(idx), size)
 	// Stable points first, so unstable ones stay on top.
 	order := append([]int(nil), idx...)
@@ -371,7 +372,7 @@ func stabilityFigure(st *studyview.View, si int) (*Figure, error) {
 		return share[p]
 	})
 	for _, p := range order {
-		x0, y0 := m.at(s.Consensus[2*p], s.Consensus[2*p+1])
+		x0, y0 := m.at(shown[2*p], shown[2*p+1])
 		c.circle(x0, y0, r, warnRamp(share[p]), 0.95)
 		if len(s.Unstable) > p && s.Unstable[p] {
 			c.ring(x0, y0, r+1.4, black)
@@ -388,10 +389,10 @@ func stabilityFigure(st *studyview.View, si int) (*Figure, error) {
 	c.text(lx+11, 30+float64(steps)*4+14, "flagged", tickSize, "start", black)
 	scale := fmt.Sprintf("spread across seeds (distance from the consensus after alignment) as a share of the map's RMS radius, on a fixed scale: light grey 0, dark red %g or more", spreadScale)
 	if len(s.Stability) > 0 {
-		scale = "per-point stability on its fixed scale from 1 (light grey) to 0 (dark red)"
+		scale = "co-assignment score (the mean Jaccard similarity, over pairs of runs, of the map-cluster groups holding it) on its fixed scale from 1 (light grey) to 0 (dark red)"
 	}
-	caption := fmt.Sprintf("The consensus layout of %s; each point's colour is its %s, over the %d finished seeds. Rings mark points flagged unstable (%.1f%% of all). The scale is fixed, not stretched to the values, so a map with little spread stays light.",
-		st.Label(s), scale, s.RunsDone, 100*s.UnstableShare)
+	caption := fmt.Sprintf("%s of %s; each point's colour is its %s, over the %d finished seeds. Rings mark points flagged unstable (%s). The scale is fixed, not stretched to the values, so a map with little spread stays light.",
+		strings.ToUpper(what[:1])+what[1:], st.Label(s), scale, s.RunsDone, fmtShare(s.UnstableShare))
 	return finish(c, "stability", caption)
 }
 

@@ -69,7 +69,12 @@ func syntheticStudy() *studyview.View {
 			s.PairSpearman = stability.MedianIQR{Median: 0.7, IQR: 0.05}
 			s.Disparity = stability.MedianIQR{Median: 0.05 * noise, IQR: 0.01 * noise}
 			s.Jaccard = stability.MedianIQR{Median: 0.8 - 0.1*noise, IQR: 0.02}
-			s.KL = stability.MedianIQR{Median: 1.2 - 0.1*float64(pi) + 0.01*float64(li), IQR: 0.02}
+			s.KL = stability.MedianIQR{Median: 1.2 - 0.1*float64(pi) + 0.03*float64(li), IQR: 0.02}
+			// Readings of the rule and the clusters (invented): R_NX AUC
+			// rising with perplexity, one arrangement, the first run as medoid.
+			s.RNXAUC = stability.MedianIQR{Median: 0.40 + 0.02*float64(pi), IQR: 0.002}
+			s.Varied, s.Arrangements, s.ArrangementSizes, s.MedoidRun, s.MapClusters = "seed", 1, "3", id+"-1", 3
+			s.ConsensusNote = "the largest disparity between two runs exceeds 0.02"
 			st.Settings = append(st.Settings, s)
 			for k, seed := range st.Seeds {
 				run := studyview.Run{ID: fmt.Sprintf("%s-%d", id, seed), SettingID: id, Seed: seed, Status: "done",

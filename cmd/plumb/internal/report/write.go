@@ -6,6 +6,7 @@ import (
 	"os"
 	"path/filepath"
 
+	"plumb/cmd/plumb/internal/recommend"
 	"plumb/cmd/plumb/internal/studyview"
 	"plumb/internal/atomicfile"
 )
@@ -30,17 +31,25 @@ type Output struct {
 	Figures []*Figure
 }
 
-// Candidates turns the study's settings into the rule's score table.
-func Candidates(st *studyview.View) []Candidate {
-	var cs []Candidate
+// Rule and Recommendation are the recommendation rule's (package
+// recommend), named here for the report's callers.
+type (
+	Rule           = recommend.Rule
+	Recommendation = recommend.Recommendation
+)
+
+// Candidates turns the study's settings into the rule's score table: the
+// median and IQR of the R_NX AUC, disparity, Jaccard and KL, what varied
+// between the runs and their number of distinct arrangements.
+func Candidates(st *studyview.View) []recommend.Setting {
+	var cs []recommend.Setting
 	for _, s := range st.Settings {
-		cs = append(cs, Candidate{
-			ID: s.ID, Runs: s.RunsDone,
-			Trustworthiness: s.Trustworthiness.Median, TrustworthinessIQR: s.Trustworthiness.IQR,
-			Disparity: s.Disparity.Median, DispIQR: s.Disparity.IQR,
-			Jaccard: s.Jaccard.Median, JaccardIQR: s.Jaccard.IQR,
-			KL: s.KL.Median, KLIQR: s.KL.IQR,
-		})
+		p := 0.0
+		if s.Param("perplexity") != "" {
+			fmt.Sscan(s.Param("perplexity"), &p)
+		}
+		cs = append(cs, recommend.Setting{ID: s.ID, Perplexity: p, Runs: s.RunsDone, Varied: s.Varied,
+			RNXAUC: s.RNXAUC, Disparity: s.Disparity, Jaccard: s.Jaccard, Arrangements: s.Arrangements, KL: s.KL})
 	}
 	return cs
 }
@@ -56,8 +65,8 @@ func Build(st *studyview.View, opt Options) (rec *Recommendation, recErr error, 
 			return nil, nil, nil, nil, fmt.Errorf("report: setting %s: consensus has %d coordinates for %d points", st.Settings[i].ID, len(c), len(st.IDs))
 		}
 	}
-	rec, recErr = Recommend(Candidates(st), opt.Rule)
-	if recErr != nil && !errors.Is(recErr, ErrNoCandidate) {
+	rec, recErr = recommend.Recommend(Candidates(st), opt.Rule)
+	if recErr != nil && !errors.Is(recErr, recommend.ErrNoSetting) {
 		return nil, nil, nil, nil, recErr
 	}
 	ref, chosen := -1, ""

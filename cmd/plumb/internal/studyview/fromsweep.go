@@ -12,11 +12,17 @@ import (
 	"plumb/sweep"
 )
 
-// NotScoredError reports a study whose score tables are missing.
-type NotScoredError struct{ Dir string }
+// NotScoredError reports a study whose score tables are missing, or do not
+// describe its finished runs (Problem, from sweep.Study.ScoresProblem).
+type NotScoredError struct{ Dir, Problem string }
 
 // Error says which study lacks its scores.
-func (e *NotScoredError) Error() string { return e.Dir + " has no score tables" }
+func (e *NotScoredError) Error() string {
+	if e.Problem != "" {
+		return e.Dir + ": " + e.Problem
+	}
+	return e.Dir + " has no score tables"
+}
 
 // Hint suggests the command that makes them.
 func (e *NotScoredError) Hint() string { return "run: plumb score " + e.Dir }
@@ -38,7 +44,7 @@ func lrText(v float64) string {
 // and trace file are read, and each layout aligned in O(n).
 func FromSweep(s *sweep.Study) (*View, error) {
 	if s.SettingScores == nil {
-		return nil, &NotScoredError{Dir: s.Dir}
+		return nil, &NotScoredError{Dir: s.Dir, Problem: s.ScoresProblem}
 	}
 	b := &viewBuilder{s: s, v: &View{Dir: s.Dir, Tool: "plumb", Version: s.Info.Version, Created: s.Info.Created,
 		PlanHash: s.Info.PlanHash, Seeds: append([]uint64(nil), s.Plan.Seeds...), K: s.ScoresK}}
@@ -52,6 +58,7 @@ func FromSweep(s *sweep.Study) (*View, error) {
 	b.consensus()
 	b.runs()
 	b.pairs()
+	b.readings()
 	if err := loadRunLayouts(b.s, b.v); err != nil {
 		return nil, err
 	}
@@ -211,6 +218,7 @@ func (b *viewBuilder) settings() {
 		set.Disparity, set.Jaccard, set.Trustworthiness, set.Continuity = nan, nan, nan, nan
 		set.KNNRecall, set.DistanceSpearman, set.LabelAccuracy, set.KL = nan, nan, nan, nan
 		set.PairSpearman, set.LabelPurity = nan, nan
+		set.RNXAUC, set.CoAssignment, set.UnstableShare, set.MapClusters = nan, nan, math.NaN(), -1
 		if sc := scores[ps.ID]; sc != nil {
 			set.RunsDone = sc.RunsDone
 			set.Disparity, set.Jaccard = sc.Disparity, sc.Jaccard
@@ -218,6 +226,11 @@ func (b *viewBuilder) settings() {
 			set.DistanceSpearman, set.LabelAccuracy, set.KL = sc.DistanceSpearman, sc.LabelAccuracy, sc.KL
 			set.PairSpearman, set.LabelPurity = sc.PairSpearman, sc.LabelPurity
 			set.UnstableShare = sc.UnstableShare
+			set.RNXAUC, set.CoAssignment = sc.RNXAUC, sc.CoAssignment
+			set.Varied, set.MedoidRun, set.MapClusters = sc.Varied, sc.MedoidRun, sc.Clusters
+			set.NotMeasured = sc.NotMeasured
+			set.Arrangements, set.ArrangementSizes, set.Bimodal = sc.Arrangements, sc.ArrangementSizes, sc.Bimodal
+			set.ConsensusShown, set.ConsensusNote = sc.ConsensusShown, sc.ConsensusNote
 		}
 		b.index[ps.ID] = len(b.v.Settings)
 		b.v.Settings = append(b.v.Settings, set)
@@ -238,9 +251,15 @@ func (b *viewBuilder) consensus() {
 			set.Consensus = make([]float64, 2*n)
 			set.Spread = make([]float64, n)
 			set.Unstable = make([]bool, n)
+			set.Stability = make([]float64, n)
+			set.Clusters = make([]int32, n)
+			for i := range set.Stability {
+				set.Stability[i], set.Clusters[i] = math.NaN(), -1
+			}
 		}
 		set.Consensus[2*p.Point], set.Consensus[2*p.Point+1] = p.ConsensusX, p.ConsensusY
 		set.Spread[p.Point], set.Unstable[p.Point] = p.Spread, p.Unstable
+		set.Stability[p.Point], set.Clusters[p.Point] = p.CoAssignment, int32(p.Cluster)
 	}
 }
 
@@ -254,10 +273,12 @@ func (b *viewBuilder) runs() {
 	for _, r := range s.Rows {
 		run := Run{ID: r.RunID, SettingID: r.SettingID, Seed: r.Seed, Status: r.Status, Error: r.Error, KL: r.KL,
 			Iters: r.IterationsDone, Seconds: r.Seconds,
-			Trustworthiness: math.NaN(), Continuity: math.NaN(), KNNRecall: math.NaN(), DistanceSpearman: math.NaN(), LabelAccuracy: math.NaN()}
+			Trustworthiness: math.NaN(), Continuity: math.NaN(), KNNRecall: math.NaN(), DistanceSpearman: math.NaN(), LabelAccuracy: math.NaN(),
+			RNXAUC: math.NaN()}
 		if rs := runScore[r.RunID]; rs != nil {
 			run.Trustworthiness, run.Continuity, run.KNNRecall = rs.Trustworthiness, rs.Continuity, rs.KNNRecall
 			run.DistanceSpearman, run.LabelAccuracy = rs.DistanceSpearman, rs.LabelAccuracy
+			run.RNXAUC = rs.RNXAUC
 		}
 		if r.Status == sweep.StatusDone {
 			if tr, err := s.Trace(r.RunID); err == nil {
@@ -275,6 +296,63 @@ func (b *viewBuilder) pairs() {
 	for _, p := range b.s.Pairs {
 		b.v.Pairs = append(b.v.Pairs, Pair{SettingID: p.SettingID, RunA: p.RunA, RunB: p.RunB, Disparity: p.Disparity, Jaccard: p.Jaccard})
 	}
+}
+
+// readings adds the clusters and label tables and reads each setting's
+// medoid layout (a run that cannot be read leaves Medoid nil).
+func (b *viewBuilder) readings() {
+	for _, c := range b.s.Clusters {
+		b.v.Clusters = append(b.v.Clusters, Cluster{SettingID: c.SettingID, MedoidRun: c.MedoidRun, Cluster: c.Cluster, Size: c.Size,
+			Jaccard: c.Jaccard, Min: c.Min, Runs: c.Runs, Dissolved: c.Dissolved, Reading: c.Reading, Labels: c.Labels})
+	}
+	for _, l := range b.s.Labels {
+		b.v.LabelReadings = append(b.v.LabelReadings, LabelStability{SettingID: l.SettingID, Label: l.Label, Points: l.Points, Stable: l.Stable,
+			MeanScore: l.MeanScore, Mixes: l.Mixes, MixesWith: l.MixesWith, MixesShare: l.MixesShare})
+	}
+	n := b.s.Info.Input.N
+	for i := range b.v.Settings {
+		set := &b.v.Settings[i]
+		if set.MedoidRun == "" {
+			continue
+		}
+		l, err := b.s.Layout(set.MedoidRun)
+		if err != nil {
+			continue
+		}
+		y := make([]float64, 2*n)
+		for i := range y {
+			y[i] = math.NaN()
+		}
+		for m, p := range l.Point {
+			if int(p) >= 0 && int(p) < n {
+				y[2*p], y[2*p+1] = l.Y[2*m], l.Y[2*m+1]
+			}
+		}
+		set.Medoid = y
+	}
+}
+
+// ClustersOf returns the clusters of the setting's medoid run, largest
+// first.
+func (s *View) ClustersOf(id string) []Cluster {
+	var out []Cluster
+	for _, c := range s.Clusters {
+		if c.SettingID == id {
+			out = append(out, c)
+		}
+	}
+	return out
+}
+
+// LabelsOf returns the per-label stability of the setting.
+func (s *View) LabelsOf(id string) []LabelStability {
+	var out []LabelStability
+	for _, l := range s.LabelReadings {
+		if l.SettingID == id {
+			out = append(out, l)
+		}
+	}
+	return out
 }
 
 // Open reads the study in dir with sweep.Open and adapts it (FromSweep).

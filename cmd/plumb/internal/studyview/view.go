@@ -39,6 +39,38 @@ type View struct {
 	Settings    []Setting
 	Runs        []Run
 	Pairs       []Pair
+	// Clusters holds the map clusters of every setting's medoid run with
+	// their stability (scores/clusters.parquet); Labels the per-label
+	// stability (scores/labels.parquet; LabelReadings), empty without labels.
+	Clusters      []Cluster
+	LabelReadings []LabelStability
+}
+
+// Cluster is one map cluster of a setting's medoid run.
+type Cluster struct {
+	SettingID, MedoidRun string
+	Cluster, Size        int
+	// Jaccard is the mean best-match Jaccard similarity over the other
+	// runs, Min the smallest (NaN when not measured); Runs the runs
+	// compared, Dissolved those with a best match ≤ 0.5.
+	Jaccard, Min    float64
+	Runs, Dissolved int
+	// Reading is Hennig's word for Jaccard ("not measured" when nothing
+	// varied); Labels the label composition ("label:count, …").
+	Reading, Labels string
+}
+
+// LabelStability is how stable the points of one label are in a setting.
+type LabelStability struct {
+	SettingID, Label string
+	Points           int
+	// Stable is the share not flagged, MeanScore the mean co-assignment
+	// score (NaN when not measured); Mixes the labels their group-mates
+	// carry ("label:share, …"), MixesWith the other label with the
+	// largest share, MixesShare that share.
+	Stable, MeanScore float64
+	Mixes, MixesWith  string
+	MixesShare        float64
 }
 
 // Input describes the data a study was made from.
@@ -83,18 +115,46 @@ type Setting struct {
 	Trustworthiness, Continuity, KNNRecall, DistanceSpearman, LabelAccuracy, LabelPurity stability.MedianIQR
 	// KL is the final KL divergence across runs (lower is better).
 	KL stability.MedianIQR
-	// UnstableShare is the share of points flagged unstable.
+	// RNXAUC is the R_NX AUC across runs (higher is more faithful over
+	// every neighbourhood size); CoAssignment the co-assignment score
+	// across points.
+	RNXAUC, CoAssignment stability.MedianIQR
+	// UnstableShare is the share of points flagged unstable by
+	// co-assignment (score < 0.75); NaN when not measured.
 	UnstableShare float64
+	// Varied names what varied between the runs ("seed", or "": nothing,
+	// so between-run readings are not measured).
+	Varied string
+	// NotMeasured says why the between-run readings are missing ("" when
+	// they were measured, or not recorded).
+	NotMeasured string
+	// MedoidRun is the run shown as the setting's picture, Medoid its
+	// layout (2N, row-major, by input row; nil if it could not be read),
+	// MapClusters its number of map clusters (−1: not clustered).
+	MedoidRun   string
+	Medoid      []float64
+	MapClusters int
+	// Arrangements is the number of distinct arrangements of the runs (0:
+	// not measured), ArrangementSizes their run counts ("3+2"), Bimodal
+	// whether there are two or more.
+	Arrangements     int
+	ArrangementSizes string
+	Bimodal          bool
+	// ConsensusShown says whether the averaged consensus may be shown
+	// beside the medoid; ConsensusNote why not.
+	ConsensusShown bool
+	ConsensusNote  string
 	// Consensus is the consensus layout (2N, row-major) of the setting's
 	// runs; Spread and Unstable hold the per-point spread and flag. Any may
 	// be nil when the setting has no finished runs.
 	Consensus []float64
 	Spread    []float64
 	Unstable  []bool
-	// Stability is each point's stability in [0, 1], higher is more
-	// stable (for example the share of run pairs that keep the point with
-	// the same neighbours); nil when the study has no such score, and the
-	// page then shows Spread on its own fixed scale.
+	// Stability is each point's co-assignment score in [0, 1], higher is
+	// more stable (NaN: not measured); Unstable is its flag (< 0.75) and
+	// Spread the point's distance from the consensus (global placement).
+	// Stability is nil when the study has no such score, and the page
+	// then shows Spread on its own fixed scale.
 	Stability []float64
 	// Clusters holds each point's map cluster id in the layout shown for
 	// the setting (−1: no cluster); nil when the study has no map clusters.
@@ -126,7 +186,9 @@ type Run struct {
 	Seconds       float64
 	// Faithfulness scores of this run (NaN when not scored).
 	Trustworthiness, Continuity, KNNRecall, DistanceSpearman, LabelAccuracy float64
-	Trace                                                                   []TracePoint
+	// RNXAUC is the run's R_NX AUC (NaN when not scored).
+	RNXAUC float64
+	Trace  []TracePoint
 }
 
 // TracePoint is the KL divergence at one iteration.
