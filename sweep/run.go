@@ -516,7 +516,8 @@ func Execute(ctx context.Context, ds *dataset.Dataset, plan *Plan, opt Options) 
 		return nil, err
 	}
 	info := &Info{Format: studyFormat, Version: opt.Version, Created: nowUTC(), PlanHash: plan.Hash(),
-		Plan: plan, Input: opt.Input, Settings: plan.NumSettings(), Runs: len(runs)}
+		Plan: plan, Input: opt.Input, Settings: plan.NumSettings(), Runs: len(runs),
+		Env: CurrentEnv(opt.Version)}
 	if info.Input.Fingerprint == "" {
 		info.Input.Fingerprint = ds.Fingerprint
 		info.Input.N, info.Input.D = ds.N, ds.D
@@ -719,6 +720,7 @@ func (sh *shared) runOne(ctx context.Context, opt Options, info *Info, r *Run, t
 	rec = &Record{RunID: r.ID, SettingID: s.ID, Seed: r.Seed, PlanHash: info.PlanHash,
 		InputFingerprint: info.Input.Fingerprint,
 		LearningRate:     cfg.LearningRate, Gradient: string(resolveGradient(s.Gradient, n))}
+	rec.Env = CurrentEnv(opt.Version)
 	if rec.LearningRate == 0 {
 		rec.LearningRate = tsne.LearningRateAuto(n, cfg.Exaggeration)
 	}

@@ -89,6 +89,9 @@ type Info struct {
 	Input    Input  `json:"input"`
 	Settings int    `json:"settings"`
 	Runs     int    `json:"runs"`
+	// Env is the environment of the process that created the study (nil
+	// in studies written before it was recorded).
+	Env *Env `json:"env,omitempty"`
 	// covers is the MetaCovers value Score writes into its tables.
 	covers string
 }
@@ -234,6 +237,9 @@ type Record struct {
 	// Gradient is the gradient method used ("exact", "barnes-hut", "fft").
 	Gradient string  `json:"gradient"`
 	Seconds  float64 `json:"seconds"`
+	// Env is the environment the run was computed in (nil in records
+	// written before it was recorded).
+	Env *Env `json:"env,omitempty"`
 }
 
 // Status values of a run.

@@ -110,7 +110,7 @@ func TestUnknownCommand(t *testing.T) {
 		{[]string{"reprot", "study"}, `did you mean "report"?`},
 		{[]string{"sho"}, `did you mean "show"?`},
 		{[]string{"help", "chek"}, `unknown command "chek"; did you mean "check"?`},
-		{[]string{"frobnicate"}, `unknown command "frobnicate" (commands: check, demo, embed, report, score, show, sweep)`},
+		{[]string{"frobnicate"}, `unknown command "frobnicate" (commands: check, demo, embed, report, reproduce, score, show, sweep)`},
 	}
 	for _, tc := range cases {
 		t.Run(tc.args[0], func(t *testing.T) {
