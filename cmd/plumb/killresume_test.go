@@ -21,8 +21,8 @@ import (
 	"time"
 
 	"plumb/internal/parquetio"
-	"plumb/sweep"
 	"plumb/internal/words"
+	"plumb/sweep"
 )
 
 // krBuild builds the plumb binary into a temporary directory.

@@ -301,7 +301,8 @@ func showTable(w io.Writer, st *sweep.Study, rows []*settingRow) {
 		fmt.Fprintln(w, "medians over the runs (kl, rnx_auc, trust, contin, recall) or pairs of runs (disparity, jaccard) of each setting;")
 		fmt.Fprintln(w, "rnx_auc: area under R_NX(K) on a log-K axis; arrang: distinct arrangements of the runs;")
 		fmt.Fprintln(w, "unstable: share of points with co-assignment < 0.75; clusters: map clusters of the medoid run;")
-		fmt.Fprintln(w, "not measured: nothing varied between the runs (or one run), so no between-run reading")
+		fmt.Fprintln(w, "not measured: nothing varied between the runs (or one run), so no between-run reading;")
+		fmt.Fprintln(w, "varied: what differed between the runs of a setting (seed: random start; subsample: the points embedded)")
 		seen := map[string]bool{}
 		for _, r := range rows {
 			if done, ok := r.vals["runs_done"].(int); ok && done >= 2 && r.vals["stability_measured"] == true {
