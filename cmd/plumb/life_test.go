@@ -285,8 +285,8 @@ func TestNumericFlagRanges(t *testing.T) {
 		rbOneError(t, code, stderr, 1, f+" 4611686018427387904: must be 0 (automatic) or 1..4096")
 		rbNothingIn(t, out)
 	}
-	_, stderr, code = plumb(t, "report", "--trust-tolerance", "+Inf", dir)
-	rbOneError(t, code, stderr, 1, "--trust-tolerance +Inf: must be positive")
+	_, stderr, code = plumb(t, "report", "--auc-tolerance", "+Inf", dir)
+	rbOneError(t, code, stderr, 1, "--auc-tolerance +Inf: must be positive")
 }
 
 // TestDamagedDerivedFiles: a truncated runs.parquet makes show, report and
