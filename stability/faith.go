@@ -269,26 +269,8 @@ func faithfulnessBatch(x []float64, d int, ys [][]float64, k int, opt Options, w
 	if len(ys) == 0 {
 		return []Faithfulness{}, nil
 	}
-	for l, y := range ys {
-		name := "layout"
-		if numbered {
-			name = fmt.Sprintf("layout %d", l)
-		}
-		if err := checkLayout(name, y); err != nil {
-			return nil, err
-		}
-		if len(y) != len(ys[0]) {
-			return nil, fmt.Errorf("stability: layout %d has %d points, layout 0 has %d", l, len(y)/2, len(ys[0])/2)
-		}
-	}
-	n := len(ys[0]) / 2
-	if d < 1 {
-		return nil, fmt.Errorf("stability: input dimension %d, want ≥ 1", d)
-	}
-	if len(x) != n*d {
-		return nil, fmt.Errorf("stability: input has %d values, want %d points × %d = %d", len(x), n, d, n*d)
-	}
-	if err := checkFinite("input", x, d); err != nil {
+	n, err := checkBatch(x, d, ys, numbered)
+	if err != nil {
 		return nil, err
 	}
 	if err := checkK(k, n); err != nil {
@@ -886,4 +868,33 @@ func (r *ranker) penalty(dist []float64, i int, targets []int32) int64 {
 		}
 	}
 	return pen
+}
+
+// checkBatch checks a batch of layouts of the same points and their input
+// (n points, d features, row-major) and returns n. numbered names a bad
+// layout by its index.
+func checkBatch(x []float64, d int, ys [][]float64, numbered bool) (int, error) {
+	for l, y := range ys {
+		name := "layout"
+		if numbered {
+			name = fmt.Sprintf("layout %d", l)
+		}
+		if err := checkLayout(name, y); err != nil {
+			return 0, err
+		}
+		if len(y) != len(ys[0]) {
+			return 0, fmt.Errorf("stability: layout %d has %d points, layout 0 has %d", l, len(y)/2, len(ys[0])/2)
+		}
+	}
+	n := len(ys[0]) / 2
+	if d < 1 {
+		return 0, fmt.Errorf("stability: input dimension %d, want ≥ 1", d)
+	}
+	if len(x) != n*d {
+		return 0, fmt.Errorf("stability: input has %d values, want %d points × %d = %d", len(x), n, d, n*d)
+	}
+	if err := checkFinite("input", x, d); err != nil {
+		return 0, err
+	}
+	return n, nil
 }

@@ -178,8 +178,13 @@ func (h *nbHeap) sorted(dst []int32) {
 // query finds the k nearest points to point q (q itself excluded) and
 // writes them into dst in ascending (distance, index) order.
 func (t *kdTree) query(q int, k int, h *nbHeap, dst []int32) {
-	h.reset(k)
-	qx, qy := t.y[2*q], t.y[2*q+1]
+	t.nearest(t.y[2*q], t.y[2*q+1], int32(q), h, dst[:k])
+}
+
+// nearest writes into dst the len(dst) points nearest to (qx, qy), point
+// skip excluded (−1: none), in ascending (distance, index) order.
+func (t *kdTree) nearest(qx, qy float64, skip int32, h *nbHeap, dst []int32) {
+	h.reset(len(dst))
 	var stackBuf [64]int32
 	stack := append(stackBuf[:0], 0)
 	for len(stack) > 0 {
@@ -192,7 +197,7 @@ func (t *kdTree) query(q int, k int, h *nbHeap, dst []int32) {
 		if nd.left < 0 {
 			xy := t.xy[2*nd.lo : 2*nd.hi]
 			for m, p := range t.idx[nd.lo:nd.hi] {
-				if int(p) == q {
+				if p == skip {
 					continue
 				}
 				v := sqDist(xy[2*m], xy[2*m+1], qx, qy)

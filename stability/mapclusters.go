@@ -284,32 +284,5 @@ func (t *kdTree) within(qx, qy, r2 float64, stack *[]int32, f func(p int32, d2 f
 // the position (qx, qy), in ascending (distance, index) order; the tree
 // must hold at least len(dst) points.
 func (t *kdTree) nearestTo(qx, qy float64, h *nbHeap, dst []int32) {
-	h.reset(len(dst))
-	var stackBuf [64]int32
-	stack := append(stackBuf[:0], 0)
-	for len(stack) > 0 {
-		id := stack[len(stack)-1]
-		stack = stack[:len(stack)-1]
-		nd := &t.nodes[id]
-		if h.full() && boxDist2(nd, qx, qy) > h.d2[0] {
-			continue
-		}
-		if nd.left < 0 {
-			xy := t.xy[2*nd.lo : 2*nd.hi]
-			for m, p := range t.idx[nd.lo:nd.hi] {
-				v := sqDist(xy[2*m], xy[2*m+1], qx, qy)
-				if h.full() && !worse(h.d2[0], h.ix[0], v, p) {
-					continue
-				}
-				h.push(v, p)
-			}
-			continue
-		}
-		a, b := nd.left, nd.right
-		if boxDist2(&t.nodes[b], qx, qy) < boxDist2(&t.nodes[a], qx, qy) {
-			a, b = b, a
-		}
-		stack = append(stack, b, a)
-	}
-	h.sorted(dst)
+	t.nearest(qx, qy, -1, h, dst)
 }

@@ -138,26 +138,8 @@ func rnxBatch(x []float64, d int, ys [][]float64, opt RNXOptions, numbered bool)
 	if len(ys) == 0 {
 		return []*RNXCurve{}, nil
 	}
-	for l, y := range ys {
-		name := "layout"
-		if numbered {
-			name = fmt.Sprintf("layout %d", l)
-		}
-		if err := checkLayout(name, y); err != nil {
-			return nil, err
-		}
-		if len(y) != len(ys[0]) {
-			return nil, fmt.Errorf("stability: layout %d has %d points, layout 0 has %d", l, len(y)/2, len(ys[0])/2)
-		}
-	}
-	total := len(ys[0]) / 2
-	if d < 1 {
-		return nil, fmt.Errorf("stability: input dimension %d, want ≥ 1", d)
-	}
-	if len(x) != total*d {
-		return nil, fmt.Errorf("stability: input has %d values, want %d points × %d = %d", len(x), total, d, total*d)
-	}
-	if err := checkFinite("input", x, d); err != nil {
+	total, err := checkBatch(x, d, ys, numbered)
+	if err != nil {
 		return nil, err
 	}
 	limit := opt.Points
