@@ -244,25 +244,27 @@ func TestInterruptEveryPhase(t *testing.T) {
 	tmp := t.TempDir()
 	dir := filepath.Join(tmp, "study")
 	// testdata/digits.csv (UCI optical digits via scikit-learn): scoring
-	// 4 runs of 1,797 points takes seconds, long enough to be interrupted.
+	// 8 runs of 1,797 points (28 pairs) takes about a second even on an
+	// idle machine (4 runs took 350 ms there), long enough to be
+	// interrupted; the signal goes as soon as scoring starts.
 	args := []string{"sweep", "--input", "../../testdata/digits.csv", "--id-column", "id", "--label-column", "digit", "--out", dir,
-		"--perplexity", "10", "--init", "random", "--seeds", "4", "--iters", "60", "--exaggeration-iters", "20", "--jobs", "2", "--threads", "1"}
+		"--perplexity", "10", "--init", "random", "--seeds", "8", "--iters", "60", "--exaggeration-iters", "20", "--jobs", "2", "--threads", "1"}
 	cmd, lines, all := krStart(t, bin, args)
 	if !krUntil(lines, all, func(l string) bool { return strings.HasPrefix(l, "plumb: scoring") }) {
 		t.Fatalf("the sweep never reached scoring:\n%s", all)
 	}
-	time.Sleep(300 * time.Millisecond)
+	time.Sleep(20 * time.Millisecond)
 	cmd.Process.Signal(syscall.SIGTERM)
 	krDrain(cmd, lines, all)
 	if code := cmd.ProcessState.ExitCode(); code != 130 {
 		t.Errorf("SIGTERM while scoring: exit %d, want 130\n%s", code, all)
 	} else {
-		krInterruptLines(t, all.String(), "plumb: error: interrupted: while scoring: all 4 runs are kept; the score tables were not written",
+		krInterruptLines(t, all.String(), "plumb: error: interrupted: while scoring: all 8 runs are kept; the score tables were not written",
 			"plumb: hint: run the same command again to resume")
 	}
 	rbNoTemps(t, dir)
 	out, err := exec.Command(bin, args...).CombinedOutput()
-	if err != nil || !strings.Contains(string(out), "4 already finished") || !strings.Contains(string(out), "plumb: scored") {
+	if err != nil || !strings.Contains(string(out), "8 already finished") || !strings.Contains(string(out), "plumb: scored") {
 		t.Errorf("resume after the interrupted scoring: %v\n%s", err, out)
 	}
 
